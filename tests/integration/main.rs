@@ -1,0 +1,2 @@
+//! Integration tests, compiled into one binary and grouped by topic.
+mod weather;

@@ -1,0 +1,1 @@
+//! Weather ingest: our CSV format, validation errors, repairs.
