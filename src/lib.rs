@@ -1,2 +1,155 @@
-//! wirerank: ranks the ways to wire small solar arrays into battery charge controllers.
+//! wirerank: ranks the ways to wire a small solar array into battery charge controllers.
+//!
+//! Data flows one way:
+//!
+//! ```text
+//! plan.toml ──► io::plan_toml ──► Plan ─┐
+//!                                        ├─► simulate::phase1 (sun, sky, IAM, soiling, cell T)
+//! weather.csv ─► io::weather_csv ─► Weather ┘        │ shared by every layout
+//!                                                    ▼
+//!                                  per layout: curves, wiring, controller (phase 2)
+//!                                                    ▼
+//!                                    tally ──► rank ──► report / export
+//! ```
+//!
+//! Physics (`physics/`) is pure; only `io/` touches files. Each public function below is one
+//! command of the binary.
+
+pub mod error;
+pub mod io;
 pub mod physics;
+pub mod plan;
+pub mod report;
+pub mod sample_weather;
+pub mod simulate;
+pub mod tally;
+pub mod weather;
+
+use std::path::{Path, PathBuf};
+
+use crate::error::Error;
+use crate::plan::Plan;
+use crate::simulate::Site;
+use crate::weather::Weather;
+
+/// The bundled demo plan (an invented cabin and system).
+pub const DEMO_PLAN: &str = include_str!("../weather-samples/larchwood-plan.toml");
+/// The bundled demo weather year (an invented site, made by `examples/make_sample_weather.rs`).
+pub const DEMO_WEATHER: &str = include_str!("../weather-samples/larchwood-2025.csv");
+/// A commented starter plan (`wirerank template`).
+pub const TEMPLATE_PLAN: &str = include_str!("template.toml");
+
+/// Where a plan comes from.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum PlanSource {
+    File(PathBuf),
+    /// The plan and weather embedded in the binary.
+    Demo,
+}
+
+/// How results go to stdout.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum OutputFormat {
+    Table,
+    Json,
+}
+
+/// `wirerank rank` (and the no-argument demo).
+#[derive(Clone, Debug)]
+pub struct RankRequest {
+    pub plan: PlanSource,
+    pub format: OutputFormat,
+    pub quiet: bool,
+}
+
+/// `wirerank sunpath`.
+#[derive(Clone, Debug)]
+pub struct SunpathRequest {
+    pub plan: Option<PathBuf>,
+    pub latitude_deg: Option<f64>,
+    pub longitude_deg: Option<f64>,
+    pub elevation_m: Option<f64>,
+    pub utc_offset_h: Option<f64>,
+    pub from: String,
+    pub to: Option<String>,
+    pub step_min: u32,
+    pub include_night: bool,
+    pub csv: bool,
+}
+
+/// One command, as the binary asks for it.
+#[derive(Clone, Debug)]
+pub enum Request {
+    Rank(RankRequest),
+    Template,
+    Sunpath(SunpathRequest),
+}
+
+/// What a command produced: text for stdout, warnings for stderr, and how it ended.
+#[derive(Clone, Debug, Default)]
+pub struct Outcome {
+    pub stdout: String,
+    pub warnings: Vec<String>,
+    /// True when the command ran but found no acceptable answer (exit code 1).
+    pub nothing_passed: bool,
+}
+
+/// Runs one command.
+///
+/// # Errors
+/// Bad input (plan, weather, arguments) or an output that cannot be written.
+pub fn run(request: Request) -> Result<Outcome, Error> {
+    match request {
+        Request::Rank(r) => rank(&r),
+        Request::Template => Ok(Outcome {
+            stdout: TEMPLATE_PLAN.to_string(),
+            ..Outcome::default()
+        }),
+        Request::Sunpath(r) => report::sunpath(&r),
+    }
+}
+
+/// A plan with its weather and the merged site, ready to simulate.
+#[derive(Clone, Debug)]
+pub struct Loaded {
+    pub plan: Plan,
+    pub weather: Weather,
+    pub site: Site,
+}
+
+/// Reads and validates a plan, its weather file and the site they describe together.
+///
+/// # Errors
+/// Any validation error of the plan or the weather file, or a site conflict between them.
+pub fn load(source: &PlanSource) -> Result<Loaded, Error> {
+    let (plan, weather) = match source {
+        PlanSource::Demo => {
+            let plan = io::plan_toml::parse_plan(DEMO_PLAN, "demo plan", Path::new(""))?;
+            let weather = io::weather_csv::parse_weather_csv(DEMO_WEATHER, "larchwood-2025.csv")?;
+            (plan, weather)
+        }
+        PlanSource::File(path) => {
+            let plan = io::plan_toml::read_plan(path)?;
+            let weather = io::weather_csv::read_weather_csv(&plan.weather_path)?;
+            (plan, weather)
+        }
+    };
+    let site = simulate::resolve_site(&plan, &weather)?;
+    weather.check_against_extraterrestrial(site.latitude_deg, site.longitude_deg, site.utc_offset_h)?;
+    Ok(Loaded { plan, weather, site })
+}
+
+fn rank(r: &RankRequest) -> Result<Outcome, Error> {
+    let loaded = load(&r.plan)?;
+    let conditions = simulate::phase1(&loaded.plan, &loaded.weather, &loaded.site);
+    let group_ids: Vec<String> = loaded.plan.groups.iter().map(|g| g.id.clone()).collect();
+    let light = tally::group_monthly(&conditions, &group_ids);
+    let horizontal = tally::horizontal_monthly_kwh_m2(&conditions);
+    let present = tally::months_present(&conditions);
+    let mut out = Outcome {
+        warnings: loaded.weather.warnings.iter().map(|w| w.to_string()).collect(),
+        ..Outcome::default()
+    };
+    out.stdout = report::light_table(&loaded, &horizontal, &present, &light);
+    Ok(out)
+}

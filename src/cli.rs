@@ -1,0 +1,145 @@
+//! Command-line definitions (clap) and their translation into typed requests.
+//!
+//! Only this file and `main.rs` know clap; the library sees `wirerank::Request` values.
+
+use std::path::PathBuf;
+
+use clap::{Args, Parser, Subcommand, ValueEnum};
+
+use wirerank::{OutputFormat, PlanSource, RankRequest, Request, SunpathRequest};
+
+/// Ranks the ways to wire a small solar array into battery charge controllers.
+///
+/// With no command, runs the bundled demo (an invented cabin) and prints its ranking.
+#[derive(Debug, Parser)]
+#[command(name = "wirerank", version, args_conflicts_with_subcommands = true)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Option<Command>,
+    #[command(flatten)]
+    pub demo: OutputArgs,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Simulate the plan's layouts over the weather year and rank them.
+    Rank(RankArgs),
+    /// Print a commented starter plan to copy and edit.
+    Template,
+    /// Print the sun's elevation and azimuth for a site over a date or a range of dates.
+    Sunpath(SunpathArgs),
+}
+
+#[derive(Debug, Args)]
+pub struct RankArgs {
+    /// The plan file (TOML); `demo` runs the bundled demo plan.
+    pub plan: PathBuf,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+#[derive(Debug, Args, Default)]
+pub struct OutputArgs {
+    /// Output on stdout: a terminal table or JSON.
+    #[arg(long, value_enum, default_value_t = FormatArg::Table)]
+    pub format: FormatArg,
+    /// Print nothing on stderr (no progress, no warnings).
+    #[arg(long, short)]
+    pub quiet: bool,
+}
+
+#[derive(Debug, Clone, Copy, ValueEnum, Default, PartialEq, Eq)]
+pub enum FormatArg {
+    #[default]
+    Table,
+    Json,
+}
+
+#[derive(Debug, Args)]
+pub struct SunpathArgs {
+    /// Take the site from this plan (and its weather file header).
+    #[arg(long)]
+    pub plan: Option<PathBuf>,
+    /// Latitude, degrees north positive.
+    #[arg(long, allow_hyphen_values = true)]
+    pub latitude_deg: Option<f64>,
+    /// Longitude, degrees east positive.
+    #[arg(long, allow_hyphen_values = true)]
+    pub longitude_deg: Option<f64>,
+    /// Elevation above sea level, m.
+    #[arg(long, allow_hyphen_values = true)]
+    pub elevation_m: Option<f64>,
+    /// Local standard time offset from UTC, hours (no daylight saving).
+    #[arg(long, allow_hyphen_values = true)]
+    pub utc_offset_h: Option<f64>,
+    /// First date, YYYY-MM-DD (local).
+    #[arg(long)]
+    pub date: String,
+    /// Last date, YYYY-MM-DD (local); defaults to --date.
+    #[arg(long)]
+    pub to: Option<String>,
+    /// Step between rows, minutes.
+    #[arg(long, default_value_t = 60)]
+    pub step_min: u32,
+    /// Also list hours with the sun below the horizon.
+    #[arg(long)]
+    pub all: bool,
+    /// CSV on stdout: time_local,zenith_deg,elevation_deg,azimuth_deg.
+    #[arg(long)]
+    pub csv: bool,
+}
+
+impl From<FormatArg> for OutputFormat {
+    fn from(f: FormatArg) -> Self {
+        match f {
+            FormatArg::Table => OutputFormat::Table,
+            FormatArg::Json => OutputFormat::Json,
+        }
+    }
+}
+
+impl Cli {
+    /// Turns the parsed arguments into a request for the library.
+    pub fn into_request(self) -> Request {
+        match self.command {
+            None => Request::Rank(RankRequest {
+                plan: PlanSource::Demo,
+                format: self.demo.format.into(),
+                quiet: self.demo.quiet,
+            }),
+            Some(Command::Rank(a)) => Request::Rank(RankRequest {
+                plan: if a.plan.as_os_str() == "demo" {
+                    PlanSource::Demo
+                } else {
+                    PlanSource::File(a.plan)
+                },
+                format: a.output.format.into(),
+                quiet: a.output.quiet,
+            }),
+            Some(Command::Template) => Request::Template,
+            Some(Command::Sunpath(a)) => Request::Sunpath(SunpathRequest {
+                plan: a.plan,
+                latitude_deg: a.latitude_deg,
+                longitude_deg: a.longitude_deg,
+                elevation_m: a.elevation_m,
+                utc_offset_h: a.utc_offset_h,
+                from: a.date,
+                to: a.to,
+                step_min: a.step_min,
+                include_night: a.all,
+                csv: a.csv,
+            }),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use clap::CommandFactory;
+
+    #[test]
+    fn clap_definition_is_consistent() {
+        Cli::command().debug_assert();
+    }
+}

@@ -1,0 +1,360 @@
+//! The interval loop, phase 2: for every layout, the array curve each controller input sees,
+//! where the controller operates, and where the energy goes.
+//!
+//! Substring curves depend only on (irradiance, cell temperature, module type), so each
+//! distinct one is computed once per interval and shared by every module and every layout
+//! (ARCHITECTURE.md). Layouts run in parallel (rayon); each layout's arithmetic is the same
+//! whether it runs alone or beside others, so results are identical bit for bit.
+
+use rayon::prelude::*;
+
+use crate::layouts::Layout;
+use crate::physics::controller::ControllerPowers;
+use crate::physics::diode::OperatingParams;
+use crate::physics::wiring::{
+    array_curve, cable_resistance_ohm, string_curve, substring_curve, ArrayCurve, CurrentGrid,
+    SubstringCurve,
+};
+use crate::plan::Plan;
+use crate::simulate::Conditions;
+
+/// Points on each interval's shared current grid.
+pub const GRID_POINTS: usize = 120;
+
+/// The loss steps of MODEL.md §10, in order.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Step {
+    Incidence,
+    Soiling,
+    Shading,
+    TemperatureLowLight,
+    Mismatch,
+    Cables,
+    WindowStartup,
+    InputLimit,
+    Clipping,
+    Conversion,
+}
+
+impl Step {
+    pub const ALL: [Step; 10] = [
+        Step::Incidence,
+        Step::Soiling,
+        Step::Shading,
+        Step::TemperatureLowLight,
+        Step::Mismatch,
+        Step::Cables,
+        Step::WindowStartup,
+        Step::InputLimit,
+        Step::Clipping,
+        Step::Conversion,
+    ];
+
+    /// Key used in JSON and CSV.
+    pub fn key(self) -> &'static str {
+        match self {
+            Step::Incidence => "incidence",
+            Step::Soiling => "soiling",
+            Step::Shading => "shading",
+            Step::TemperatureLowLight => "temperature_low_light",
+            Step::Mismatch => "mismatch",
+            Step::Cables => "cables",
+            Step::WindowStartup => "window_startup",
+            Step::InputLimit => "input_limit",
+            Step::Clipping => "clipping",
+            Step::Conversion => "conversion",
+        }
+    }
+}
+
+/// One layout's energy over the run, month by month (January first), Wh.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct LayoutEnergy {
+    /// Plane-of-array light on the wired modules × their STC efficiency (the DC potential).
+    pub potential_wh: [f64; 12],
+    /// Energy lost at each step (index = `Step::ALL` order). A negative value is a gain
+    /// (cells colder than 25 °C).
+    pub losses_wh: [[f64; 12]; 10],
+    /// Delivered to the battery.
+    pub delivered_wh: [f64; 12],
+    /// Delivered while the sun was low (above 0°, below the plan's threshold).
+    pub low_sun_wh: [f64; 12],
+    /// Hours with at least one controller input awake.
+    pub awake_h: [f64; 12],
+}
+
+impl LayoutEnergy {
+    pub fn annual_delivered_kwh(&self) -> f64 {
+        self.delivered_wh.iter().sum::<f64>() / 1000.0
+    }
+
+    pub fn monthly_kwh(&self) -> [f64; 12] {
+        self.delivered_wh.map(|w| w / 1000.0)
+    }
+
+    pub fn step_total_wh(&self, step_index: usize) -> f64 {
+        self.losses_wh[step_index].iter().sum()
+    }
+}
+
+/// One distinct substring state in an interval.
+struct SubCurve {
+    params: OperatingParams,
+    curve: SubstringCurve,
+    mpp_w: f64,
+}
+
+/// Per-interval shared state: the current grid and every distinct substring curve.
+struct IntervalCurves {
+    grid: CurrentGrid,
+    curves: Vec<SubCurve>,
+    /// For each module, for each substring: index into `curves`.
+    module_subs: Vec<Vec<u16>>,
+    /// For each module, for each substring: shaded (blocked) fraction of direct light.
+    blocked: Vec<Vec<f64>>,
+}
+
+/// Beam and circumsolar fraction blocked by the plan's shade schedule for a module's
+/// substring in an interval (several rules combine multiplicatively on what passes).
+fn schedule_blocked(plan: &Plan, module: usize, sub: usize, month: u32, hour: u32) -> f64 {
+    let mut pass = 1.0;
+    for r in &plan.shade {
+        if r.module == module
+            && r.substrings.contains(&sub)
+            && r.months.contains(&month)
+            && r.hours.contains(&hour)
+        {
+            pass *= 1.0 - r.beam_blocked_frac;
+        }
+    }
+    1.0 - pass
+}
+
+/// Builds every distinct substring curve of one interval. `None` when no light reaches any
+/// module (night).
+fn interval_curves(plan: &Plan, cond: &Conditions, k: usize) -> Option<IntervalCurves> {
+    let info = &cond.intervals[k];
+    info.sun?;
+    if cond.groups.iter().all(|g| g.effective[k].total_w_m2() <= 0.0) {
+        return None;
+    }
+    // Distinct states: (group, blocked fraction bits).
+    let mut keys: Vec<(usize, u64)> = Vec::new();
+    let mut params: Vec<OperatingParams> = Vec::new();
+    let mut module_subs = Vec::with_capacity(plan.modules.len());
+    let mut blocked_all = Vec::with_capacity(plan.modules.len());
+    for (m, module) in plan.modules.iter().enumerate() {
+        let t = &plan.module_types[module.module_type];
+        let g = &cond.groups[module.group];
+        let parts = &g.effective[k];
+        let direct = parts.beam_w_m2 + parts.circumsolar_w_m2;
+        let diffuse = parts.total_w_m2() - direct;
+        let mut subs = Vec::with_capacity(t.bypass_diodes as usize);
+        let mut blocked = Vec::with_capacity(t.bypass_diodes as usize);
+        for j in 0..t.bypass_diodes as usize {
+            let f = schedule_blocked(plan, m, j, info.month, info.hour);
+            let key = (module.group, f.to_bits());
+            let idx = match keys.iter().position(|x| *x == key) {
+                Some(i) => i,
+                None => {
+                    let e = (direct * (1.0 - f) + diffuse).max(0.0);
+                    params.push(t.substring.at(e, g.cell_temp_c[k]));
+                    keys.push(key);
+                    keys.len() - 1
+                }
+            };
+            subs.push(idx as u16);
+            blocked.push(f);
+        }
+        module_subs.push(subs);
+        blocked_all.push(blocked);
+    }
+    let i_max = params.iter().map(|p| p.il_a).fold(0.0, f64::max);
+    if i_max <= 0.0 {
+        return None;
+    }
+    let grid = CurrentGrid::new(i_max * 1.02, GRID_POINTS);
+    let curves = params
+        .into_iter()
+        .zip(&keys)
+        .map(|(p, (group, _))| {
+            let drop = plan.module_types[plan.groups[*group].module_type].bypass_drop_v;
+            SubCurve {
+                curve: substring_curve(&p, drop, &grid),
+                mpp_w: p.max_power_point().p,
+                params: p,
+            }
+        })
+        .collect();
+    Some(IntervalCurves {
+        grid,
+        curves,
+        module_subs,
+        blocked: blocked_all,
+    })
+}
+
+/// Conductor resistances of one layout at an air temperature, ohm.
+fn cable_resistances(plan: &Plan, layout: &Layout, air_c: f64) -> (f64, Vec<f64>) {
+    let t = air_c + plan.cables.conductor_rise_dk;
+    let lead = &plan.cables.string_lead;
+    let r_lead = cable_resistance_ohm(lead.conductor, lead.length_m, lead.cross_section_mm2, t);
+    let r_main = layout
+        .inputs
+        .iter()
+        .map(|w| {
+            let run = &plan.controllers[w.controller].main_run;
+            cable_resistance_ohm(run.conductor, run.length_m, run.cross_section_mm2, t)
+        })
+        .collect();
+    (r_lead, r_main)
+}
+
+/// Scratch buffers reused across intervals for one layout.
+#[derive(Default)]
+struct Scratch {
+    strings: Vec<Vec<f64>>,
+    strings_bare: Vec<Vec<f64>>,
+    array: ArrayCurve,
+    array_bare: ArrayCurve,
+}
+
+/// Simulates one layout over all intervals given the shared curves.
+fn simulate_layout(
+    plan: &Plan,
+    cond: &Conditions,
+    curves: &[Option<IntervalCurves>],
+    layout: &Layout,
+) -> LayoutEnergy {
+    let mut e = LayoutEnergy::default();
+    let mut awake = vec![false; layout.inputs.len()];
+    let mut scratch = Scratch::default();
+    let used: Vec<usize> = layout
+        .inputs
+        .iter()
+        .flat_map(|w| w.strings.iter().flatten().copied())
+        .collect();
+    let battery_v = plan.battery.charge_v;
+    let low_sun = plan.model.low_sun_elevation_deg;
+    for (k, info) in cond.intervals.iter().enumerate() {
+        let Some(ic) = &curves[k] else {
+            awake.iter_mut().for_each(|a| *a = false);
+            continue;
+        };
+        let m = (info.month - 1) as usize;
+        let wh = info.hours;
+        // Light bookkeeping over the wired modules (STC-efficiency DC equivalents).
+        let mut sub_mpp_sum = 0.0;
+        for &mi in &used {
+            let module = &plan.modules[mi];
+            let t = &plan.module_types[module.module_type];
+            let g = &cond.groups[module.group];
+            let scale = t.area_m2() * t.stc_efficiency_frac() * wh;
+            let poa = g.poa[k].total_w_m2();
+            let after_iam = g.after_iam_w_m2[k] as f64;
+            let eff = g.effective[k].total_w_m2();
+            let direct = g.effective[k].beam_w_m2 + g.effective[k].circumsolar_w_m2;
+            let b = t.bypass_diodes as f64;
+            let shaded: f64 = ic.blocked[mi].iter().map(|f| f * direct / b).sum();
+            e.potential_wh[m] += poa * scale;
+            e.losses_wh[0][m] += (poa - after_iam) * scale;
+            e.losses_wh[1][m] += (after_iam - eff) * scale;
+            e.losses_wh[2][m] += shaded * scale;
+            let light_after_shade = (eff - shaded) * scale;
+            let mpp: f64 = ic.module_subs[mi]
+                .iter()
+                .map(|&s| ic.curves[s as usize].mpp_w)
+                .sum();
+            e.losses_wh[3][m] += light_after_shade - mpp * wh;
+            sub_mpp_sum += mpp;
+        }
+        let (r_lead, r_main) = cable_resistances(plan, layout, info.air_temp_c);
+        let mut bare_total = 0.0;
+        let mut powers = ControllerPowers::default();
+        let mut any_awake = false;
+        let mut sum = |a: &mut ControllerPowers, b: &ControllerPowers| {
+            a.available_w += b.available_w;
+            a.after_window_w += b.after_window_w;
+            a.after_input_limit_w += b.after_input_limit_w;
+            a.input_w += b.input_w;
+            a.output_w += b.output_w;
+        };
+        for (wi, w) in layout.inputs.iter().enumerate() {
+            let c = &plan.controllers[w.controller];
+            build_input_curves(plan, ic, w, r_lead, r_main[wi], &mut scratch);
+            bare_total += scratch.array_bare.max_power_w();
+            let p = c.model.operate(&scratch.array, battery_v, &mut awake[wi]);
+            any_awake |= p.awake;
+            sum(&mut powers, &p);
+        }
+        e.losses_wh[4][m] += (sub_mpp_sum - bare_total) * wh;
+        e.losses_wh[5][m] += (bare_total - powers.available_w) * wh;
+        e.losses_wh[6][m] += (powers.available_w - powers.after_window_w) * wh;
+        e.losses_wh[7][m] += (powers.after_window_w - powers.after_input_limit_w) * wh;
+        e.losses_wh[8][m] += (powers.after_input_limit_w - powers.input_w) * wh;
+        e.losses_wh[9][m] += (powers.input_w - powers.output_w) * wh;
+        e.delivered_wh[m] += powers.output_w * wh;
+        if any_awake {
+            e.awake_h[m] += wh;
+        }
+        if let Some(el) = info.sun_elevation_deg() {
+            if el > 0.0 && el < low_sun {
+                e.low_sun_wh[m] += powers.output_w * wh;
+            }
+        }
+    }
+    e
+}
+
+/// String and array curves of one input, with cables (`array`) and without (`array_bare`).
+fn build_input_curves(
+    plan: &Plan,
+    ic: &IntervalCurves,
+    w: &crate::layouts::InputWiring,
+    r_lead: f64,
+    r_main: f64,
+    s: &mut Scratch,
+) {
+    let n = w.strings.len();
+    s.strings.resize_with(n, Vec::new);
+    s.strings_bare.resize_with(n, Vec::new);
+    let blocking = plan.cables.blocking_diode_v;
+    for (si, st) in w.strings.iter().enumerate() {
+        let subs: Vec<&SubstringCurve> = st
+            .iter()
+            .flat_map(|&mi| ic.module_subs[mi].iter())
+            .map(|&c| &ic.curves[c as usize].curve)
+            .collect();
+        string_curve(&subs, r_lead, blocking, &ic.grid, &mut s.strings[si]);
+        string_curve(&subs, 0.0, blocking, &ic.grid, &mut s.strings_bare[si]);
+    }
+    let with: Vec<&[f64]> = s.strings[..n].iter().map(Vec::as_slice).collect();
+    array_curve(&with, &ic.grid, r_main, &mut s.array);
+    let bare: Vec<&[f64]> = s.strings_bare[..n].iter().map(Vec::as_slice).collect();
+    array_curve(&bare, &ic.grid, 0.0, &mut s.array_bare);
+}
+
+/// Runs phase 2 for every layout; `threads = 1` runs single-threaded (benchmarks, checks).
+pub fn run(plan: &Plan, cond: &Conditions, layouts: &[&Layout], parallel: bool) -> Vec<LayoutEnergy> {
+    let curves: Vec<Option<IntervalCurves>> = if parallel {
+        (0..cond.intervals.len())
+            .into_par_iter()
+            .map(|k| interval_curves(plan, cond, k))
+            .collect()
+    } else {
+        (0..cond.intervals.len())
+            .map(|k| interval_curves(plan, cond, k))
+            .collect()
+    };
+    if parallel {
+        layouts
+            .par_iter()
+            .map(|l| simulate_layout(plan, cond, &curves, l))
+            .collect()
+    } else {
+        layouts
+            .iter()
+            .map(|l| simulate_layout(plan, cond, &curves, l))
+            .collect()
+    }
+}

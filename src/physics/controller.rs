@@ -1,0 +1,327 @@
+//! Charge controllers: where an MPPT or PWM controller settles on the array curve, and what
+//! each of its limits costs.
+//!
+//! The controller sees the array curve at its terminals (cable drops already applied). This
+//! module decides the operating point for one interval and splits the available power into
+//! the loss steps of MODEL.md §10; it keeps the wake/sleep state between intervals. It knows
+//! nothing of layouts, plans or files.
+
+use crate::physics::wiring::ArrayCurve;
+
+/// Which maximum an MPPT tracker settles on.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum TrackerMode {
+    /// The highest power in the window (MODEL.md §9).
+    Global,
+    /// Climbs from the open-circuit side and stops at the first maximum.
+    Local,
+}
+
+/// The controller's electrical behaviour, validated.
+#[derive(Clone, Debug, PartialEq)]
+pub enum ControllerModel {
+    Mppt {
+        mppt_min_v: f64,
+        mppt_max_v: f64,
+        headroom_v: f64,
+        /// (output fraction of the rated output, efficiency), increasing fractions.
+        efficiency_curve: Vec<(f64, f64)>,
+        tracking: TrackerMode,
+        start_offset_v: f64,
+        stop_offset_v: f64,
+        max_input_a: f64,
+        max_charge_a: f64,
+    },
+    Pwm {
+        switch_drop_v: f64,
+        max_input_a: f64,
+        max_charge_a: f64,
+    },
+}
+
+/// Power at each step of one interval, W. Each field is the power still available after the
+/// named constraint; the differences are the losses.
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct ControllerPowers {
+    /// Best power the terminal curve offers anywhere (after cables).
+    pub available_w: f64,
+    /// After the wake-up threshold, the voltage window and the tracker (PWM: the battery clamp).
+    pub after_window_w: f64,
+    /// After the input current limit.
+    pub after_input_limit_w: f64,
+    /// After output clipping (input power actually drawn).
+    pub input_w: f64,
+    /// Delivered to the battery.
+    pub output_w: f64,
+    /// Operating voltage at the terminals (0 when asleep).
+    pub voltage_v: f64,
+    /// Awake at the evaluation point.
+    pub awake: bool,
+}
+
+/// Linear interpolation of an efficiency curve at an output fraction; flat beyond its ends.
+///
+/// # Source
+/// MODEL.md §9 (a few points, linear interpolation).
+pub fn efficiency_at(curve: &[(f64, f64)], fraction: f64) -> f64 {
+    match curve {
+        [] => 1.0,
+        [(_, e)] => *e,
+        _ => {
+            if fraction <= curve[0].0 {
+                return curve[0].1;
+            }
+            for w in curve.windows(2) {
+                let ((f0, e0), (f1, e1)) = (w[0], w[1]);
+                if fraction <= f1 {
+                    return e0 + (e1 - e0) * (fraction - f0) / (f1 - f0);
+                }
+            }
+            curve[curve.len() - 1].1
+        }
+    }
+}
+
+/// Output power for an input power, solving P_out = η(P_out / P_rated) · P_in by fixed point.
+fn output_for_input(curve: &[(f64, f64)], p_in: f64, p_rated: f64) -> f64 {
+    let mut p_out = p_in * efficiency_at(curve, 1.0);
+    for _ in 0..8 {
+        p_out = p_in * efficiency_at(curve, p_out / p_rated);
+    }
+    p_out
+}
+
+/// The highest power on the curve between two voltages (edges included), and its voltage.
+fn best_in(curve: &ArrayCurve, lo: f64, hi: f64) -> (f64, f64) {
+    if hi <= lo {
+        let p = curve.power_at(lo).max(0.0);
+        return (p, lo);
+    }
+    let mut best = (curve.power_at(lo).max(0.0), lo);
+    let p_hi = curve.power_at(hi).max(0.0);
+    if p_hi > best.0 {
+        best = (p_hi, hi);
+    }
+    for m in curve.local_maxima(lo, hi) {
+        if m.p > best.0 {
+            best = (m.p, m.v);
+        }
+    }
+    best
+}
+
+/// The first maximum met when climbing down in voltage from `hi` (open-circuit side) to `lo`.
+fn first_from_top(curve: &ArrayCurve, lo: f64, hi: f64) -> (f64, f64) {
+    if hi <= lo {
+        return (curve.power_at(lo).max(0.0), lo);
+    }
+    // Local maxima come sorted by voltage; the climb meets the highest-voltage one first. If
+    // there is none, power rises all the way down to the window's lower edge.
+    match curve.local_maxima(lo, hi).last() {
+        Some(m) => (m.p, m.v),
+        None => {
+            let (p_lo, p_hi) = (curve.power_at(lo), curve.power_at(hi));
+            if p_lo >= p_hi {
+                (p_lo.max(0.0), lo)
+            } else {
+                (p_hi.max(0.0), hi)
+            }
+        }
+    }
+}
+
+/// The voltage at which the curve's current equals `i_a` (current falls with voltage).
+fn voltage_at_current(curve: &ArrayCurve, i_a: f64) -> f64 {
+    let (mut lo, mut hi) = (0.0, curve.voc_v());
+    if curve.current_at(lo) <= i_a {
+        return lo;
+    }
+    for _ in 0..60 {
+        let mid = 0.5 * (lo + hi);
+        if curve.current_at(mid) > i_a {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    hi
+}
+
+impl ControllerModel {
+    /// Input current rating, A.
+    pub fn max_input_a(&self) -> f64 {
+        match self {
+            ControllerModel::Mppt { max_input_a, .. } | ControllerModel::Pwm { max_input_a, .. } => {
+                *max_input_a
+            }
+        }
+    }
+
+    /// Output (charge) current limit, A.
+    pub fn max_charge_a(&self) -> f64 {
+        match self {
+            ControllerModel::Mppt { max_charge_a, .. }
+            | ControllerModel::Pwm { max_charge_a, .. } => *max_charge_a,
+        }
+    }
+
+    /// "mppt" or "pwm".
+    pub fn kind_name(&self) -> &'static str {
+        match self {
+            ControllerModel::Mppt { .. } => "mppt",
+            ControllerModel::Pwm { .. } => "pwm",
+        }
+    }
+
+    /// Lower edge of the MPPT window at a battery voltage (PWM: battery + switch drop), V.
+    pub fn window_low_v(&self, battery_v: f64) -> f64 {
+        match self {
+            ControllerModel::Mppt {
+                mppt_min_v,
+                headroom_v,
+                ..
+            } => mppt_min_v.max(battery_v + headroom_v),
+            ControllerModel::Pwm { switch_drop_v, .. } => battery_v + switch_drop_v,
+        }
+    }
+
+    /// Voltage above the battery the array's Voc must exceed to wake the controller, V.
+    pub fn start_offset_v(&self) -> f64 {
+        match self {
+            ControllerModel::Mppt { start_offset_v, .. } => *start_offset_v,
+            ControllerModel::Pwm { switch_drop_v, .. } => *switch_drop_v,
+        }
+    }
+
+    /// One interval: where the controller operates and what each limit costs.
+    ///
+    /// `awake` is the wake/sleep state carried from the previous interval and is updated.
+    /// `battery_v` is the battery's charging voltage.
+    ///
+    /// # Formula
+    /// MPPT: wakes when Voc_terminal > V_bat + start offset; works in
+    /// [max(mppt_min, V_bat + headroom), mppt_max]; sleeps when the operating voltage falls
+    /// below V_bat + stop offset; I ≤ input limit moves the point toward open circuit; output
+    /// η·P_in ≤ max_charge_a · V_bat clips likewise. PWM: V_terminal = V_bat + switch drop,
+    /// I ≤ min(input, charge rating), delivered V_bat · I.
+    ///
+    /// # Source
+    /// MODEL.md §9 (behaviour common to small charge controllers; no single published source).
+    pub fn operate(&self, curve: &ArrayCurve, battery_v: f64, awake: &mut bool) -> ControllerPowers {
+        let voc = curve.voc_v();
+        let available = if voc > 0.0 { best_in(curve, 0.0, voc).0 } else { 0.0 };
+        let mut out = ControllerPowers {
+            available_w: available,
+            ..ControllerPowers::default()
+        };
+        match self {
+            ControllerModel::Mppt {
+                mppt_min_v,
+                mppt_max_v,
+                headroom_v,
+                efficiency_curve,
+                tracking,
+                start_offset_v,
+                stop_offset_v,
+                max_input_a,
+                max_charge_a,
+            } => {
+                if !*awake && voc > battery_v + start_offset_v {
+                    *awake = true;
+                }
+                if !*awake {
+                    return out;
+                }
+                let lo = mppt_min_v.max(battery_v + headroom_v);
+                let hi = mppt_max_v.min(voc);
+                let pick = |lo: f64, hi: f64| match tracking {
+                    TrackerMode::Global => best_in(curve, lo, hi),
+                    TrackerMode::Local => first_from_top(curve, lo, hi),
+                };
+                let (p_window, v_window) = if hi > lo { pick(lo, hi) } else { (0.0, 0.0) };
+                if p_window <= 0.0 || v_window < battery_v + stop_offset_v {
+                    *awake = false;
+                    return out;
+                }
+                out.awake = true;
+                out.after_window_w = p_window;
+                // Input current limit: only voltages where I ≤ limit are allowed.
+                let (p_lim, v_lim) = if curve.current_at(v_window) > *max_input_a {
+                    let v_min = voltage_at_current(curve, *max_input_a).max(lo);
+                    pick(v_min, hi)
+                } else {
+                    (p_window, v_window)
+                };
+                out.after_input_limit_w = p_lim;
+                out.voltage_v = v_lim;
+                // Output clipping: the rated output caps η·P_in.
+                let p_rated = max_charge_a * battery_v;
+                let mut p_in = p_lim;
+                let mut p_out = output_for_input(efficiency_curve, p_in, p_rated);
+                if p_out > p_rated {
+                    p_out = p_rated;
+                    p_in = p_rated / efficiency_at(efficiency_curve, 1.0);
+                    // The point moves toward open circuit: find that voltage.
+                    let (mut a, mut b) = (v_lim, hi);
+                    for _ in 0..50 {
+                        let mid = 0.5 * (a + b);
+                        if curve.power_at(mid) > p_in {
+                            a = mid;
+                        } else {
+                            b = mid;
+                        }
+                    }
+                    out.voltage_v = b;
+                }
+                out.input_w = p_in;
+                out.output_w = p_out;
+                out
+            }
+            ControllerModel::Pwm {
+                switch_drop_v,
+                max_input_a,
+                max_charge_a,
+            } => {
+                let v_t = battery_v + switch_drop_v;
+                let i = curve.current_at(v_t).max(0.0);
+                if voc <= v_t || i <= 0.0 {
+                    *awake = false;
+                    return out;
+                }
+                *awake = true;
+                out.awake = true;
+                out.voltage_v = v_t;
+                out.after_window_w = v_t * i;
+                let i_lim = i.min(max_input_a.min(*max_charge_a));
+                out.after_input_limit_w = v_t * i_lim;
+                out.input_w = v_t * i_lim;
+                out.output_w = battery_v * i_lim;
+                out
+            }
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn efficiency_interpolates_and_is_flat_outside() {
+        // Source: common practice, no source (linear interpolation, MODEL.md §9).
+        let c = [(0.1, 0.90), (0.5, 0.96), (1.0, 0.94)];
+        assert!((efficiency_at(&c, 0.0) - 0.90).abs() < 1e-12);
+        assert!((efficiency_at(&c, 0.3) - 0.93).abs() < 1e-12);
+        assert!((efficiency_at(&c, 0.75) - 0.95).abs() < 1e-12);
+        assert!((efficiency_at(&c, 2.0) - 0.94).abs() < 1e-12);
+    }
+
+    #[test]
+    fn output_solves_the_fixed_point() {
+        // Source: recomputed from the definition P_out = η(P_out/P_rated)·P_in.
+        let c = [(0.0, 0.90), (1.0, 0.98)];
+        let p_out = output_for_input(&c, 500.0, 1000.0);
+        let eta = efficiency_at(&c, p_out / 1000.0);
+        assert!((p_out - 500.0 * eta).abs() < 1e-6);
+    }
+}

@@ -1,0 +1,208 @@
+//! The validated plan: what the owner has (site, modules, controllers, battery, cables) and
+//! which wirings to compare.
+//!
+//! Values here have passed every range and consistency check in `io::plan_toml`; the physics
+//! code downstream trusts them and cannot fail on them. This module knows no file format and
+//! no serde: the TOML mirror lives in `io::plan_toml`.
+
+use std::path::PathBuf;
+
+use crate::physics::controller::ControllerModel;
+use crate::physics::diode::{Datasheet, ReferenceParams};
+use crate::physics::sky::{GlassCover, SkyModel};
+use crate::physics::thermal::CellTemperatureModel;
+use crate::physics::wiring::Conductor;
+
+/// The site as the plan states it; any of it may instead come from the weather file's header.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct SiteSpec {
+    pub name: Option<String>,
+    pub latitude_deg: Option<f64>,
+    pub longitude_deg: Option<f64>,
+    pub elevation_m: Option<f64>,
+    pub utc_offset_h: Option<f64>,
+    /// Design minimum air temperature for the cold-voltage check, °C.
+    pub design_min_air_c: Option<f64>,
+    /// Design maximum air temperature for the hot-voltage check, °C.
+    pub design_max_air_c: Option<f64>,
+}
+
+/// Ground reflectance: one value, or one per month (January first).
+#[derive(Clone, Debug, PartialEq)]
+pub enum Albedo {
+    Constant(f64),
+    Monthly([f64; 12]),
+}
+
+impl Albedo {
+    /// Albedo for a month 1..=12.
+    pub fn for_month(&self, month: u32) -> f64 {
+        match self {
+            Albedo::Constant(a) => *a,
+            Albedo::Monthly(m) => m[(month.clamp(1, 12) - 1) as usize],
+        }
+    }
+}
+
+/// Modelling choices that apply to the whole run.
+#[derive(Clone, Debug)]
+pub struct ModelOptions {
+    pub sky: SkyModel,
+    pub glass: GlassCover,
+    /// Intervals with the sun above 0° and below this elevation count as "low sun".
+    pub low_sun_elevation_deg: f64,
+    /// TT − UT1 for the solar position, s.
+    pub delta_t_s: f64,
+    /// Albedo used when the weather file has no albedo column.
+    pub albedo: Albedo,
+}
+
+/// One module type from its datasheet, with the single-diode parameters fitted once.
+#[derive(Clone, Debug)]
+pub struct ModuleType {
+    pub id: String,
+    pub pmax_w: f64,
+    pub datasheet: Datasheet,
+    /// Temperature coefficient of Pmax, fraction per K (negative); reported, not modelled.
+    pub gamma_pmax_frac_k: f64,
+    pub bypass_diodes: u32,
+    pub bypass_drop_v: f64,
+    pub noct_c: f64,
+    pub length_m: f64,
+    pub width_m: f64,
+    pub max_system_v: f64,
+    pub max_series_fuse_a: f64,
+    /// De Soto 2006 reference parameters of the whole module.
+    pub reference: ReferenceParams,
+    /// The same for one bypass-diode substring.
+    pub substring: ReferenceParams,
+}
+
+impl ModuleType {
+    /// Module area, m².
+    pub fn area_m2(&self) -> f64 {
+        self.length_m * self.width_m
+    }
+
+    /// STC efficiency, fraction.
+    pub fn stc_efficiency_frac(&self) -> f64 {
+        self.pmax_w / (1000.0 * self.area_m2())
+    }
+}
+
+/// Modules sharing a tilt, an azimuth, a type and a mounting.
+#[derive(Clone, Debug)]
+pub struct Group {
+    pub id: String,
+    pub module_type: usize,
+    pub count: usize,
+    pub tilt_deg: f64,
+    pub azimuth_deg: f64,
+    pub thermal: CellTemperatureModel,
+    /// Soiling/snow loss per month, fraction of the plane-of-array light (January first).
+    pub soiling_frac: [f64; 12],
+}
+
+/// One physical module, named `<group>-<n>` (n from 1).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Module {
+    pub id: String,
+    pub group: usize,
+    pub module_type: usize,
+}
+
+/// One controller input (a multi-input controller is several of these).
+#[derive(Clone, Debug)]
+pub struct ControllerInput {
+    pub id: String,
+    /// Behaviour and ratings (window, limits, wake-up, efficiency).
+    pub model: ControllerModel,
+    /// Absolute maximum input voltage (array Voc above it damages the controller), V.
+    pub max_input_v: f64,
+    /// Main run from the combiner to this input.
+    pub main_run: CableRun,
+}
+
+/// The battery as the controller sees it (a fuller model comes with the load simulation).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Battery {
+    pub nominal_v: f64,
+    /// Voltage the controller charges at, V.
+    pub charge_v: f64,
+}
+
+/// A cable: one-way length, cross-section and conductor.
+#[derive(Clone, Debug)]
+pub struct CableRun {
+    /// One-way length, m (the resistance counts the round trip).
+    pub length_m: f64,
+    pub cross_section_mm2: f64,
+    /// The gauge when the plan gave one (the ampacity table then uses the AWG column).
+    pub awg: Option<i32>,
+    pub conductor: Conductor,
+    /// Ampacity the plan states, A; `None` uses the documented table.
+    pub ampacity_a: Option<f64>,
+}
+
+/// Cable rules common to the whole array.
+#[derive(Clone, Debug)]
+pub struct Cables {
+    /// Per-string lead (module jumpers included) to the combiner.
+    pub string_lead: CableRun,
+    /// Conductor temperature above air temperature, K.
+    pub conductor_rise_dk: f64,
+    /// Largest acceptable voltage drop at STC, fraction.
+    pub voltage_drop_target_frac: f64,
+    /// Forward drop of an optional blocking diode per string, V.
+    pub blocking_diode_v: Option<f64>,
+}
+
+/// Direct light blocked on some substrings of a module at stated months and hours.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ShadeRule {
+    pub module: usize,
+    /// Substring indices, 0-based.
+    pub substrings: Vec<usize>,
+    /// Months 1..=12 in which the rule applies.
+    pub months: Vec<u32>,
+    /// Local hours of day 0..=23 (of the interval's start) in which the rule applies.
+    pub hours: Vec<u32>,
+    /// Fraction of the direct (beam and circumsolar) light blocked.
+    pub beam_blocked_frac: f64,
+}
+
+/// A wiring written out in the plan: per controller input, parallel strings of module indices.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct LayoutSpec {
+    pub name: Option<String>,
+    /// (controller input index, strings of module indices).
+    pub inputs: Vec<(usize, Vec<Vec<usize>>)>,
+}
+
+/// Everything wirerank needs from the plan file, validated.
+#[derive(Clone, Debug)]
+pub struct Plan {
+    /// The plan file as given (for messages and provenance).
+    pub source: PathBuf,
+    pub site: SiteSpec,
+    /// Weather file, resolved relative to the plan's folder.
+    pub weather_path: PathBuf,
+    pub model: ModelOptions,
+    pub module_types: Vec<ModuleType>,
+    pub groups: Vec<Group>,
+    pub modules: Vec<Module>,
+    pub controllers: Vec<ControllerInput>,
+    pub battery: Battery,
+    pub cables: Cables,
+    pub shade: Vec<ShadeRule>,
+    pub layouts: Vec<LayoutSpec>,
+    /// `layouts = "all"`: also enumerate every regular wiring.
+    pub enumerate_all: bool,
+}
+
+impl Plan {
+    /// The index of a module by its id.
+    pub fn module_index(&self, id: &str) -> Option<usize> {
+        self.modules.iter().position(|m| m.id == id)
+    }
+}

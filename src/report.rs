@@ -1,0 +1,224 @@
+//! Terminal reports: fixed-width tables for people.
+//!
+//! Formatting only; every number arrives computed. Machine-readable output (JSON, CSV) lives
+//! in `io/`.
+
+use std::fmt::Write as _;
+
+use chrono::{Duration, NaiveDate, NaiveDateTime};
+
+use crate::error::Error;
+use crate::physics::sun::{self, Atmosphere, Observer};
+use crate::tally::GroupMonthly;
+use crate::{Loaded, Outcome, SunpathRequest};
+
+const MONTHS: [&str; 12] = [
+    "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec",
+];
+
+/// The cautions every report carries.
+pub const CAUTIONS: &str = "\
+Cautions: a DC array is live whenever light falls on it and cannot be switched off at the
+modules. Cold raises module voltage. The limits checked here are screening checks, not a
+code-compliance review: follow your local electrical code (e.g. NEC Article 690,
+IEC 60364-7-712) and have a licensed professional check the design before building it.";
+
+/// Site line shared by the reports.
+fn site_header(out: &mut String, l: &Loaded) {
+    let s = &l.site;
+    let _ = writeln!(
+        out,
+        "{}  ({:.2}°, {:.2}°, {:.0} m, UTC{:+})  weather: {} ({} intervals of {} min)",
+        s.name,
+        s.latitude_deg,
+        s.longitude_deg,
+        s.elevation_m,
+        s.utc_offset_h,
+        l.weather.source,
+        l.weather.len(),
+        l.weather.interval_s / 60
+    );
+}
+
+/// Light on each orientation group, month by month: plane-of-array insolation, the share lost
+/// to incidence angle and the mean daytime cell temperature.
+pub fn light_table(
+    l: &Loaded,
+    horizontal_kwh_m2: &[f64; 12],
+    present: &[bool; 12],
+    groups: &[GroupMonthly],
+) -> String {
+    let mut out = String::new();
+    site_header(&mut out, l);
+    let _ = writeln!(out);
+    let _ = writeln!(
+        out,
+        "Light on each orientation, month by month (sky model: {:?})",
+        l.plan.model.sky
+    );
+    let _ = write!(out, "{:<24}", "");
+    for m in MONTHS {
+        let _ = write!(out, "{m:>7}");
+    }
+    let _ = writeln!(out, "{:>9}", "Year");
+    let row = |out: &mut String, label: &str, vals: &[f64; 12], prec: usize, total: Option<f64>| {
+        let _ = write!(out, "{label:<24}");
+        for (m, v) in vals.iter().enumerate() {
+            if present[m] && v.is_finite() {
+                let _ = write!(out, "{v:>7.prec$}");
+            } else {
+                let _ = write!(out, "{:>7}", "-");
+            }
+        }
+        match total {
+            Some(t) => {
+                let _ = writeln!(out, "{t:>9.prec$}");
+            }
+            None => {
+                let _ = writeln!(out);
+            }
+        }
+    };
+    row(
+        &mut out,
+        "horizontal kWh/m²",
+        horizontal_kwh_m2,
+        1,
+        Some(horizontal_kwh_m2.iter().sum()),
+    );
+    for (g, spec) in groups.iter().zip(&l.plan.groups) {
+        let _ = writeln!(
+            out,
+            "group {} (tilt {:.0}°, azimuth {:.0}°, {} modules)",
+            g.group, spec.tilt_deg, spec.azimuth_deg, spec.count
+        );
+        row(
+            &mut out,
+            "  plane kWh/m²",
+            &g.poa_kwh_m2,
+            1,
+            Some(g.poa_kwh_m2.iter().sum()),
+        );
+        let iam: [f64; 12] = std::array::from_fn(|m| g.iam_loss_frac(m) * 100.0);
+        let year_poa: f64 = g.poa_kwh_m2.iter().sum();
+        let year_after: f64 = g.after_iam_kwh_m2.iter().sum();
+        let year_iam = if year_poa > 0.0 {
+            (1.0 - year_after / year_poa) * 100.0
+        } else {
+            0.0
+        };
+        row(&mut out, "  incidence loss %", &iam, 1, Some(year_iam));
+        row(&mut out, "  daytime cell °C", &g.mean_daytime_cell_c, 1, None);
+    }
+    let _ = writeln!(out);
+    let _ = writeln!(out, "{CAUTIONS}");
+    out
+}
+
+fn parse_date(s: &str, what: &str) -> Result<NaiveDate, Error> {
+    NaiveDate::parse_from_str(s, "%Y-%m-%d")
+        .map_err(|_| Error::Usage(format!("{what} = {s:?} is not a date; write YYYY-MM-DD")))
+}
+
+/// `wirerank sunpath`: the sun's position over a date range at a fixed step.
+///
+/// # Errors
+/// Missing or out-of-range site values, bad dates, or a plan that fails to load.
+pub fn sunpath(r: &SunpathRequest) -> Result<Outcome, Error> {
+    let from_plan = match &r.plan {
+        Some(p) => Some(crate::load(&crate::PlanSource::File(p.clone()))?.site),
+        None => None,
+    };
+    let pick = |given: Option<f64>, plan: Option<f64>, key: &str, lo: f64, hi: f64| -> Result<f64, Error> {
+        let v = given.or(plan).ok_or_else(|| {
+            Error::Usage(format!("--{} is missing (or give --plan)", key.replace('_', "-")))
+        })?;
+        if !v.is_finite() || v < lo || v > hi {
+            return Err(Error::Usage(format!(
+                "--{} = {v} is outside {lo}..={hi}",
+                key.replace('_', "-")
+            )));
+        }
+        Ok(v)
+    };
+    let lat = pick(r.latitude_deg, from_plan.as_ref().map(|s| s.latitude_deg), "latitude_deg", -90.0, 90.0)?;
+    let lon = pick(r.longitude_deg, from_plan.as_ref().map(|s| s.longitude_deg), "longitude_deg", -180.0, 180.0)?;
+    let offset = pick(r.utc_offset_h, from_plan.as_ref().map(|s| s.utc_offset_h), "utc_offset_h", -12.0, 14.0)?;
+    let elev = r
+        .elevation_m
+        .or(from_plan.as_ref().map(|s| s.elevation_m))
+        .unwrap_or(0.0);
+    if !(-500.0..=9000.0).contains(&elev) {
+        return Err(Error::Usage(format!("--elevation-m = {elev} is outside -500..=9000")));
+    }
+    if r.step_min == 0 || r.step_min > 1440 {
+        return Err(Error::Usage(format!(
+            "--step-min = {} is outside 1..=1440",
+            r.step_min
+        )));
+    }
+    let from = parse_date(&r.from, "--date")?;
+    let to = match &r.to {
+        Some(t) => parse_date(t, "--to")?,
+        None => from,
+    };
+    if to < from {
+        return Err(Error::Usage(format!("--to {to} is before --date {from}")));
+    }
+    if (to - from).num_days() > 366 {
+        return Err(Error::Usage("--date .. --to spans more than 366 days".into()));
+    }
+    let observer = Observer {
+        latitude_deg: lat,
+        longitude_deg: lon,
+        elevation_m: elev,
+    };
+    let atmosphere = Atmosphere {
+        pressure_hpa: sun::pressure_from_elevation_hpa(elev),
+        temperature_c: 12.0,
+    };
+    let mut out = String::new();
+    if r.csv {
+        out.push_str("time_local,zenith_deg,elevation_deg,azimuth_deg\n");
+    } else {
+        let _ = writeln!(
+            out,
+            "Sun at {lat:.4}°, {lon:.4}°, {elev:.0} m; local standard time UTC{offset:+} (no daylight saving)"
+        );
+        let _ = writeln!(out, "{:<17} {:>10} {:>11}", "time", "elevation°", "azimuth°");
+    }
+    let start: NaiveDateTime = from.and_hms_opt(0, 0, 0).unwrap_or_default();
+    let end: NaiveDateTime = to.and_hms_opt(0, 0, 0).unwrap_or_default() + Duration::days(1);
+    let step = Duration::minutes(r.step_min as i64);
+    let mut t = start;
+    while t < end {
+        let unix = t.and_utc().timestamp() as f64 - offset * 3600.0;
+        let p = sun::solar_position(unix, &observer, &atmosphere, crate::physics::sun::DELTA_T_DEFAULT_S);
+        let el = p.elevation_deg();
+        if el <= 0.0 && !r.include_night {
+            // Below the horizon: listed only with --all.
+        } else if r.csv {
+            let _ = writeln!(
+                out,
+                "{},{:.4},{:.4},{:.4}",
+                t.format("%Y-%m-%dT%H:%M"),
+                p.zenith_deg,
+                el,
+                p.azimuth_deg
+            );
+        } else {
+            let _ = writeln!(
+                out,
+                "{:<17} {:>10.2} {:>11.2}",
+                t.format("%Y-%m-%d %H:%M"),
+                el,
+                p.azimuth_deg
+            );
+        }
+        t += step;
+    }
+    Ok(Outcome {
+        stdout: out,
+        ..Outcome::default()
+    })
+}

@@ -1,0 +1,274 @@
+//! The interval loop, phase 1: sun, sky, incidence losses, soiling and cell temperature for
+//! every interval and orientation group.
+//!
+//! Phase 1 is the same for every wiring, so it runs once and its results are shared by every
+//! layout in phase 2. It does no file I/O and knows no file format.
+
+use crate::physics::sky::{self, PoaParts, SkyState, Surface};
+use crate::physics::sun::{self, Atmosphere, IntervalSun, Observer};
+use crate::plan::Plan;
+use crate::weather::Weather;
+
+/// Wind speed assumed when the weather file has none, m/s (the NOCT test condition, IEC 61215).
+pub const WIND_DEFAULT_M_S: f64 = 1.0;
+
+/// The site after merging the plan and the weather header.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Site {
+    pub name: String,
+    pub latitude_deg: f64,
+    pub longitude_deg: f64,
+    pub elevation_m: f64,
+    pub utc_offset_h: f64,
+}
+
+/// Why the plan and the weather file do not give one site.
+#[derive(Debug, thiserror::Error)]
+pub enum SiteError {
+    #[error("site.{key} is missing: give it in the plan's [site] table or as `# {key} = ...` in the weather file {weather}")]
+    Missing { key: &'static str, weather: String },
+    #[error("site.{key} conflicts: the plan says {plan_value} but the weather file {weather} says {weather_value}; make them agree or remove one")]
+    Conflict {
+        key: &'static str,
+        plan_value: f64,
+        weather_value: f64,
+        weather: String,
+    },
+}
+
+/// Merges the plan's site with the weather header's; a value given by both must agree.
+///
+/// # Errors
+/// Latitude, longitude or UTC offset given by neither, or a conflict beyond a small tolerance
+/// (0.01° for angles, 25 m for elevation, exactly for the UTC offset).
+pub fn resolve_site(plan: &Plan, weather: &Weather) -> Result<Site, SiteError> {
+    let pick = |key: &'static str, p: Option<f64>, w: Option<f64>, tol: f64| -> Result<Option<f64>, SiteError> {
+        match (p, w) {
+            (Some(a), Some(b)) if (a - b).abs() > tol => Err(SiteError::Conflict {
+                key,
+                plan_value: a,
+                weather_value: b,
+                weather: weather.source.clone(),
+            }),
+            (Some(a), _) => Ok(Some(a)),
+            (None, b) => Ok(b),
+        }
+    };
+    let missing = |key: &'static str| SiteError::Missing {
+        key,
+        weather: weather.source.clone(),
+    };
+    let ws = &weather.site;
+    let ps = &plan.site;
+    Ok(Site {
+        name: ps
+            .name
+            .clone()
+            .or_else(|| ws.name.clone())
+            .unwrap_or_else(|| "unnamed site".to_string()),
+        latitude_deg: pick("latitude_deg", ps.latitude_deg, ws.latitude_deg, 0.01)?
+            .ok_or_else(|| missing("latitude_deg"))?,
+        longitude_deg: pick("longitude_deg", ps.longitude_deg, ws.longitude_deg, 0.01)?
+            .ok_or_else(|| missing("longitude_deg"))?,
+        elevation_m: pick("elevation_m", ps.elevation_m, ws.elevation_m, 25.0)?.unwrap_or(0.0),
+        utc_offset_h: pick("utc_offset_h", ps.utc_offset_h, ws.utc_offset_h, 1e-9)?
+            .ok_or_else(|| missing("utc_offset_h"))?,
+    })
+}
+
+/// What every layout sees in one interval, independent of orientation.
+#[derive(Clone, Copy, Debug)]
+pub struct IntervalInfo {
+    /// Interval start, seconds since 1970 UTC.
+    pub start_unix_s: f64,
+    /// Interval length, h.
+    pub hours: f64,
+    /// Local month 1..=12 and hour 0..=23 of the interval start.
+    pub month: u32,
+    pub hour: u32,
+    /// Sun at the evaluation point; `None` when dark throughout.
+    pub sun: Option<IntervalSun>,
+    pub ghi_w_m2: f64,
+    pub dni_w_m2: f64,
+    pub dhi_w_m2: f64,
+    pub air_temp_c: f64,
+    pub wind_m_s: f64,
+}
+
+impl IntervalInfo {
+    /// Sun elevation at the evaluation point, degrees (negative or `None` at night).
+    pub fn sun_elevation_deg(&self) -> Option<f64> {
+        self.sun.map(|s| s.position.elevation_deg())
+    }
+}
+
+/// One orientation group's light and temperature in every interval.
+#[derive(Clone, Debug)]
+pub struct GroupConditions {
+    /// Plane-of-array parts before any loss.
+    pub poa: Vec<PoaParts>,
+    /// The same after incidence-angle losses and soiling (what reaches the cells, unshaded).
+    pub effective: Vec<PoaParts>,
+    /// Plane-of-array after incidence-angle losses, before soiling (for the loss table).
+    pub after_iam_w_m2: Vec<f32>,
+    pub cell_temp_c: Vec<f64>,
+}
+
+/// Phase 1 output: shared by every layout.
+#[derive(Clone, Debug)]
+pub struct Conditions {
+    pub site: Site,
+    pub intervals: Vec<IntervalInfo>,
+    pub groups: Vec<GroupConditions>,
+}
+
+/// Runs phase 1 over the whole weather series.
+///
+/// Each interval is evaluated once, at the sun position of MODEL.md §2; the weather values are
+/// interval means, so no sunlit-fraction factor is applied (MODEL.md, conventions).
+pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
+    let observer = Observer {
+        latitude_deg: site.latitude_deg,
+        longitude_deg: site.longitude_deg,
+        elevation_m: site.elevation_m,
+    };
+    let default_pressure = sun::pressure_from_elevation_hpa(site.elevation_m);
+    let n = weather.len();
+    let offset_s = site.utc_offset_h * 3600.0;
+    let dt_s = weather.interval_s as f64;
+
+    let mut intervals = Vec::with_capacity(n);
+    let mut skies: Vec<Option<SkyState>> = Vec::with_capacity(n);
+    for k in 0..n {
+        let start = weather.local_start_s[k] as f64 - offset_s;
+        let air = weather.air_temp_c[k];
+        let atmosphere = Atmosphere {
+            pressure_hpa: weather.pressure_hpa.as_ref().map_or(default_pressure, |p| p[k]),
+            temperature_c: air,
+        };
+        let sun_now = sun::interval_sun(start, start + dt_s, &observer, &atmosphere, plan.model.delta_t_s);
+        let ghi = weather.ghi_w_m2[k];
+        let mut info = IntervalInfo {
+            start_unix_s: start,
+            hours: dt_s / 3600.0,
+            month: weather.local_month(k),
+            hour: weather.local_hour(k),
+            sun: sun_now,
+            ghi_w_m2: ghi,
+            dni_w_m2: 0.0,
+            dhi_w_m2: 0.0,
+            air_temp_c: air,
+            wind_m_s: weather.wind_m_s.as_ref().map_or(WIND_DEFAULT_M_S, |w| w[k]),
+        };
+        let sky_state = sun_now.filter(|_| ghi > 0.0).map(|s| {
+            let doy = day_of_year_utc(s.eval_unix_s);
+            let g_on = sun::extraterrestrial_normal_w_m2(doy);
+            let z = s.position.zenith_deg;
+            let (dni, dhi) = match (&weather.dni_w_m2, &weather.dhi_w_m2) {
+                (Some(b), Some(d)) => (b[k], d[k]),
+                _ => {
+                    let split = sky::erbs_split(ghi, z, g_on);
+                    (split.dni_w_m2, split.dhi_w_m2)
+                }
+            };
+            info.dni_w_m2 = dni;
+            info.dhi_w_m2 = dhi;
+            SkyState {
+                ghi_w_m2: ghi,
+                dni_w_m2: dni,
+                dhi_w_m2: dhi,
+                extraterrestrial_normal_w_m2: g_on,
+                zenith_deg: z,
+                azimuth_deg: s.position.azimuth_deg,
+                air_mass_relative: sun::air_mass_relative(z).unwrap_or(0.0),
+            }
+        });
+        intervals.push(info);
+        skies.push(sky_state);
+    }
+
+    let groups = plan
+        .groups
+        .iter()
+        .map(|g| {
+            let surface = Surface {
+                tilt_deg: g.tilt_deg,
+                azimuth_deg: g.azimuth_deg,
+            };
+            let factors = sky::iam_factors(&plan.model.glass, g.tilt_deg);
+            let mut out = GroupConditions {
+                poa: Vec::with_capacity(n),
+                effective: Vec::with_capacity(n),
+                after_iam_w_m2: Vec::with_capacity(n),
+                cell_temp_c: Vec::with_capacity(n),
+            };
+            for (k, info) in intervals.iter().enumerate() {
+                let (poa, after_iam) = match &skies[k] {
+                    Some(state) => {
+                        let albedo = weather
+                            .albedo_frac
+                            .as_ref()
+                            .map_or_else(|| plan.model.albedo.for_month(info.month), |a| a[k]);
+                        let poa = sky::poa_parts(plan.model.sky, &surface, state, albedo);
+                        let after = sky::apply_iam(&poa, &plan.model.glass, &factors);
+                        (poa, after)
+                    }
+                    None => (PoaParts::default(), PoaParts::default()),
+                };
+                let soil = 1.0 - g.soiling_frac[(info.month - 1) as usize];
+                let effective = scale_parts(&after_iam, soil);
+                out.cell_temp_c.push(g.thermal.cell_temperature_c(
+                    poa.total_w_m2(),
+                    info.air_temp_c,
+                    info.wind_m_s,
+                ));
+                out.after_iam_w_m2.push(after_iam.total_w_m2() as f32);
+                out.poa.push(poa);
+                out.effective.push(effective);
+            }
+            out
+        })
+        .collect();
+
+    Conditions {
+        site: site.clone(),
+        intervals,
+        groups,
+    }
+}
+
+/// Every irradiance part multiplied by `f` (the angle of incidence kept).
+pub fn scale_parts(p: &PoaParts, f: f64) -> PoaParts {
+    PoaParts {
+        beam_w_m2: p.beam_w_m2 * f,
+        circumsolar_w_m2: p.circumsolar_w_m2 * f,
+        isotropic_w_m2: p.isotropic_w_m2 * f,
+        horizon_w_m2: p.horizon_w_m2 * f,
+        ground_w_m2: p.ground_w_m2 * f,
+        aoi_deg: p.aoi_deg,
+    }
+}
+
+/// Day of year (1 = 1 January, fractional) of a UTC instant, for the Spencer series.
+pub fn day_of_year_utc(unix_s: f64) -> f64 {
+    use chrono::Datelike;
+    let day_start = (unix_s / 86_400.0).floor();
+    let ordinal = chrono::DateTime::from_timestamp(day_start as i64 * 86_400, 0)
+        .map_or(1, |d| d.ordinal());
+    ordinal as f64 + (unix_s / 86_400.0 - day_start)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn day_of_year_known_dates() {
+        // Source: common practice, no source (calendar arithmetic): 2025-01-01T00:00Z is
+        // unix 1735689600; 2024-12-31T12:00Z is day 366.5 of a leap year.
+        assert!((day_of_year_utc(1_735_689_600.0) - 1.0).abs() < 1e-9);
+        assert!((day_of_year_utc(1_735_689_600.0 - 43_200.0) - 366.5).abs() < 1e-9);
+        // 2025-03-01 is day 60 of a common year.
+        assert!((day_of_year_utc(1_740_787_200.0) - 60.0).abs() < 1e-9);
+    }
+}
