@@ -26,13 +26,13 @@ const ERBS_MAX_ZENITH_DEG: f64 = 87.0;
 /// Perez sky-clearness ε bin upper edges; bin 8 is everything at or above 6.2.
 ///
 /// # Source
-/// Perez et al. 1990, Solar Energy 44(5), Table 1.
+/// Perez et al. 1990, Solar Energy 44(5), the sky-clearness bin table.
 const PEREZ_EPSILON_UPPER: [f64; 7] = [1.065, 1.230, 1.500, 1.950, 2.800, 4.500, 6.200];
 
 /// Perez brightening coefficients f11 f12 f13 f21 f22 f23 per ε bin (all-sites composite).
 ///
 /// # Source
-/// Perez et al. 1990, Solar Energy 44(5), Table 6 (all-sites composite), as printed in
+/// Perez et al. 1990, Solar Energy 44(5), the all-sites composite coefficient table, as printed in
 /// secondary copies; the values are those of the project's check-value list.
 const PEREZ_COEFFICIENTS: [[f64; 6]; 8] = [
     [-0.008, 0.588, -0.062, -0.060, 0.072, -0.022],
@@ -48,7 +48,7 @@ const PEREZ_COEFFICIENTS: [[f64; 6]; 8] = [
 /// Perez κ for the zenith angle in radians.
 ///
 /// # Source
-/// Perez et al. 1990, Solar Energy 44(5), eq. 1.
+/// Perez et al. 1990, Solar Energy 44(5), definition of the sky clearness ε.
 const PEREZ_KAPPA: f64 = 1.041;
 
 /// Erbs, Klein & Duffie diffuse fraction kd = DHI / GHI of an hour with clearness index kt.
@@ -60,7 +60,7 @@ const PEREZ_KAPPA: f64 = 1.041;
 ///
 /// # Source
 /// Erbs, Klein & Duffie 1982, "Estimation of the diffuse radiation fraction for hourly,
-/// daily and monthly-average global radiation", Solar Energy 28(4), eq. 1; also Duffie &
+/// daily and monthly-average global radiation", Solar Energy 28(4); also Duffie &
 /// Beckman 4th ed. eq. 2.10.1.
 ///
 /// # Validity
@@ -360,9 +360,10 @@ pub fn poa_parts(model: SkyModel, surface: &Surface, sky: &SkyState, albedo_frac
 /// # Source
 /// Beam and ground: Duffie & Beckman 4th ed. eq. 2.15.1 (the isotropic-diffuse model).
 /// Isotropic: Liu & Jordan 1963. Hay & Davies 1980 (as in Duffie & Beckman 4th ed.
-/// §2.16, the HDKR model without the Reindl horizon term). Perez, Ineichen, Seals, Michalsky & Stewart
-/// 1990, "Modeling daylight availability and irradiance components from direct and global
-/// irradiance", Solar Energy 44(5), eqs. 1–9 and Table 6 (all-sites composite coefficients).
+/// §2.16, the HDKR model without the Reindl horizon term). Perez, Ineichen, Seals,
+/// Michalsky & Stewart 1990, "Modeling daylight availability and irradiance components from
+/// direct and global irradiance", Solar Energy 44(5), with its all-sites composite
+/// coefficient table.
 ///
 /// # Validity
 /// - Night (zenith ≥ 90° or GHI ≤ 0, or not finite): every irradiance part is 0;
@@ -452,7 +453,7 @@ impl GlassCover {
     /// The cover De Soto et al. use for all their modules: n = 1.526, K = 4 m⁻¹, L = 2 mm.
     ///
     /// # Source
-    /// De Soto, Klein & Beckman 2006, Solar Energy 80, §2 (incidence angle modifier).
+    /// De Soto, Klein & Beckman 2006, Solar Energy 80 (incidence angle modifier).
     pub const DE_SOTO_2006: GlassCover = GlassCover {
         refractive_index: 1.526,
         extinction_per_m: 4.0,
@@ -622,13 +623,13 @@ mod tests {
 
     #[test]
     fn erbs_diffuse_fraction_pieces() {
-        // Source: recomputed from Erbs, Klein & Duffie 1982 eq. 1 (CHECK-VALUES), 4 decimals
+        // Source: recomputed from Erbs, Klein & Duffie 1982 (CHECK-VALUES), 4 decimals
         check_erbs(0.10, 0.9910, 5e-5);
-        // Source: recomputed from Erbs, Klein & Duffie 1982 eq. 1 (CHECK-VALUES), 4 decimals
+        // Source: recomputed from Erbs, Klein & Duffie 1982 (CHECK-VALUES), 4 decimals
         check_erbs(0.50, 0.6591, 5e-5);
-        // Source: Erbs, Klein & Duffie 1982 eq. 1, constant above kt = 0.80 (text)
+        // Source: Erbs, Klein & Duffie 1982, constant above kt = 0.80 (text)
         check_erbs(0.90, 0.165, 1e-12);
-        // Source: Erbs, Klein & Duffie 1982 eq. 1, 1 − 0.09·0 (text)
+        // Source: Erbs, Klein & Duffie 1982, 1 − 0.09·0 (text)
         check_erbs(0.0, 1.0, 1e-12);
         // Source: common practice, no source (negative kt is treated as 0)
         check_erbs(-0.3, 1.0, 1e-12);
@@ -990,7 +991,7 @@ mod tests {
 
     #[test]
     fn perez_bins() {
-        // Source: Perez et al. 1990, Table 1 bin edges 1.065 1.230 1.500 1.950 2.800 4.500
+        // Source: Perez et al. 1990, sky-clearness bin edges 1.065 1.230 1.500 1.950 2.800 4.500
         // 6.200 (text); each bin taken to include its lower edge (documented choice)
         let cases = [
             (1.0, 0),
@@ -1056,7 +1057,7 @@ mod tests {
 
     #[test]
     fn perez_coefficients_per_bin() {
-        // Source: Perez et al. 1990, Table 6 all-sites composite (text, secondary copies,
+        // Source: Perez et al. 1990, all-sites composite table (text, secondary copies,
         // as listed in CHECK-VALUES), f11 f12 f13 f21 f22 f23; one ε from inside each bin
         check_perez_bin(
             1.03,
