@@ -6,6 +6,7 @@ use std::path::PathBuf;
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
 
+use wirerank::rank::Criterion;
 use wirerank::{OutputFormat, PlanSource, RankRequest, Request, SunpathRequest};
 
 /// Ranks the ways to wire a small solar array into battery charge controllers.
@@ -43,9 +44,36 @@ pub struct OutputArgs {
     /// Output on stdout: a terminal table or JSON.
     #[arg(long, value_enum, default_value_t = FormatArg::Table)]
     pub format: FormatArg,
+    /// What the ranking maximises.
+    #[arg(long, value_enum, default_value_t = ByArg::Annual)]
+    pub by: ByArg,
     /// Print nothing on stderr (no progress, no warnings).
     #[arg(long, short)]
     pub quiet: bool,
+}
+
+#[derive(Debug, Clone, Copy, ValueEnum, Default, PartialEq, Eq)]
+pub enum ByArg {
+    /// Energy delivered over the year.
+    #[default]
+    Annual,
+    /// Energy in the layout's worst month.
+    WorstMonth,
+    /// Energy in the three months with the least horizontal insolation.
+    Winter,
+    /// Energy while the sun is low (below the plan's low-sun elevation).
+    LowSun,
+}
+
+impl From<ByArg> for Criterion {
+    fn from(b: ByArg) -> Self {
+        match b {
+            ByArg::Annual => Criterion::Annual,
+            ByArg::WorstMonth => Criterion::WorstMonth,
+            ByArg::Winter => Criterion::Winter,
+            ByArg::LowSun => Criterion::LowSun,
+        }
+    }
 }
 
 #[derive(Debug, Clone, Copy, ValueEnum, Default, PartialEq, Eq)]
@@ -105,6 +133,7 @@ impl Cli {
             None => Request::Rank(RankRequest {
                 plan: PlanSource::Demo,
                 format: self.demo.format.into(),
+                criterion: self.demo.by.into(),
                 quiet: self.demo.quiet,
             }),
             Some(Command::Rank(a)) => Request::Rank(RankRequest {
@@ -114,6 +143,7 @@ impl Cli {
                     PlanSource::File(a.plan)
                 },
                 format: a.output.format.into(),
+                criterion: a.output.by.into(),
                 quiet: a.output.quiet,
             }),
             Some(Command::Template) => Request::Template,

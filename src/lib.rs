@@ -17,8 +17,12 @@
 
 pub mod error;
 pub mod io;
+pub mod layouts;
+pub mod limits;
+pub mod phase2;
 pub mod physics;
 pub mod plan;
+pub mod rank;
 pub mod report;
 pub mod sample_weather;
 pub mod simulate;
@@ -59,6 +63,7 @@ pub enum OutputFormat {
 pub struct RankRequest {
     pub plan: PlanSource,
     pub format: OutputFormat,
+    pub criterion: rank::Criterion,
     pub quiet: bool,
 }
 
@@ -139,17 +144,87 @@ pub fn load(source: &PlanSource) -> Result<Loaded, Error> {
     Ok(Loaded { plan, weather, site })
 }
 
-fn rank(r: &RankRequest) -> Result<Outcome, Error> {
-    let loaded = load(&r.plan)?;
-    let conditions = simulate::phase1(&loaded.plan, &loaded.weather, &loaded.site);
-    let group_ids: Vec<String> = loaded.plan.groups.iter().map(|g| g.id.clone()).collect();
+/// Everything a ranking run produced, for the report writers.
+#[derive(Clone, Debug)]
+pub struct RankResult {
+    pub loaded: Loaded,
+    pub criterion: rank::Criterion,
+    pub temps: limits::DesignTemperatures,
+    pub horizontal_kwh_m2: [f64; 12],
+    pub months_present: [bool; 12],
+    pub winter_months: Vec<usize>,
+    pub light: Vec<tally::GroupMonthly>,
+    /// Ranked layouts first (best first), then rejected ones.
+    pub outcomes: Vec<rank::LayoutOutcome>,
+}
+
+/// The temperatures the limit checks use: the weather's extremes widened by the plan's design
+/// values.
+pub fn design_temperatures(plan: &Plan, weather: &Weather) -> limits::DesignTemperatures {
+    let (lo, hi) = weather
+        .air_temp_c
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &t| (a.min(t), b.max(t)));
+    limits::DesignTemperatures {
+        min_air_c: plan.site.design_min_air_c.map_or(lo, |d| d.min(lo)),
+        max_air_c: plan.site.design_max_air_c.map_or(hi, |d| d.max(hi)),
+    }
+}
+
+/// Loads, checks, simulates and ranks.
+///
+/// # Errors
+/// As [`load`].
+pub fn simulate_and_rank(source: &PlanSource, criterion: rank::Criterion, parallel: bool) -> Result<RankResult, Error> {
+    let loaded = load(source)?;
+    let plan = &loaded.plan;
+    let temps = design_temperatures(plan, &loaded.weather);
+    let candidates = layouts::listed(plan);
+    let mut outcomes: Vec<rank::LayoutOutcome> = candidates
+        .into_iter()
+        .map(|layout| rank::LayoutOutcome {
+            findings: limits::check_layout(plan, &layout, &temps),
+            layout,
+            energy: None,
+            rank: None,
+            score_kwh: None,
+        })
+        .collect();
+    let conditions = simulate::phase1(plan, &loaded.weather, &loaded.site);
+    let passing: Vec<&layouts::Layout> = outcomes.iter().filter(|o| !o.rejected()).map(|o| &o.layout).collect();
+    let energies = phase2::run(plan, &conditions, &passing, parallel);
+    let mut energies = energies.into_iter();
+    for o in outcomes.iter_mut().filter(|o| !o.rejected()) {
+        o.energy = energies.next();
+    }
+    let group_ids: Vec<String> = plan.groups.iter().map(|g| g.id.clone()).collect();
     let light = tally::group_monthly(&conditions, &group_ids);
-    let horizontal = tally::horizontal_monthly_kwh_m2(&conditions);
-    let present = tally::months_present(&conditions);
-    let mut out = Outcome {
-        warnings: loaded.weather.warnings.iter().map(|w| w.to_string()).collect(),
-        ..Outcome::default()
+    let horizontal_kwh_m2 = tally::horizontal_monthly_kwh_m2(&conditions);
+    let months_present = tally::months_present(&conditions);
+    let winter_months = rank::winter_months(&horizontal_kwh_m2, &months_present);
+    rank::rank(&mut outcomes, criterion, &months_present, &winter_months);
+    Ok(RankResult {
+        loaded,
+        criterion,
+        temps,
+        horizontal_kwh_m2,
+        months_present,
+        winter_months,
+        light,
+        outcomes,
+    })
+}
+
+fn rank(r: &RankRequest) -> Result<Outcome, Error> {
+    let result = simulate_and_rank(&r.plan, r.criterion, true)?;
+    let nothing_passed = result.outcomes.iter().all(|o| o.rank.is_none());
+    let stdout = match r.format {
+        OutputFormat::Table => report::ranking(&result),
+        OutputFormat::Json => io::json::ranking_json(&result)?,
     };
-    out.stdout = report::light_table(&loaded, &horizontal, &present, &light);
-    Ok(out)
+    Ok(Outcome {
+        stdout,
+        warnings: result.loaded.weather.warnings.iter().map(|w| w.to_string()).collect(),
+        nothing_passed,
+    })
 }

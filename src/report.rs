@@ -9,8 +9,10 @@ use chrono::{Duration, NaiveDate, NaiveDateTime};
 
 use crate::error::Error;
 use crate::physics::sun::{self, Atmosphere, Observer};
+use crate::limits::Severity;
+use crate::phase2::Step;
 use crate::tally::GroupMonthly;
-use crate::{Loaded, Outcome, SunpathRequest};
+use crate::{Loaded, Outcome, RankResult, SunpathRequest};
 
 const MONTHS: [&str; 12] = [
     "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec",
@@ -40,17 +42,188 @@ fn site_header(out: &mut String, l: &Loaded) {
     );
 }
 
+/// The ranking table, the rejected layouts with their reasons, the loss steps of the ranked
+/// layouts, the light on each orientation and the cautions.
+pub fn ranking(r: &RankResult) -> String {
+    let mut out = String::new();
+    site_header(&mut out, &r.loaded);
+    let plan = &r.loaded.plan;
+    let _ = writeln!(
+        out,
+        "{} modules, battery {:.1} V; limits checked at {:.0} °C (coldest) and {:.0} °C (hottest air)",
+        plan.modules.len(),
+        plan.battery.charge_v,
+        r.temps.min_air_c,
+        r.temps.max_air_c
+    );
+    let ranked: Vec<_> = r.outcomes.iter().filter(|o| o.rank.is_some()).collect();
+    let rejected: Vec<_> = r.outcomes.iter().filter(|o| o.rank.is_none()).collect();
+    let _ = writeln!(out);
+    let winter: Vec<&str> = r.winter_months.iter().map(|&m| MONTHS[m]).collect();
+    let _ = writeln!(
+        out,
+        "Ranked by {}{} — {} layouts ranked, {} rejected",
+        r.criterion.describe(),
+        if r.criterion == crate::rank::Criterion::Winter {
+            format!(" ({})", winter.join(", "))
+        } else {
+            String::new()
+        },
+        ranked.len(),
+        rejected.len()
+    );
+    let name_w = r
+        .outcomes
+        .iter()
+        .map(|o| o.layout.display_name().chars().count())
+        .max()
+        .unwrap_or(6)
+        .clamp(6, 60);
+    let _ = writeln!(
+        out,
+        "{:>4}  {:<name_w$}  {:>9} {:>8} {:>10} {:>6} {:>9} {:>7}  {}",
+        "rank", "layout", "score kWh", "vs best", "annual kWh", "worst", "low-sun", "awake h", "notes"
+    );
+    let best = ranked.first().and_then(|o| o.score_kwh).unwrap_or(0.0);
+    for o in &ranked {
+        let Some(e) = &o.energy else { continue };
+        let score = o.score_kwh.unwrap_or(0.0);
+        let vs = if best > 0.0 {
+            format!("{:+.1}%", (score / best - 1.0) * 100.0)
+        } else {
+            "-".to_string()
+        };
+        let kwh = e.monthly_kwh();
+        let (worst_m, worst) = (0..12)
+            .filter(|&m| r.months_present[m])
+            .map(|m| (m, kwh[m]))
+            .fold((0, f64::INFINITY), |a, b| if b.1 < a.1 { b } else { a });
+        let mut notes: Vec<String> = o
+            .findings
+            .iter()
+            .filter(|f| f.severity == Severity::Warn)
+            .map(|f| f.rule.to_string())
+            .collect();
+        if o.layout.modules_used < plan.modules.len() {
+            notes.insert(0, format!("uses {} of {}", o.layout.modules_used, plan.modules.len()));
+        }
+        if o.layout.mixed_orientation {
+            notes.insert(0, "mixed orientations".to_string());
+        }
+        let _ = writeln!(
+            out,
+            "{:>4}  {:<name_w$}  {:>9.1} {:>8} {:>10.1} {:>6} {:>9.1} {:>7.0}  {}",
+            o.rank.unwrap_or(0),
+            o.layout.display_name(),
+            score,
+            vs,
+            e.annual_delivered_kwh(),
+            format!("{worst:.1}{}", &MONTHS[worst_m][..1]),
+            e.low_sun_wh.iter().sum::<f64>() / 1000.0,
+            e.awake_h.iter().sum::<f64>(),
+            notes.join(", ")
+        );
+    }
+    if ranked.is_empty() {
+        let _ = writeln!(out, "      (no layout passes the electrical limits)");
+    }
+    let _ = writeln!(out, "  worst = that layout's lowest month (kWh, initial of the month); low-sun = sun below {:.0}°", plan.model.low_sun_elevation_deg);
+
+    if !rejected.is_empty() {
+        let _ = writeln!(out);
+        let _ = writeln!(out, "Rejected (never ranked):");
+        for o in &rejected {
+            let _ = writeln!(out, "  {}", o.layout.display_name());
+            for f in o.findings.iter().filter(|f| f.severity == Severity::Reject) {
+                let _ = writeln!(out, "    ✗ {}: {}", f.rule, f.message);
+            }
+        }
+    }
+    let warned: Vec<_> = ranked
+        .iter()
+        .filter(|o| o.findings.iter().any(|f| f.severity == Severity::Warn))
+        .collect();
+    if !warned.is_empty() {
+        let _ = writeln!(out);
+        let _ = writeln!(out, "Warnings on ranked layouts:");
+        for o in warned {
+            for f in o.findings.iter().filter(|f| f.severity == Severity::Warn) {
+                let _ = writeln!(out, "  {}: {}: {}", o.layout.display_name(), f.rule, f.message);
+            }
+        }
+    }
+
+    if !ranked.is_empty() {
+        let _ = writeln!(out);
+        let _ = writeln!(out, "Monthly energy into the battery, kWh");
+        let _ = write!(out, "{:<name_w$}", "");
+        for m in MONTHS {
+            let _ = write!(out, "{m:>6}");
+        }
+        let _ = writeln!(out);
+        for o in &ranked {
+            let Some(e) = &o.energy else { continue };
+            let _ = write!(out, "{:<name_w$}", o.layout.display_name());
+            for (m, v) in e.monthly_kwh().iter().enumerate() {
+                if r.months_present[m] {
+                    let _ = write!(out, "{v:>6.1}");
+                } else {
+                    let _ = write!(out, "{:>6}", "-");
+                }
+            }
+            let _ = writeln!(out);
+        }
+        let _ = writeln!(out);
+        let _ = writeln!(out, "Where the energy goes over the year, kWh (potential = light on the wired modules × STC efficiency)");
+        let _ = write!(out, "{:<name_w$} {:>9}", "", "potential");
+        for s in Step::ALL {
+            let _ = write!(out, " {:>9}", short_step(s));
+        }
+        let _ = writeln!(out, " {:>9}", "delivered");
+        for o in &ranked {
+            let Some(e) = &o.energy else { continue };
+            let _ = write!(out, "{:<name_w$} {:>9.1}", o.layout.display_name(), e.potential_wh.iter().sum::<f64>() / 1000.0);
+            for k in 0..Step::ALL.len() {
+                let _ = write!(out, " {:>9.1}", e.step_total_wh(k) / 1000.0);
+            }
+            let _ = writeln!(out, " {:>9.1}", e.annual_delivered_kwh());
+        }
+    }
+    let _ = writeln!(out);
+    out.push_str(&light_section(r));
+    let _ = writeln!(out);
+    let _ = writeln!(out, "{CAUTIONS}");
+    out
+}
+
+fn short_step(s: Step) -> &'static str {
+    match s {
+        Step::Incidence => "incidence",
+        Step::Soiling => "soiling",
+        Step::Shading => "shading",
+        Step::TemperatureLowLight => "temp/low",
+        Step::Mismatch => "mismatch",
+        Step::Cables => "cables",
+        Step::WindowStartup => "window",
+        Step::InputLimit => "in-limit",
+        Step::Clipping => "clipping",
+        Step::Conversion => "convert",
+    }
+}
+
+fn light_section(r: &RankResult) -> String {
+    light_rows(&r.loaded, &r.horizontal_kwh_m2, &r.months_present, &r.light)
+}
+
 /// Light on each orientation group, month by month: plane-of-array insolation, the share lost
 /// to incidence angle and the mean daytime cell temperature.
-pub fn light_table(
+fn light_rows(
     l: &Loaded,
     horizontal_kwh_m2: &[f64; 12],
     present: &[bool; 12],
     groups: &[GroupMonthly],
 ) -> String {
     let mut out = String::new();
-    site_header(&mut out, l);
-    let _ = writeln!(out);
     let _ = writeln!(
         out,
         "Light on each orientation, month by month (sky model: {:?})",
@@ -110,8 +283,6 @@ pub fn light_table(
         row(&mut out, "  incidence loss %", &iam, 1, Some(year_iam));
         row(&mut out, "  daytime cell °C", &g.mean_daytime_cell_c, 1, None);
     }
-    let _ = writeln!(out);
-    let _ = writeln!(out, "{CAUTIONS}");
     out
 }
 

@@ -194,7 +194,8 @@ pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
             let surface = Surface {
                 tilt_deg: g.tilt_deg,
                 azimuth_deg: g.azimuth_deg,
-            };
+            }
+            .prepare();
             let factors = sky::iam_factors(&plan.model.glass, g.tilt_deg);
             let mut out = GroupConditions {
                 poa: Vec::with_capacity(n),
@@ -209,7 +210,7 @@ pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
                             .albedo_frac
                             .as_ref()
                             .map_or_else(|| plan.model.albedo.for_month(info.month), |a| a[k]);
-                        let poa = sky::poa_parts(plan.model.sky, &surface, state, albedo);
+                        let poa = sky::poa_parts_prepared(plan.model.sky, &surface, state, albedo);
                         let after = sky::apply_iam(&poa, &plan.model.glass, &factors);
                         (poa, after)
                     }

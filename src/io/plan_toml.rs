@@ -639,10 +639,10 @@ fn validate_group(ctx: &Ctx, id: &str, g: &S<RawGroup>, types: &[ModuleType]) ->
     let azimuth_deg = ctx.range(&r.azimuth_deg, &k("azimuth_deg"), 0.0, 360.0)?;
     let thermal_name = r.thermal.as_ref().map_or("sandia-open-rack-glass-polymer", |t| t.get_ref().as_str());
     let thermal = match thermal_name {
-        "sandia-open-rack-glass-glass" => CellTemperatureModel::SANDIA_OPEN_RACK_GLASS_GLASS,
-        "sandia-close-roof-glass-glass" => CellTemperatureModel::SANDIA_CLOSE_ROOF_GLASS_GLASS,
-        "sandia-open-rack-glass-polymer" => CellTemperatureModel::SANDIA_OPEN_RACK_GLASS_POLYMER,
-        "sandia-insulated-back-glass-polymer" => CellTemperatureModel::SANDIA_INSULATED_BACK_GLASS_POLYMER,
+        "sandia-open-rack-glass-glass" => CellTemperatureModel::SANDIA_GLASS_GLASS_OPEN_RACK,
+        "sandia-close-roof-glass-glass" => CellTemperatureModel::SANDIA_GLASS_GLASS_CLOSE_ROOF,
+        "sandia-open-rack-glass-polymer" => CellTemperatureModel::SANDIA_GLASS_POLYMER_OPEN_RACK,
+        "sandia-insulated-back-glass-polymer" => CellTemperatureModel::SANDIA_GLASS_POLYMER_INSULATED_BACK,
         "faiman" => CellTemperatureModel::Faiman {
             u0: ctx.opt_range(&r.faiman_u0_w_m2k, &k("faiman_u0_w_m2k"), 1.0, 100.0, 25.0)?,
             u1: ctx.opt_range(&r.faiman_u1_w_s_m3k, &k("faiman_u1_w_s_m3k"), 0.0, 50.0, 6.84)?,
