@@ -1,0 +1,6 @@
+//! The only code that reads or writes files.
+//!
+//! Each submodule owns one file format and turns it into (or out of) the validated types
+//! of the library. Nothing here simulates anything; nothing outside here opens a file.
+
+pub mod weather_csv;
