@@ -29,12 +29,19 @@ fn check_bad(kind: &str, expected: &str) {
     let err = read_weather_csv(&fixture(&name)).expect_err(&name);
     let msg = err.to_string();
     let wanted = format!("{name}{expected}");
-    assert!(msg.contains(&wanted), "{kind}:\n  got:  {msg}\n  want: {wanted}");
+    assert!(
+        msg.contains(&wanted),
+        "{kind}:\n  got:  {msg}\n  want: {wanted}"
+    );
     assert!(
         !msg.ends_with('.'),
         "{kind}: message ends with a period: {msg}"
     );
 }
+
+// Line numbers in the expected messages are counted by hand in each fixture (8 header
+// lines, column names on line 9, data from line 10); value limits are those documented in
+// notebooks-free-docs/weather-format.md.
 
 #[test]
 fn rejects_empty_file() {
@@ -44,25 +51,61 @@ fn rejects_empty_file() {
 #[test]
 fn rejects_header_problems_naming_line_and_key() {
     check_bad("not_format", " line 1: expected `# wirerank weather 1`");
-    check_bad("version", " line 1: weather format version \"2\" is not supported");
-    check_bad("header_syntax", " line 5: header line \"# elevation_m 900\" is not `# key = value`");
+    check_bad(
+        "version",
+        " line 1: weather format version \"2\" is not supported",
+    );
+    check_bad(
+        "header_syntax",
+        " line 5: header line \"# elevation_m 900\" is not `# key = value`",
+    );
     check_bad("unknown_key", " line 6: unknown header key \"timezone\"");
-    check_bad("duplicate_key", " line 9: header key \"interval_min\" is given again (first on line 7)");
-    check_bad("header_value", " line 3: latitude_deg = \"147.2\" is outside -90..=90");
+    check_bad(
+        "duplicate_key",
+        " line 9: header key \"interval_min\" is given again (first on line 7)",
+    );
+    check_bad(
+        "header_value",
+        " line 3: latitude_deg = \"147.2\" is outside -90..=90",
+    );
     check_bad("interval", " line 7: interval_min = \"45\" must divide 60");
-    check_bad("stamp_key", " line 8: stamp = \"middle\" is neither `start` nor `end`");
-    check_bad("missing_interval", ": header key \"interval_min\" is missing; add `# interval_min = 60`");
-    check_bad("missing_stamp", ": header key \"stamp\" is missing; add `# stamp = start`");
-    check_bad("header_after_columns", " line 12: `#` lines must come before the column names");
+    check_bad(
+        "stamp_key",
+        " line 8: stamp = \"middle\" is neither `start` nor `end`",
+    );
+    check_bad(
+        "missing_interval",
+        ": header key \"interval_min\" is missing; add `# interval_min = 60`",
+    );
+    check_bad(
+        "missing_stamp",
+        ": header key \"stamp\" is missing; add `# stamp = start`",
+    );
+    check_bad(
+        "header_after_columns",
+        " line 12: `#` lines must come before the column names",
+    );
 }
 
 #[test]
 fn rejects_column_problems_naming_line_and_column() {
     check_bad("no_columns", ": no line of column names");
-    check_bad("unknown_column", " line 9: unknown column \"wind_kmh\" (column 4)");
-    check_bad("duplicate_column", " line 9: column \"ghi_w_m2\" appears twice");
-    check_bad("missing_column", " line 9: required column \"air_temp_c\" is missing");
-    check_bad("unpaired_dni", " line 9: dni_w_m2 is given without dhi_w_m2");
+    check_bad(
+        "unknown_column",
+        " line 9: unknown column \"wind_kmh\" (column 4)",
+    );
+    check_bad(
+        "duplicate_column",
+        " line 9: column \"ghi_w_m2\" appears twice",
+    );
+    check_bad(
+        "missing_column",
+        " line 9: required column \"air_temp_c\" is missing",
+    );
+    check_bad(
+        "unpaired_dni",
+        " line 9: dni_w_m2 is given without dhi_w_m2",
+    );
     check_bad(
         "unpaired_dhi_values",
         " line 9: dni_w_m2 with values is given without values for dhi_w_m2",
@@ -73,29 +116,68 @@ fn rejects_column_problems_naming_line_and_column() {
 
 #[test]
 fn rejects_cell_problems_naming_line_and_column() {
-    check_bad("empty_cell", " line 14: air_temp_c is empty; every row needs a value");
-    check_bad("not_number", " line 14: air_temp_c = \"abc\" is not a number");
-    check_bad("not_finite", " line 12: ghi_w_m2 = \"NaN\" is not a finite number");
-    check_bad("stamp", " line 12: time_local = \"01/06/2025 10:00\" is not a time like 2025-01-01T00:00");
-    check_bad("feb29", " line 12: time_local = \"2025-02-29T12:00\" is not a time");
+    check_bad(
+        "empty_cell",
+        " line 14: air_temp_c is empty; every row needs a value",
+    );
+    check_bad(
+        "not_number",
+        " line 14: air_temp_c = \"abc\" is not a number",
+    );
+    check_bad(
+        "not_finite",
+        " line 12: ghi_w_m2 = \"NaN\" is not a finite number",
+    );
+    check_bad(
+        "stamp",
+        " line 12: time_local = \"01/06/2025 10:00\" is not a time like 2025-01-01T00:00",
+    );
+    check_bad(
+        "feb29",
+        " line 12: time_local = \"2025-02-29T12:00\" is not a time",
+    );
 }
 
 #[test]
 fn rejects_implausible_values_with_a_hint() {
     // Source: MODEL.md §1 ranges (−90..60 °C); the rest are this crate's documented limits.
-    check_bad("temperature", " line 11: air_temp_c = 291.6 is outside -90..=60 °C (is it in kelvin");
+    check_bad(
+        "temperature",
+        " line 11: air_temp_c = 291.6 is outside -90..=60 °C (is it in kelvin",
+    );
     check_bad("wind", " line 11: wind_m_s = -1.2 is outside 0..=75 m/s");
-    check_bad("albedo", " line 12: albedo_frac = 20 is outside 0..=1 (a fraction, not a percentage)");
-    check_bad("pressure", " line 11: pressure_hpa = 91250 is outside 300..=1100 hPa (is it in Pa");
-    check_bad("negative", " line 13: ghi_w_m2 = -25.3 is negative beyond the 10 W/m²");
-    check_bad("dhi_above_ghi", " line 12: dhi_w_m2 = 180 is above ghi_w_m2 = 150 by more than 5 W/m²");
-    check_bad("dni_above_extraterrestrial", " line 12: dni_w_m2 = 1500 is outside 0..=");
+    check_bad(
+        "albedo",
+        " line 12: albedo_frac = 20 is outside 0..=1 (a fraction, not a percentage)",
+    );
+    check_bad(
+        "pressure",
+        " line 11: pressure_hpa = 91250 is outside 300..=1100 hPa (is it in Pa",
+    );
+    check_bad(
+        "negative",
+        " line 13: ghi_w_m2 = -25.3 is negative beyond the 10 W/m²",
+    );
+    check_bad(
+        "dhi_above_ghi",
+        " line 12: dhi_w_m2 = 180 is above ghi_w_m2 = 150 by more than 5 W/m²",
+    );
+    check_bad(
+        "dni_above_extraterrestrial",
+        " line 12: dni_w_m2 = 1500 is outside 0..=",
+    );
 }
 
 #[test]
 fn rejects_stamp_sequence_problems() {
-    check_bad("off_grid", " line 12: time_local = 2025-06-01T10:30 is not on the 60-minute grid");
-    check_bad("duplicate_stamp", " line 13: time_local = 2025-06-01T10:00 repeats line 12");
+    check_bad(
+        "off_grid",
+        " line 12: time_local = 2025-06-01T10:30 is not on the 60-minute grid",
+    );
+    check_bad(
+        "duplicate_stamp",
+        " line 13: time_local = 2025-06-01T10:00 repeats line 12",
+    );
     check_bad(
         "out_of_order",
         " line 13: time_local = 2025-06-01T09:00 comes before 2025-06-01T10:00 on line 12",
@@ -159,7 +241,9 @@ fn repairs_are_made_and_counted() {
         .warnings
         .iter()
         .any(|x| matches!(x, WeatherWarning::MonthsMissing { missing } if missing.len() == 11)));
-    assert!(w.warnings[0].to_string().starts_with("clamped 3 small negative ghi_w_m2 values to 0"));
+    assert!(w.warnings[0]
+        .to_string()
+        .starts_with("clamped 3 small negative ghi_w_m2 values to 0"));
 
     // Row 36 is 2025-06-02T12:00 (24 rows of day 1, then 12 of day 2).
     assert_eq!(w.stamp_text(36), "2025-06-02T12:00");
@@ -196,14 +280,12 @@ fn repairs_are_made_and_counted() {
 #[test]
 fn reads_quarter_hour_file() {
     let w = read_weather_csv(&fixture("weather_15min.csv")).unwrap();
+    // Source: common practice, no source: 24 h × 4 quarter hours = 96 rows; row 5 starts at 01:15.
     assert_eq!(w.len(), 96);
     assert_eq!(w.interval_s, 900);
     assert_eq!(w.local_hour(5), 1);
     assert_eq!(w.stamp_text(95), "2025-06-21T23:45");
-    assert!(w
-        .local_start_s
-        .windows(2)
-        .all(|p| p[1] - p[0] == 900));
+    assert!(w.local_start_s.windows(2).all(|p| p[1] - p[0] == 900));
     w.check_against_extraterrestrial(47.2, 9.6, 1.0).unwrap();
 }
 
@@ -244,7 +326,8 @@ fn stamp_end_shifts_starts_back_by_one_interval() {
     // Same values, stamps one hour later in the end file: the same intervals.
     assert_eq!(start.local_start_s, end.local_start_s);
     assert_eq!(start.ghi_w_m2, end.ghi_w_m2);
-    // The row stamped 2025-03-02T00:00 (end) is 1 March 23:00–24:00.
+    // Source: the stamp convention's definition (MODEL.md §1): the row stamped
+    // 2025-03-02T00:00 (end) is 1 March 23:00–24:00, day 60 of 2025.
     assert_eq!(end.stamp_text(23), "2025-03-02T00:00");
     assert_eq!(end.local_month(23), 3);
     assert_eq!(end.local_hour(23), 23);
@@ -272,7 +355,10 @@ fn demo_year_reads_whole_and_its_ghi_sum_matches_the_raw_text() {
         .sum();
     let read_sum: f64 = w.ghi_w_m2.iter().sum();
     // Source: recomputed from the raw CSV text in this test; same values, same order.
-    assert!((raw_sum - read_sum).abs() <= 1e-9 * raw_sum, "{raw_sum} vs {read_sum}");
+    assert!(
+        (raw_sum - read_sum).abs() <= 1e-9 * raw_sum,
+        "{raw_sum} vs {read_sum}"
+    );
     w.check_against_extraterrestrial(47.2, 9.6, 1.0).unwrap();
 }
 
@@ -282,7 +368,10 @@ fn demo_year_file_is_what_the_generator_makes() {
     // `cargo run --release --example make_sample_weather -- weather-samples/larchwood-2025.csv`.
     let made = weather_csv_text(&generate(&larchwood_2025(), LARCHWOOD_SEED).unwrap());
     let on_disk = std::fs::read_to_string(demo_path()).unwrap();
-    assert!(made == on_disk, "weather-samples/larchwood-2025.csv is stale");
+    assert!(
+        made == on_disk,
+        "weather-samples/larchwood-2025.csv is stale"
+    );
     assert!(LARCHWOOD_2025_CSV == on_disk);
     let embedded = parse_weather_csv(LARCHWOOD_2025_CSV, "larchwood-2025.csv").unwrap();
     assert_eq!(embedded.len(), 8760);
