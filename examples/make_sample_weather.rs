@@ -33,7 +33,9 @@ fn main() -> ExitCode {
     let (t_min, t_max) = weather
         .air_temp_c
         .iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &t| (lo.min(t), hi.max(t)));
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &t| {
+            (lo.min(t), hi.max(t))
+        });
     eprintln!(
         "wrote {} hourly rows to {}: GHI {ghi_kwh_m2:.0} kWh/m² a year, air {t_min:.1} to {t_max:.1} °C",
         weather.len(),

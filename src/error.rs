@@ -71,7 +71,9 @@ pub enum WeatherError {
     },
 
     /// The same header key twice.
-    #[error("{file} line {line}: header key \"{key}\" is given again (first on line {first_line})")]
+    #[error(
+        "{file} line {line}: header key \"{key}\" is given again (first on line {first_line})"
+    )]
     DuplicateHeaderKey {
         file: String,
         line: usize,

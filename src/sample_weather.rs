@@ -325,7 +325,13 @@ mod tests {
     #[test]
     fn days_from_civil_matches_chrono() {
         // Source: chrono 0.4 as a general-purpose calendar oracle.
-        for (y, m, d) in [(1970, 1, 1), (2025, 1, 1), (2024, 2, 29), (1901, 3, 1), (2099, 12, 31)] {
+        for (y, m, d) in [
+            (1970, 1, 1),
+            (2025, 1, 1),
+            (2024, 2, 29),
+            (1901, 3, 1),
+            (2099, 12, 31),
+        ] {
             let chrono_days = chrono::NaiveDate::from_ymd_opt(y as i32, m as u32, d as u32)
                 .unwrap()
                 .and_hms_opt(0, 0, 0)
@@ -372,6 +378,9 @@ mod tests {
         let annual_kwh_m2: f64 = w.ghi_w_m2.iter().sum::<f64>() / 1000.0;
         // Source: from memory (central European lowland and foothill sites receive roughly
         // 1000–1300 kWh/m² a year on the horizontal); a plausibility band, not a value.
-        assert!((1000.0..=1300.0).contains(&annual_kwh_m2), "{annual_kwh_m2}");
+        assert!(
+            (1000.0..=1300.0).contains(&annual_kwh_m2),
+            "{annual_kwh_m2}"
+        );
     }
 }

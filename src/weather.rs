@@ -261,9 +261,9 @@ impl Weather {
     /// limit = 1.5 · (1/N) Σⱼ G_on(n) · max(cos zⱼ, 0) + 10 W/m², over N equal sub-steps of
     /// the interval (N = interval_s / 300, at least 4; sub-step midpoints), with
     /// cos z = sin φ sin δ + cos φ cos δ cos ω,
-    /// ω = 15° · (solar time − 12 h), solar time = local standard time
-    /// + [4 min/° · (λ − 15° · offset_h) + E] (λ east-positive), n = local day of year.
-    /// The 10 W/m² allowance is [`EXTRATERRESTRIAL_ALLOWANCE_W_M2`].
+    /// ω = 15° · (solar time − 12 h),
+    /// solar time = clock time + [4 min/° · (λ − 15° · offset_h) + E] (λ east-positive),
+    /// n = local day of year. The 10 W/m² allowance is [`EXTRATERRESTRIAL_ALLOWANCE_W_M2`].
     ///
     /// # Source
     /// G_on: Duffie & Beckman 4th ed. eq. 1.4.1b (Spencer 1971); δ: eq. 1.6.1b; E: eq. 1.5.3;
@@ -831,7 +831,8 @@ pub(crate) fn cos_zenith_textbook(
 ) -> f64 {
     let whole_s = local_s.floor() as i64;
     let day_of_year = day_of_year_from_local_s(whole_s) as f64;
-    let clock_h = (whole_s.rem_euclid(SECONDS_PER_DAY) as f64 + (local_s - whole_s as f64)) / 3600.0;
+    let clock_h =
+        (whole_s.rem_euclid(SECONDS_PER_DAY) as f64 + (local_s - whole_s as f64)) / 3600.0;
     let solar_h = solar_time_h(clock_h, day_of_year, longitude_deg, utc_offset_h);
     let hour_angle_deg = 15.0 * (solar_h - 12.0);
     cos_zenith_from_angles(
@@ -854,7 +855,8 @@ pub(crate) fn solar_time_h(
     longitude_deg: f64,
     utc_offset_h: f64,
 ) -> f64 {
-    clock_h + (4.0 * (longitude_deg - 15.0 * utc_offset_h) + equation_of_time_min(day_of_year)) / 60.0
+    clock_h
+        + (4.0 * (longitude_deg - 15.0 * utc_offset_h) + equation_of_time_min(day_of_year)) / 60.0
 }
 
 /// Cosine of the zenith angle from latitude, declination and hour angle.
@@ -864,7 +866,11 @@ pub(crate) fn solar_time_h(
 ///
 /// # Source
 /// Duffie & Beckman 4th ed. eq. 1.6.5.
-pub(crate) fn cos_zenith_from_angles(latitude_deg: f64, declination_deg: f64, hour_angle_deg: f64) -> f64 {
+pub(crate) fn cos_zenith_from_angles(
+    latitude_deg: f64,
+    declination_deg: f64,
+    hour_angle_deg: f64,
+) -> f64 {
     let (phi, delta, omega) = (
         latitude_deg.to_radians(),
         declination_deg.to_radians(),
@@ -1003,7 +1009,10 @@ mod tests {
         // time (printed to the minute: tolerance 0.5 min).
         let solar = solar_time_h(10.5, 34.0, -89.4, -6.0);
         let expected = 10.0 + 19.0 / 60.0;
-        assert!((solar - expected).abs() * 60.0 <= 0.5, "solar time {solar} h");
+        assert!(
+            (solar - expected).abs() * 60.0 <= 0.5,
+            "solar time {solar} h"
+        );
     }
 
     #[test]
@@ -1030,6 +1039,7 @@ mod tests {
         let mut u = unchecked(start, 48, |_| 0.0, |_| -5.0);
         u.stamp = StampConvention::End;
         let w = u.validate().unwrap();
+        // Source: the stamp convention's definition (MODEL.md §1): start = end stamp − interval.
         assert_eq!(w.len(), 48);
         assert_eq!(w.local_start_s[0], local_s(2025, 1, 1, 0, 0));
         assert_eq!(w.local_hour(0), 0);
@@ -1045,6 +1055,7 @@ mod tests {
         let mut u = unchecked(local_s(2026, 1, 1, 0, 0), 1, |_| 0.0, |_| 0.0);
         u.stamp = StampConvention::End;
         let w = u.validate().unwrap();
+        // Source: common practice, no source (calendar): 31 December is day 365 of 2025.
         assert_eq!(w.local_month(0), 12);
         assert_eq!(w.local_day_of_year(0), 365);
         assert_eq!(w.local_hour(0), 23);
@@ -1060,7 +1071,8 @@ mod tests {
         assert!(w.warnings.iter().any(|x| matches!(x,
             WeatherWarning::ClampedNegativeIrradiance { count: 3, most_negative_w_m2, .. }
                 if *most_negative_w_m2 == -2.5)));
-        // Boundary: exactly −10 is still clamped, −10.1 is an error.
+        // Source: this crate's documented clamp limit (NEGATIVE_CLAMP_W_M2, common practice):
+        // exactly −10 is still clamped, −10.1 is an error.
         let ok = unchecked(start, 2, |k| if k == 1 { -10.0 } else { 0.0 }, |_| 0.0);
         assert!(ok.validate().is_ok());
         let bad = unchecked(start, 2, |k| if k == 1 { -10.1 } else { 0.0 }, |_| 0.0);
@@ -1071,6 +1083,8 @@ mod tests {
     #[test]
     fn diffuse_above_global_is_clamped_within_tolerance_and_rejected_beyond() {
         let start = local_s(2025, 6, 1, 10, 0);
+        // Source: this crate's documented tolerance (DIFFUSE_EXCESS_CLAMP_W_M2 = 5 W/m²,
+        // common practice): 4 W/m² over is clamped, 6 W/m² over is an error.
         let mut u = unchecked(start, 2, |_| 300.0, |_| 20.0);
         u.dni_w_m2 = Some(vec![0.0, 0.0]);
         u.dhi_w_m2 = Some(vec![304.0, 300.0]);
@@ -1089,7 +1103,12 @@ mod tests {
     fn short_gap_is_filled_from_neighbouring_days_and_linear_for_temperature() {
         // Three days hourly; rows 30..=32 (06:00–08:00 on day 2) removed.
         let start = local_s(2025, 6, 1, 0, 0);
-        let mut u = unchecked(start, 72, |k| (k % 24) as f64 * 10.0 + (k / 24) as f64, |k| k as f64 * 0.1);
+        let mut u = unchecked(
+            start,
+            72,
+            |k| (k % 24) as f64 * 10.0 + (k / 24) as f64,
+            |k| k as f64 * 0.1,
+        );
         for v in [
             &mut u.stamp_s as &mut dyn VecLike,
             &mut u.line,
@@ -1116,15 +1135,20 @@ mod tests {
     #[test]
     fn gap_of_four_intervals_is_an_error() {
         let start = local_s(2025, 6, 1, 0, 0);
+        // Source: this crate's documented limit (MAX_FILL_INTERVALS = 3).
         let mut u = unchecked(start, 10, |_| 0.0, |_| 0.0);
         u.stamp_s[5..].iter_mut().for_each(|s| *s += 4 * 3600);
         let msg = u.validate().unwrap_err().to_string();
-        assert!(msg.starts_with("t.csv line 15: 4 intervals are missing"), "{msg}");
+        assert!(
+            msg.starts_with("t.csv line 15: 4 intervals are missing"),
+            "{msg}"
+        );
     }
 
     #[test]
     fn extraterrestrial_check_names_line_and_stamp() {
-        // 500 W/m² at 03:00 local in January at 47 °N: the sun is far below the horizon.
+        // Source: common practice, no source: at 03:00 local in January at 47 °N the sun is
+        // far below the horizon, so 500 W/m² must fail.
         let start = local_s(2025, 1, 1, 0, 0);
         let w = unchecked(start, 24, |k| if k == 3 { 500.0 } else { 0.0 }, |_| 0.0)
             .validate()
@@ -1133,7 +1157,10 @@ mod tests {
             .check_against_extraterrestrial(47.2, 9.6, 1.0)
             .unwrap_err()
             .to_string();
-        assert!(msg.starts_with("t.csv line 13: ghi_w_m2 = 500 at 2025-01-01T03:00"), "{msg}");
+        assert!(
+            msg.starts_with("t.csv line 13: ghi_w_m2 = 500 at 2025-01-01T03:00"),
+            "{msg}"
+        );
         assert!(w.check_against_extraterrestrial(95.0, 9.6, 1.0).is_err());
     }
 

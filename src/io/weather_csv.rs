@@ -25,9 +25,7 @@ use polars::prelude::{
 };
 
 use crate::error::WeatherError;
-use crate::weather::{
-    check_interval_min, StampConvention, UncheckedWeather, Weather, WeatherSite,
-};
+use crate::weather::{check_interval_min, StampConvention, UncheckedWeather, Weather, WeatherSite};
 
 /// The first line of every file in this format.
 pub const FORMAT_LINE: &str = "# wirerank weather 1";
@@ -277,7 +275,12 @@ fn header_values(
 
     let name = match get("site_name") {
         Some((_, value, line)) if value.is_empty() => {
-            return Err(bad("site_name", value, *line, "is empty; drop the line or name the site"))
+            return Err(bad(
+                "site_name",
+                value,
+                *line,
+                "is empty; drop the line or name the site",
+            ))
         }
         Some((_, value, _)) => Some(value.clone()),
         None => None,
@@ -309,9 +312,14 @@ fn header_values(
                 .to_string(),
         });
     };
-    let interval_min: i64 = interval_text
-        .parse()
-        .map_err(|_| bad("interval_min", interval_text, *interval_line, "is not a whole number of minutes"))?;
+    let interval_min: i64 = interval_text.parse().map_err(|_| {
+        bad(
+            "interval_min",
+            interval_text,
+            *interval_line,
+            "is not a whole number of minutes",
+        )
+    })?;
     check_interval_min(interval_min)
         .map_err(|reason| bad("interval_min", interval_text, *interval_line, &reason))?;
 
@@ -439,7 +447,11 @@ fn read_cells_with_polars(layout: &Layout, file: &str) -> Result<DataFrame, Weat
 
 /// Third pass: each cell parsed, row by row so that the first problem in the file is the
 /// one reported.
-fn parse_cells(frame: &DataFrame, layout: &Layout, file: &str) -> Result<UncheckedWeather, WeatherError> {
+fn parse_cells(
+    frame: &DataFrame,
+    layout: &Layout,
+    file: &str,
+) -> Result<UncheckedWeather, WeatherError> {
     let csv_error = |e: polars::prelude::PolarsError| WeatherError::Csv {
         file: file.to_string(),
         message: e.to_string(),
@@ -458,9 +470,13 @@ fn parse_cells(frame: &DataFrame, layout: &Layout, file: &str) -> Result<Uncheck
     let n = layout.data_lines.len();
     // An optional column with no value at all counts as absent; one with some values must
     // have all of them (an empty cell there would otherwise mean a silent default).
-    let present: Vec<bool> = cells.iter().map(|c| c.iter().any(Option::is_some)).collect();
+    let present: Vec<bool> = cells
+        .iter()
+        .map(|c| c.iter().any(Option::is_some))
+        .collect();
     let index_of = |name: &str| layout.columns.iter().position(|c| c == name);
-    let used = |name: &str| index_of(name).filter(|&i| present[i] || REQUIRED_COLUMNS.contains(&name));
+    let used =
+        |name: &str| index_of(name).filter(|&i| present[i] || REQUIRED_COLUMNS.contains(&name));
 
     if let (Some(dni), Some(dhi)) = (index_of("dni_w_m2"), index_of("dhi_w_m2")) {
         if present[dni] != present[dhi] {
@@ -566,7 +582,10 @@ pub fn weather_csv_text(w: &Weather) -> String {
     out.push_str(FORMAT_LINE);
     out.push('\n');
     if let Some(name) = &w.site.name {
-        let one_line: String = name.chars().map(|c| if c.is_control() { ' ' } else { c }).collect();
+        let one_line: String = name
+            .chars()
+            .map(|c| if c.is_control() { ' ' } else { c })
+            .collect();
         out.push_str(&format!("# site_name = {}\n", one_line.trim()));
     }
     let site_numbers = [
@@ -650,6 +669,9 @@ mod tests {
 
     const HEAD: &str = "# wirerank weather 1\n# interval_min = 60\n# stamp = start\n";
 
+    // Line numbers below are counted by hand in each test's text (3 header lines, then the
+    // column names on line 4, data from line 5).
+
     fn parse(body: &str) -> Result<Weather, WeatherError> {
         parse_weather_csv(&format!("{HEAD}{body}"), "t.csv")
     }
@@ -661,8 +683,10 @@ mod tests {
 
     #[test]
     fn reads_minimal_file() {
-        let w = parse("time_local,ghi_w_m2,air_temp_c\n2025-01-01T00:00,0,-6.2\n2025-01-01T01:00,0,-6.5\n")
-            .unwrap();
+        let w = parse(
+            "time_local,ghi_w_m2,air_temp_c\n2025-01-01T00:00,0,-6.2\n2025-01-01T01:00,0,-6.5\n",
+        )
+        .unwrap();
         assert_eq!(w.len(), 2);
         assert_eq!(w.air_temp_c, vec![-6.2, -6.5]);
         assert_eq!(w.source_line, vec![5, 6]);
@@ -685,6 +709,14 @@ mod tests {
         assert_eq!(w.source_line, vec![7, 9]);
         let w = parse_weather_csv(text.trim_end(), "t.csv").unwrap();
         assert_eq!(w.len(), 2);
+    }
+
+    #[test]
+    fn quoted_values_are_read_without_quotes() {
+        let w =
+            parse("time_local,ghi_w_m2,air_temp_c\n\"2025-01-01T00:00\",\"0\",\"1.5\"\n").unwrap();
+        assert_eq!(w.air_temp_c, vec![1.5]);
+        assert_eq!(w.stamp_text(0), "2025-01-01T00:00");
     }
 
     #[test]
@@ -722,23 +754,36 @@ mod tests {
 
     #[test]
     fn empty_optional_column_counts_as_absent() {
-        let w = parse("time_local,ghi_w_m2,air_temp_c,albedo_frac,pressure_hpa\n2025-01-01T00:00,0,1,,\n")
-            .unwrap();
+        let w = parse(
+            "time_local,ghi_w_m2,air_temp_c,albedo_frac,pressure_hpa\n2025-01-01T00:00,0,1,,\n",
+        )
+        .unwrap();
         assert!(w.albedo_frac.is_none() && w.pressure_hpa.is_none());
     }
 
     #[test]
     fn header_errors_name_the_line_and_key() {
-        let msg = parse_weather_csv("# wirerank weather 1\n# interval_min = 60\n# colour = red\n", "t.csv")
+        let msg = parse_weather_csv(
+            "# wirerank weather 1\n# interval_min = 60\n# colour = red\n",
+            "t.csv",
+        )
+        .unwrap_err()
+        .to_string();
+        assert!(
+            msg.starts_with("t.csv line 3: unknown header key \"colour\""),
+            "{msg}"
+        );
+        let msg = parse_weather_csv("# wirerank weather 2\n", "t.csv")
             .unwrap_err()
             .to_string();
-        assert!(msg.starts_with("t.csv line 3: unknown header key \"colour\""), "{msg}");
-        let msg = parse_weather_csv("# wirerank weather 2\n", "t.csv").unwrap_err().to_string();
         assert!(msg.contains("version \"2\""), "{msg}");
         let msg = parse_weather_csv("# wirerank weather 1\n# interval_min = 45\n# stamp = start\ntime_local,ghi_w_m2,air_temp_c\n", "t.csv")
             .unwrap_err()
             .to_string();
-        assert!(msg.starts_with("t.csv line 2: interval_min = \"45\" must divide 60"), "{msg}");
+        assert!(
+            msg.starts_with("t.csv line 2: interval_min = \"45\" must divide 60"),
+            "{msg}"
+        );
     }
 
     #[test]
@@ -750,6 +795,9 @@ mod tests {
         assert_eq!(weather_csv_text(&again), text);
         assert_eq!(again.dni_w_m2, w.dni_w_m2);
         assert_eq!(again.air_temp_c, w.air_temp_c);
-        assert!(text.contains("\n2025-06-01T13:00,0,0,0,-0.05,0,1,1000\n"), "{text}");
+        assert!(
+            text.contains("\n2025-06-01T13:00,0,0,0,-0.05,0,1,1000\n"),
+            "{text}"
+        );
     }
 }
