@@ -39,7 +39,7 @@ use crate::weather::Weather;
 /// The bundled demo plan (an invented cabin and system).
 pub const DEMO_PLAN: &str = include_str!("../weather-samples/larchwood-plan.toml");
 /// The bundled demo weather year (an invented site, made by `examples/make_sample_weather.rs`).
-pub const DEMO_WEATHER: &str = include_str!("../weather-samples/larchwood-2025.csv");
+pub const DEMO_WEATHER: &str = sample_weather::LARCHWOOD_2025_CSV;
 /// A commented starter plan (`wirerank template`).
 pub const TEMPLATE_PLAN: &str = include_str!("template.toml");
 
