@@ -3,3 +3,4 @@ pub mod sun;
 pub mod sky;
 pub mod thermal;
 pub mod diode;
+pub mod wiring;
