@@ -12,14 +12,14 @@ use crate::layouts::Layout;
 use crate::physics::controller::ControllerPowers;
 use crate::physics::diode::OperatingParams;
 use crate::physics::wiring::{
-    array_curve, cable_resistance_ohm, string_curve, substring_curve, ArrayCurve, CurrentGrid,
-    SubstringCurve,
+    array_curve, cable_resistance_ohm, string_curve, substring_curve, substring_knees_a, ArrayCurve,
+    CurrentGrid, SubstringCurve,
 };
 use crate::plan::Plan;
 use crate::simulate::Conditions;
 
 /// Points on each interval's shared current grid.
-pub const GRID_POINTS: usize = 120;
+pub const GRID_POINTS: usize = 64;
 
 /// The loss steps of MODEL.md §10, in order.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -99,7 +99,6 @@ impl LayoutEnergy {
 
 /// One distinct substring state in an interval.
 struct SubCurve {
-    params: OperatingParams,
     curve: SubstringCurve,
     mpp_w: f64,
 }
@@ -173,7 +172,15 @@ fn interval_curves(plan: &Plan, cond: &Conditions, k: usize) -> Option<IntervalC
     if i_max <= 0.0 {
         return None;
     }
-    let grid = CurrentGrid::new(i_max * 1.02, GRID_POINTS);
+    let knees: Vec<f64> = params
+        .iter()
+        .zip(&keys)
+        .flat_map(|(p, (group, _))| {
+            let drop = plan.module_types[plan.groups[*group].module_type].bypass_drop_v;
+            substring_knees_a(p, drop)
+        })
+        .collect();
+    let grid = CurrentGrid::with_knees(i_max * 1.02, GRID_POINTS, &knees);
     let curves = params
         .into_iter()
         .zip(&keys)
@@ -182,7 +189,6 @@ fn interval_curves(plan: &Plan, cond: &Conditions, k: usize) -> Option<IntervalC
             SubCurve {
                 curve: substring_curve(&p, drop, &grid),
                 mpp_w: p.max_power_point().p,
-                params: p,
             }
         })
         .collect();
@@ -208,6 +214,14 @@ fn cable_resistances(plan: &Plan, layout: &Layout, air_c: f64) -> (f64, Vec<f64>
         })
         .collect();
     (r_lead, r_main)
+}
+
+/// The highest power anywhere on a curve, W.
+fn max_power_w(c: &ArrayCurve) -> f64 {
+    c.local_maxima(0.0, c.voc_v())
+        .iter()
+        .map(|m| m.p)
+        .fold(0.0, f64::max)
 }
 
 /// Scratch buffers reused across intervals for one layout.
@@ -272,7 +286,7 @@ fn simulate_layout(
         let mut bare_total = 0.0;
         let mut powers = ControllerPowers::default();
         let mut any_awake = false;
-        let mut sum = |a: &mut ControllerPowers, b: &ControllerPowers| {
+        let sum = |a: &mut ControllerPowers, b: &ControllerPowers| {
             a.available_w += b.available_w;
             a.after_window_w += b.after_window_w;
             a.after_input_limit_w += b.after_input_limit_w;
@@ -282,7 +296,7 @@ fn simulate_layout(
         for (wi, w) in layout.inputs.iter().enumerate() {
             let c = &plan.controllers[w.controller];
             build_input_curves(plan, ic, w, r_lead, r_main[wi], &mut scratch);
-            bare_total += scratch.array_bare.max_power_w();
+            bare_total += max_power_w(&scratch.array_bare);
             let p = c.model.operate(&scratch.array, battery_v, &mut awake[wi]);
             any_awake |= p.awake;
             sum(&mut powers, &p);

@@ -4,3 +4,4 @@ pub mod sky;
 pub mod thermal;
 pub mod diode;
 pub mod wiring;
+pub mod controller;
