@@ -1,2 +1,4 @@
 //! Integration tests, compiled into one binary and grouped by topic.
+mod cli;
+mod electrical;
 mod weather;
