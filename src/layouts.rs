@@ -87,7 +87,10 @@ pub fn make_layout(plan: &Plan, label: Option<String>, mut inputs: Vec<InputWiri
 
 /// The layouts the plan lists, in plan order.
 pub fn listed(plan: &Plan) -> Vec<Layout> {
-    plan.layouts.iter().map(|spec| from_spec(plan, spec)).collect()
+    plan.layouts
+        .iter()
+        .map(|spec| from_spec(plan, spec))
+        .collect()
 }
 
 fn from_spec(plan: &Plan, spec: &LayoutSpec) -> Layout {

@@ -140,8 +140,16 @@ pub fn load(source: &PlanSource) -> Result<Loaded, Error> {
         }
     };
     let site = simulate::resolve_site(&plan, &weather)?;
-    weather.check_against_extraterrestrial(site.latitude_deg, site.longitude_deg, site.utc_offset_h)?;
-    Ok(Loaded { plan, weather, site })
+    weather.check_against_extraterrestrial(
+        site.latitude_deg,
+        site.longitude_deg,
+        site.utc_offset_h,
+    )?;
+    Ok(Loaded {
+        plan,
+        weather,
+        site,
+    })
 }
 
 /// Everything a ranking run produced, for the report writers.
@@ -164,7 +172,9 @@ pub fn design_temperatures(plan: &Plan, weather: &Weather) -> limits::DesignTemp
     let (lo, hi) = weather
         .air_temp_c
         .iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &t| (a.min(t), b.max(t)));
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &t| {
+            (a.min(t), b.max(t))
+        });
     limits::DesignTemperatures {
         min_air_c: plan.site.design_min_air_c.map_or(lo, |d| d.min(lo)),
         max_air_c: plan.site.design_max_air_c.map_or(hi, |d| d.max(hi)),
@@ -175,7 +185,11 @@ pub fn design_temperatures(plan: &Plan, weather: &Weather) -> limits::DesignTemp
 ///
 /// # Errors
 /// As [`load`].
-pub fn simulate_and_rank(source: &PlanSource, criterion: rank::Criterion, parallel: bool) -> Result<RankResult, Error> {
+pub fn simulate_and_rank(
+    source: &PlanSource,
+    criterion: rank::Criterion,
+    parallel: bool,
+) -> Result<RankResult, Error> {
     let loaded = load(source)?;
     let plan = &loaded.plan;
     let temps = design_temperatures(plan, &loaded.weather);
@@ -191,7 +205,11 @@ pub fn simulate_and_rank(source: &PlanSource, criterion: rank::Criterion, parall
         })
         .collect();
     let conditions = simulate::phase1(plan, &loaded.weather, &loaded.site);
-    let passing: Vec<&layouts::Layout> = outcomes.iter().filter(|o| !o.rejected()).map(|o| &o.layout).collect();
+    let passing: Vec<&layouts::Layout> = outcomes
+        .iter()
+        .filter(|o| !o.rejected())
+        .map(|o| &o.layout)
+        .collect();
     let energies = phase2::run(plan, &conditions, &passing, parallel);
     let mut energies = energies.into_iter();
     for o in outcomes.iter_mut().filter(|o| !o.rejected()) {
@@ -224,7 +242,13 @@ fn rank(r: &RankRequest) -> Result<Outcome, Error> {
     };
     Ok(Outcome {
         stdout,
-        warnings: result.loaded.weather.warnings.iter().map(|w| w.to_string()).collect(),
+        warnings: result
+            .loaded
+            .weather
+            .warnings
+            .iter()
+            .map(|w| w.to_string())
+            .collect(),
         nothing_passed,
     })
 }

@@ -321,12 +321,26 @@ fn check_input(plan: &Plan, w: &InputWiring, temps: &DesignTemperatures, out: &m
     // the conductor at 25 °C air + the plan's rise.
     let t_cond = 25.0 + plan.cables.conductor_rise_dk;
     let lead = &plan.cables.string_lead;
-    let r_lead = cable_resistance_ohm(lead.conductor, lead.length_m, lead.cross_section_mm2, t_cond);
+    let r_lead = cable_resistance_ohm(
+        lead.conductor,
+        lead.length_m,
+        lead.cross_section_mm2,
+        t_cond,
+    );
     let main = &c.main_run;
-    let r_main = cable_resistance_ohm(main.conductor, main.length_m, main.cross_section_mm2, t_cond);
+    let r_main = cable_resistance_ohm(
+        main.conductor,
+        main.length_m,
+        main.cross_section_mm2,
+        t_cond,
+    );
     let imp_string = if p > 0 { imp_sum / p as f64 } else { 0.0 };
     let drop = imp_string * r_lead + imp_sum * r_main;
-    let frac = if vmp_stc_min > 0.0 { drop / vmp_stc_min } else { 0.0 };
+    let frac = if vmp_stc_min > 0.0 {
+        drop / vmp_stc_min
+    } else {
+        0.0
+    };
     if frac > plan.cables.voltage_drop_target_frac {
         push(out, Severity::Warn, "voltage-drop", format!(
                 "{tag}cable voltage drop at STC is {drop:.2} V = {:.1} % of {vmp_stc_min:.1} V, above the {:.1} % target",
@@ -336,8 +350,12 @@ fn check_input(plan: &Plan, w: &InputWiring, temps: &DesignTemperatures, out: &m
 );
     }
     if types_mixed {
-        push(out, Severity::Warn, "mixed-types", format!("{tag}a string mixes module types: its current is set by the weakest"),
-);
+        push(
+            out,
+            Severity::Warn,
+            "mixed-types",
+            format!("{tag}a string mixes module types: its current is set by the weakest"),
+        );
     }
 }
 

@@ -30,7 +30,10 @@ fn main() -> ExitCode {
             }
             let mut out = std::io::stdout().lock();
             // A closed pipe (`wirerank ... | head`) is not an error.
-            match out.write_all(outcome.stdout.as_bytes()).and_then(|_| out.flush()) {
+            match out
+                .write_all(outcome.stdout.as_bytes())
+                .and_then(|_| out.flush())
+            {
                 Ok(()) => {}
                 Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => {}
                 Err(e) => {

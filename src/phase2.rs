@@ -12,8 +12,8 @@ use crate::layouts::Layout;
 use crate::physics::controller::ControllerPowers;
 use crate::physics::diode::OperatingParams;
 use crate::physics::wiring::{
-    array_curve, cable_resistance_ohm, string_curve, substring_curve, substring_knees_a, ArrayCurve,
-    CurrentGrid, SubstringCurve,
+    array_curve, cable_resistance_ohm, string_curve, substring_curve, substring_knees_a,
+    ArrayCurve, CurrentGrid, SubstringCurve,
 };
 use crate::plan::Plan;
 use crate::simulate::Conditions;
@@ -134,7 +134,11 @@ fn schedule_blocked(plan: &Plan, module: usize, sub: usize, month: u32, hour: u3
 fn interval_curves(plan: &Plan, cond: &Conditions, k: usize) -> Option<IntervalCurves> {
     let info = &cond.intervals[k];
     info.sun?;
-    if cond.groups.iter().all(|g| g.effective[k].total_w_m2() <= 0.0) {
+    if cond
+        .groups
+        .iter()
+        .all(|g| g.effective[k].total_w_m2() <= 0.0)
+    {
         return None;
     }
     // Distinct states: (group, blocked fraction bits).
@@ -349,7 +353,12 @@ fn build_input_curves(
 }
 
 /// Runs phase 2 for every layout; `threads = 1` runs single-threaded (benchmarks, checks).
-pub fn run(plan: &Plan, cond: &Conditions, layouts: &[&Layout], parallel: bool) -> Vec<LayoutEnergy> {
+pub fn run(
+    plan: &Plan,
+    cond: &Conditions,
+    layouts: &[&Layout],
+    parallel: bool,
+) -> Vec<LayoutEnergy> {
     let curves: Vec<Option<IntervalCurves>> = if parallel {
         (0..cond.intervals.len())
             .into_par_iter()

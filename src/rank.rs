@@ -52,7 +52,11 @@ impl LayoutOutcome {
 /// The three months (indices 0..12) with the least horizontal insolation among those present.
 pub fn winter_months(horizontal_kwh_m2: &[f64; 12], present: &[bool; 12]) -> Vec<usize> {
     let mut months: Vec<usize> = (0..12).filter(|&m| present[m]).collect();
-    months.sort_by(|&a, &b| horizontal_kwh_m2[a].total_cmp(&horizontal_kwh_m2[b]).then(a.cmp(&b)));
+    months.sort_by(|&a, &b| {
+        horizontal_kwh_m2[a]
+            .total_cmp(&horizontal_kwh_m2[b])
+            .then(a.cmp(&b))
+    });
     months.truncate(3);
     months.sort_unstable();
     months
@@ -74,7 +78,12 @@ pub fn score_kwh(e: &LayoutEnergy, c: Criterion, present: &[bool; 12], winter: &
 
 /// Sets `rank` and `score_kwh` on every passing layout and sorts: ranked first (best first),
 /// then rejected ones in plan order.
-pub fn rank(outcomes: &mut Vec<LayoutOutcome>, c: Criterion, present: &[bool; 12], winter: &[usize]) {
+pub fn rank(
+    outcomes: &mut Vec<LayoutOutcome>,
+    c: Criterion,
+    present: &[bool; 12],
+    winter: &[usize],
+) {
     for o in outcomes.iter_mut() {
         o.score_kwh = o.energy.as_ref().map(|e| score_kwh(e, c, present, winter));
     }
@@ -85,8 +94,14 @@ pub fn rank(outcomes: &mut Vec<LayoutOutcome>, c: Criterion, present: &[bool; 12
             (Some(x), Some(y)) => y
                 .total_cmp(&x)
                 .then_with(|| {
-                    let ea = oa.energy.as_ref().map_or(0.0, LayoutEnergy::annual_delivered_kwh);
-                    let eb = ob.energy.as_ref().map_or(0.0, LayoutEnergy::annual_delivered_kwh);
+                    let ea = oa
+                        .energy
+                        .as_ref()
+                        .map_or(0.0, LayoutEnergy::annual_delivered_kwh);
+                    let eb = ob
+                        .energy
+                        .as_ref()
+                        .map_or(0.0, LayoutEnergy::annual_delivered_kwh);
                     eb.total_cmp(&ea)
                 })
                 .then_with(|| oa.layout.display_name().cmp(&ob.layout.display_name())),
@@ -114,7 +129,9 @@ mod tests {
     fn winter_is_the_three_darkest_present_months() {
         // Source: common practice, no source (definition in the issue: the three months with
         // the least horizontal insolation in the weather file).
-        let h = [20.0, 35.0, 70.0, 110.0, 140.0, 150.0, 155.0, 130.0, 90.0, 55.0, 25.0, 15.0];
+        let h = [
+            20.0, 35.0, 70.0, 110.0, 140.0, 150.0, 155.0, 130.0, 90.0, 55.0, 25.0, 15.0,
+        ];
         assert_eq!(winter_months(&h, &[true; 12]), vec![0, 10, 11]);
         let mut present = [true; 12];
         present[11] = false;

@@ -8,9 +8,9 @@ use std::fmt::Write as _;
 use chrono::{Duration, NaiveDate, NaiveDateTime};
 
 use crate::error::Error;
-use crate::physics::sun::{self, Atmosphere, Observer};
 use crate::limits::Severity;
 use crate::phase2::Step;
+use crate::physics::sun::{self, Atmosphere, Observer};
 use crate::tally::GroupMonthly;
 use crate::{Loaded, Outcome, RankResult, SunpathRequest};
 
@@ -82,7 +82,15 @@ pub fn ranking(r: &RankResult) -> String {
     let _ = writeln!(
         out,
         "{:>4}  {:<name_w$}  {:>9} {:>8} {:>10} {:>6} {:>9} {:>7}  {}",
-        "rank", "layout", "score kWh", "vs best", "annual kWh", "worst", "low-sun", "awake h", "notes"
+        "rank",
+        "layout",
+        "score kWh",
+        "vs best",
+        "annual kWh",
+        "worst",
+        "low-sun",
+        "awake h",
+        "notes"
     );
     let best = ranked.first().and_then(|o| o.score_kwh).unwrap_or(0.0);
     for o in &ranked {
@@ -105,7 +113,10 @@ pub fn ranking(r: &RankResult) -> String {
             .map(|f| f.rule.to_string())
             .collect();
         if o.layout.modules_used < plan.modules.len() {
-            notes.insert(0, format!("uses {} of {}", o.layout.modules_used, plan.modules.len()));
+            notes.insert(
+                0,
+                format!("uses {} of {}", o.layout.modules_used, plan.modules.len()),
+            );
         }
         if o.layout.mixed_orientation {
             notes.insert(0, "mixed orientations".to_string());
@@ -148,7 +159,13 @@ pub fn ranking(r: &RankResult) -> String {
         let _ = writeln!(out, "Warnings on ranked layouts:");
         for o in warned {
             for f in o.findings.iter().filter(|f| f.severity == Severity::Warn) {
-                let _ = writeln!(out, "  {}: {}: {}", o.layout.display_name(), f.rule, f.message);
+                let _ = writeln!(
+                    out,
+                    "  {}: {}: {}",
+                    o.layout.display_name(),
+                    f.rule,
+                    f.message
+                );
             }
         }
     }
@@ -182,7 +199,12 @@ pub fn ranking(r: &RankResult) -> String {
         let _ = writeln!(out, " {:>9}", "delivered");
         for o in &ranked {
             let Some(e) = &o.energy else { continue };
-            let _ = write!(out, "{:<name_w$} {:>9.1}", o.layout.display_name(), e.potential_wh.iter().sum::<f64>() / 1000.0);
+            let _ = write!(
+                out,
+                "{:<name_w$} {:>9.1}",
+                o.layout.display_name(),
+                e.potential_wh.iter().sum::<f64>() / 1000.0
+            );
             for k in 0..Step::ALL.len() {
                 let _ = write!(out, " {:>9.1}", e.step_total_wh(k) / 1000.0);
             }
@@ -281,7 +303,13 @@ fn light_rows(
             0.0
         };
         row(&mut out, "  incidence loss %", &iam, 1, Some(year_iam));
-        row(&mut out, "  daytime cell °C", &g.mean_daytime_cell_c, 1, None);
+        row(
+            &mut out,
+            "  daytime cell °C",
+            &g.mean_daytime_cell_c,
+            1,
+            None,
+        );
     }
     out
 }
@@ -300,9 +328,17 @@ pub fn sunpath(r: &SunpathRequest) -> Result<Outcome, Error> {
         Some(p) => Some(crate::load(&crate::PlanSource::File(p.clone()))?.site),
         None => None,
     };
-    let pick = |given: Option<f64>, plan: Option<f64>, key: &str, lo: f64, hi: f64| -> Result<f64, Error> {
+    let pick = |given: Option<f64>,
+                plan: Option<f64>,
+                key: &str,
+                lo: f64,
+                hi: f64|
+     -> Result<f64, Error> {
         let v = given.or(plan).ok_or_else(|| {
-            Error::Usage(format!("--{} is missing (or give --plan)", key.replace('_', "-")))
+            Error::Usage(format!(
+                "--{} is missing (or give --plan)",
+                key.replace('_', "-")
+            ))
         })?;
         if !v.is_finite() || v < lo || v > hi {
             return Err(Error::Usage(format!(
@@ -312,15 +348,35 @@ pub fn sunpath(r: &SunpathRequest) -> Result<Outcome, Error> {
         }
         Ok(v)
     };
-    let lat = pick(r.latitude_deg, from_plan.as_ref().map(|s| s.latitude_deg), "latitude_deg", -90.0, 90.0)?;
-    let lon = pick(r.longitude_deg, from_plan.as_ref().map(|s| s.longitude_deg), "longitude_deg", -180.0, 180.0)?;
-    let offset = pick(r.utc_offset_h, from_plan.as_ref().map(|s| s.utc_offset_h), "utc_offset_h", -12.0, 14.0)?;
+    let lat = pick(
+        r.latitude_deg,
+        from_plan.as_ref().map(|s| s.latitude_deg),
+        "latitude_deg",
+        -90.0,
+        90.0,
+    )?;
+    let lon = pick(
+        r.longitude_deg,
+        from_plan.as_ref().map(|s| s.longitude_deg),
+        "longitude_deg",
+        -180.0,
+        180.0,
+    )?;
+    let offset = pick(
+        r.utc_offset_h,
+        from_plan.as_ref().map(|s| s.utc_offset_h),
+        "utc_offset_h",
+        -12.0,
+        14.0,
+    )?;
     let elev = r
         .elevation_m
         .or(from_plan.as_ref().map(|s| s.elevation_m))
         .unwrap_or(0.0);
     if !(-500.0..=9000.0).contains(&elev) {
-        return Err(Error::Usage(format!("--elevation-m = {elev} is outside -500..=9000")));
+        return Err(Error::Usage(format!(
+            "--elevation-m = {elev} is outside -500..=9000"
+        )));
     }
     if r.step_min == 0 || r.step_min > 1440 {
         return Err(Error::Usage(format!(
@@ -337,7 +393,9 @@ pub fn sunpath(r: &SunpathRequest) -> Result<Outcome, Error> {
         return Err(Error::Usage(format!("--to {to} is before --date {from}")));
     }
     if (to - from).num_days() > 366 {
-        return Err(Error::Usage("--date .. --to spans more than 366 days".into()));
+        return Err(Error::Usage(
+            "--date .. --to spans more than 366 days".into(),
+        ));
     }
     let observer = Observer {
         latitude_deg: lat,
@@ -356,7 +414,11 @@ pub fn sunpath(r: &SunpathRequest) -> Result<Outcome, Error> {
             out,
             "Sun at {lat:.4}°, {lon:.4}°, {elev:.0} m; local standard time UTC{offset:+} (no daylight saving)"
         );
-        let _ = writeln!(out, "{:<17} {:>10} {:>11}", "time", "elevation°", "azimuth°");
+        let _ = writeln!(
+            out,
+            "{:<17} {:>10} {:>11}",
+            "time", "elevation°", "azimuth°"
+        );
     }
     let start: NaiveDateTime = from.and_hms_opt(0, 0, 0).unwrap_or_default();
     let end: NaiveDateTime = to.and_hms_opt(0, 0, 0).unwrap_or_default() + Duration::days(1);
@@ -364,7 +426,12 @@ pub fn sunpath(r: &SunpathRequest) -> Result<Outcome, Error> {
     let mut t = start;
     while t < end {
         let unix = t.and_utc().timestamp() as f64 - offset * 3600.0;
-        let p = sun::solar_position(unix, &observer, &atmosphere, crate::physics::sun::DELTA_T_DEFAULT_S);
+        let p = sun::solar_position(
+            unix,
+            &observer,
+            &atmosphere,
+            crate::physics::sun::DELTA_T_DEFAULT_S,
+        );
         let el = p.elevation_deg();
         if el <= 0.0 && !r.include_night {
             // Below the horizon: listed only with --all.

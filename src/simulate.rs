@@ -42,7 +42,11 @@ pub enum SiteError {
 /// Latitude, longitude or UTC offset given by neither, or a conflict beyond a small tolerance
 /// (0.01° for angles, 25 m for elevation, exactly for the UTC offset).
 pub fn resolve_site(plan: &Plan, weather: &Weather) -> Result<Site, SiteError> {
-    let pick = |key: &'static str, p: Option<f64>, w: Option<f64>, tol: f64| -> Result<Option<f64>, SiteError> {
+    let pick = |key: &'static str,
+                p: Option<f64>,
+                w: Option<f64>,
+                tol: f64|
+     -> Result<Option<f64>, SiteError> {
         match (p, w) {
             (Some(a), Some(b)) if (a - b).abs() > tol => Err(SiteError::Conflict {
                 key,
@@ -143,10 +147,19 @@ pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
         let start = weather.local_start_s[k] as f64 - offset_s;
         let air = weather.air_temp_c[k];
         let atmosphere = Atmosphere {
-            pressure_hpa: weather.pressure_hpa.as_ref().map_or(default_pressure, |p| p[k]),
+            pressure_hpa: weather
+                .pressure_hpa
+                .as_ref()
+                .map_or(default_pressure, |p| p[k]),
             temperature_c: air,
         };
-        let sun_now = sun::interval_sun(start, start + dt_s, &observer, &atmosphere, plan.model.delta_t_s);
+        let sun_now = sun::interval_sun(
+            start,
+            start + dt_s,
+            &observer,
+            &atmosphere,
+            plan.model.delta_t_s,
+        );
         let ghi = weather.ghi_w_m2[k];
         let mut info = IntervalInfo {
             start_unix_s: start,
@@ -254,8 +267,8 @@ pub fn scale_parts(p: &PoaParts, f: f64) -> PoaParts {
 pub fn day_of_year_utc(unix_s: f64) -> f64 {
     use chrono::Datelike;
     let day_start = (unix_s / 86_400.0).floor();
-    let ordinal = chrono::DateTime::from_timestamp(day_start as i64 * 86_400, 0)
-        .map_or(1, |d| d.ordinal());
+    let ordinal =
+        chrono::DateTime::from_timestamp(day_start as i64 * 86_400, 0).map_or(1, |d| d.ordinal());
     ordinal as f64 + (unix_s / 86_400.0 - day_start)
 }
 

@@ -195,11 +195,7 @@ impl Ctx<'_> {
     fn range(&self, v: &S<f64>, key: &str, lo: f64, hi: f64) -> Result<f64, PlanError> {
         let x = *v.get_ref();
         if !x.is_finite() || x < lo || x > hi {
-            return Err(self.err(
-                v.span(),
-                key,
-                format!("{key} = {x} is outside {lo}..={hi}"),
-            ));
+            return Err(self.err(v.span(), key, format!("{key} = {x} is outside {lo}..={hi}")));
         }
         Ok(x)
     }
@@ -234,11 +230,7 @@ impl Ctx<'_> {
     fn int_range(&self, v: &S<i64>, key: &str, lo: i64, hi: i64) -> Result<i64, PlanError> {
         let x = *v.get_ref();
         if x < lo || x > hi {
-            return Err(self.err(
-                v.span(),
-                key,
-                format!("{key} = {x} is outside {lo}..={hi}"),
-            ));
+            return Err(self.err(v.span(), key, format!("{key} = {x} is outside {lo}..={hi}")));
         }
         Ok(x)
     }
@@ -503,7 +495,11 @@ fn validate_site(ctx: &Ctx, raw: Option<&RawSite>) -> Result<SiteSpec, PlanError
     Ok(site)
 }
 
-fn validate_model(ctx: &Ctx, raw: Option<&RawModel>, albedo: Albedo) -> Result<ModelOptions, PlanError> {
+fn validate_model(
+    ctx: &Ctx,
+    raw: Option<&RawModel>,
+    albedo: Albedo,
+) -> Result<ModelOptions, PlanError> {
     let mut model = ModelOptions {
         sky: SkyModel::Perez,
         glass: GlassCover::DE_SOTO_2006,
@@ -533,12 +529,22 @@ fn validate_model(ctx: &Ctx, raw: Option<&RawModel>, albedo: Albedo) -> Result<M
             90.0,
             15.0,
         )?;
-        model.delta_t_s = ctx.opt_range(&m.delta_t_s, "model.delta_t_s", -1000.0, 1000.0, model.delta_t_s)?;
+        model.delta_t_s = ctx.opt_range(
+            &m.delta_t_s,
+            "model.delta_t_s",
+            -1000.0,
+            1000.0,
+            model.delta_t_s,
+        )?;
     }
     Ok(model)
 }
 
-fn validate_module_type(ctx: &Ctx, id: &str, m: &S<RawModuleType>) -> Result<ModuleType, PlanError> {
+fn validate_module_type(
+    ctx: &Ctx,
+    id: &str,
+    m: &S<RawModuleType>,
+) -> Result<ModuleType, PlanError> {
     let k = |name: &str| format!("module_type.{id}.{name}");
     let r = m.get_ref();
     let pmax_w = ctx.above(&r.pmax_w, &k("pmax_w"), 0.0, 2000.0)?;
@@ -555,10 +561,19 @@ fn validate_module_type(ctx: &Ctx, id: &str, m: &S<RawModuleType>) -> Result<Mod
         return Err(ctx.err(
             r.bypass_diodes.span(),
             &k("bypass_diodes"),
-            format!("{} = {bypass} does not divide cells_in_series = {cells} into equal substrings", k("bypass_diodes")),
+            format!(
+                "{} = {bypass} does not divide cells_in_series = {cells} into equal substrings",
+                k("bypass_diodes")
+            ),
         ));
     }
-    let bypass_drop_v = ctx.opt_range(&r.bypass_drop_v, &k("bypass_drop_v"), 0.1, 2.0, BYPASS_DROP_DEFAULT_V)?;
+    let bypass_drop_v = ctx.opt_range(
+        &r.bypass_drop_v,
+        &k("bypass_drop_v"),
+        0.1,
+        2.0,
+        BYPASS_DROP_DEFAULT_V,
+    )?;
     let noct_c = ctx.range(&r.noct_c, &k("noct_c"), 30.0, 70.0)?;
     let length_m = ctx.above(&r.length_m, &k("length_m"), 0.0, 5.0)?;
     let width_m = ctx.above(&r.width_m, &k("width_m"), 0.0, 5.0)?;
@@ -567,10 +582,18 @@ fn validate_module_type(ctx: &Ctx, id: &str, m: &S<RawModuleType>) -> Result<Mod
 
     // The datasheet's own consistency, before the fit sees it.
     if vmp_v >= voc_v {
-        return Err(ctx.err(r.vmp_v.span(), &k("vmp_v"), format!("{} = {vmp_v} must be below voc_v = {voc_v}", k("vmp_v"))));
+        return Err(ctx.err(
+            r.vmp_v.span(),
+            &k("vmp_v"),
+            format!("{} = {vmp_v} must be below voc_v = {voc_v}", k("vmp_v")),
+        ));
     }
     if imp_a >= isc_a {
-        return Err(ctx.err(r.imp_a.span(), &k("imp_a"), format!("{} = {imp_a} must be below isc_a = {isc_a}", k("imp_a"))));
+        return Err(ctx.err(
+            r.imp_a.span(),
+            &k("imp_a"),
+            format!("{} = {imp_a} must be below isc_a = {isc_a}", k("imp_a")),
+        ));
     }
     let p_check = vmp_v * imp_a;
     if (p_check - pmax_w).abs() > 0.03 * pmax_w {
@@ -600,7 +623,11 @@ fn validate_module_type(ctx: &Ctx, id: &str, m: &S<RawModuleType>) -> Result<Mod
         cells_in_series: cells,
     };
     let reference = fit_de_soto(&datasheet).map_err(|e| {
-        ctx.err(m.span(), &format!("module_type.{id}"), format!("module_type.{id}: the datasheet cannot be fitted: {e}"))
+        ctx.err(
+            m.span(),
+            &format!("module_type.{id}"),
+            format!("module_type.{id}: the datasheet cannot be fitted: {e}"),
+        )
     })?;
     let substring = reference.substring(bypass);
     Ok(ModuleType {
@@ -620,34 +647,64 @@ fn validate_module_type(ctx: &Ctx, id: &str, m: &S<RawModuleType>) -> Result<Mod
     })
 }
 
-fn validate_group(ctx: &Ctx, id: &str, g: &S<RawGroup>, types: &[ModuleType]) -> Result<Group, PlanError> {
+fn validate_group(
+    ctx: &Ctx,
+    id: &str,
+    g: &S<RawGroup>,
+    types: &[ModuleType],
+) -> Result<Group, PlanError> {
     let k = |name: &str| format!("group.{id}.{name}");
     let r = g.get_ref();
     if id.is_empty() || !id.chars().all(|c| c.is_ascii_alphanumeric() || c == '_') {
-        return Err(ctx.err(g.span(), &format!("group.{id}"), format!("group name {id:?} must be letters, digits or _ (module ids are <group>-<n>)")));
+        return Err(ctx.err(
+            g.span(),
+            &format!("group.{id}"),
+            format!("group name {id:?} must be letters, digits or _ (module ids are <group>-<n>)"),
+        ));
     }
-    let module_type = types.iter().position(|t| &t.id == r.module_type.get_ref()).ok_or_else(|| {
-        let known: Vec<&str> = types.iter().map(|t| t.id.as_str()).collect();
-        ctx.err(
-            r.module_type.span(),
-            &k("module_type"),
-            format!("{} = {:?} names no [module_type] table; known: {}", k("module_type"), r.module_type.get_ref(), known.join(", ")),
-        )
-    })?;
+    let module_type = types
+        .iter()
+        .position(|t| &t.id == r.module_type.get_ref())
+        .ok_or_else(|| {
+            let known: Vec<&str> = types.iter().map(|t| t.id.as_str()).collect();
+            ctx.err(
+                r.module_type.span(),
+                &k("module_type"),
+                format!(
+                    "{} = {:?} names no [module_type] table; known: {}",
+                    k("module_type"),
+                    r.module_type.get_ref(),
+                    known.join(", ")
+                ),
+            )
+        })?;
     let count = ctx.int_range(&r.count, &k("count"), 1, 200)? as usize;
     let tilt_deg = ctx.range(&r.tilt_deg, &k("tilt_deg"), 0.0, 90.0)?;
     let azimuth_deg = ctx.range(&r.azimuth_deg, &k("azimuth_deg"), 0.0, 360.0)?;
-    let thermal_name = r.thermal.as_ref().map_or("sandia-open-rack-glass-polymer", |t| t.get_ref().as_str());
+    let thermal_name = r
+        .thermal
+        .as_ref()
+        .map_or("sandia-open-rack-glass-polymer", |t| t.get_ref().as_str());
     let thermal = match thermal_name {
         "sandia-open-rack-glass-glass" => CellTemperatureModel::SANDIA_GLASS_GLASS_OPEN_RACK,
         "sandia-close-roof-glass-glass" => CellTemperatureModel::SANDIA_GLASS_GLASS_CLOSE_ROOF,
         "sandia-open-rack-glass-polymer" => CellTemperatureModel::SANDIA_GLASS_POLYMER_OPEN_RACK,
-        "sandia-insulated-back-glass-polymer" => CellTemperatureModel::SANDIA_GLASS_POLYMER_INSULATED_BACK,
+        "sandia-insulated-back-glass-polymer" => {
+            CellTemperatureModel::SANDIA_GLASS_POLYMER_INSULATED_BACK
+        }
         "faiman" => CellTemperatureModel::Faiman {
             u0: ctx.opt_range(&r.faiman_u0_w_m2k, &k("faiman_u0_w_m2k"), 1.0, 100.0, 25.0)?,
-            u1: ctx.opt_range(&r.faiman_u1_w_s_m3k, &k("faiman_u1_w_s_m3k"), 0.0, 50.0, 6.84)?,
+            u1: ctx.opt_range(
+                &r.faiman_u1_w_s_m3k,
+                &k("faiman_u1_w_s_m3k"),
+                0.0,
+                50.0,
+                6.84,
+            )?,
         },
-        "noct" => CellTemperatureModel::Noct { noct_c: types[module_type].noct_c },
+        "noct" => CellTemperatureModel::Noct {
+            noct_c: types[module_type].noct_c,
+        },
         other => {
             let span = r.thermal.as_ref().map_or(g.span(), |t| t.span());
             return Err(ctx.err(
@@ -661,9 +718,16 @@ fn validate_group(ctx: &Ctx, id: &str, g: &S<RawGroup>, types: &[ModuleType]) ->
         }
     };
     if thermal_name != "faiman" {
-        for (v, name) in [(&r.faiman_u0_w_m2k, "faiman_u0_w_m2k"), (&r.faiman_u1_w_s_m3k, "faiman_u1_w_s_m3k")] {
+        for (v, name) in [
+            (&r.faiman_u0_w_m2k, "faiman_u0_w_m2k"),
+            (&r.faiman_u1_w_s_m3k, "faiman_u1_w_s_m3k"),
+        ] {
             if let Some(v) = v {
-                return Err(ctx.err(v.span(), &k(name), format!("{} is only used with thermal = \"faiman\"", k(name))));
+                return Err(ctx.err(
+                    v.span(),
+                    &k(name),
+                    format!("{} is only used with thermal = \"faiman\"", k(name)),
+                ));
             }
         }
     }
@@ -688,7 +752,11 @@ fn conductor(ctx: &Ctx, v: &Option<S<String>>, key: &str) -> Result<Conductor, P
         Some(s) => match s.get_ref().as_str() {
             "copper" => Ok(Conductor::Copper),
             "aluminium" | "aluminum" => Ok(Conductor::Aluminium),
-            other => Err(ctx.err(s.span(), key, format!("{key} = {other:?} is not known; use \"copper\" or \"aluminium\""))),
+            other => Err(ctx.err(
+                s.span(),
+                key,
+                format!("{key} = {other:?} is not known; use \"copper\" or \"aluminium\""),
+            )),
         },
     }
 }
@@ -702,7 +770,10 @@ fn cross_section(
     whole: std::ops::Range<usize>,
 ) -> Result<(f64, Option<i32>), PlanError> {
     match (mm2, awg) {
-        (Some(m), None) => Ok((ctx.range(m, &format!("{key_prefix}_mm2"), 0.5, 400.0)?, None)),
+        (Some(m), None) => Ok((
+            ctx.range(m, &format!("{key_prefix}_mm2"), 0.5, 400.0)?,
+            None,
+        )),
         (None, Some(a)) => {
             let g = ctx.int_range(a, &format!("{key_prefix}_awg"), -3, 20)? as i32;
             Ok((awg_to_mm2(g), Some(g)))
@@ -724,11 +795,25 @@ fn validate_battery(ctx: &Ctx, b: &RawBattery) -> Result<Battery, PlanError> {
     let nominal_v = ctx.range(&b.nominal_v, "battery.nominal_v", 6.0, 60.0)?;
     // Common practice, no source: lead-acid charging at 2.267 V per 2 V cell (13.6 V on 12 V).
     let default_charge = nominal_v * 13.6 / 12.0;
-    let charge_v = ctx.opt_range(&b.charge_v, "battery.charge_v", nominal_v * 0.9, nominal_v * 1.35, default_charge)?;
-    Ok(Battery { nominal_v, charge_v })
+    let charge_v = ctx.opt_range(
+        &b.charge_v,
+        "battery.charge_v",
+        nominal_v * 0.9,
+        nominal_v * 1.35,
+        default_charge,
+    )?;
+    Ok(Battery {
+        nominal_v,
+        charge_v,
+    })
 }
 
-fn validate_controller(ctx: &Ctx, id: &str, c: &S<RawController>, battery: &Battery) -> Result<ControllerInput, PlanError> {
+fn validate_controller(
+    ctx: &Ctx,
+    id: &str,
+    c: &S<RawController>,
+    battery: &Battery,
+) -> Result<ControllerInput, PlanError> {
     let k = |name: &str| format!("controller.{id}.{name}");
     let r = c.get_ref();
     let max_input_v = ctx.above(&r.max_input_v, &k("max_input_v"), 0.0, 1500.0)?;
@@ -738,7 +823,14 @@ fn validate_controller(ctx: &Ctx, id: &str, c: &S<RawController>, battery: &Batt
     let stop_offset_v = ctx.opt_range(&r.stop_offset_v, &k("stop_offset_v"), 0.0, 50.0, 1.0)?;
     if stop_offset_v > start_offset_v {
         let span = r.stop_offset_v.as_ref().map_or(c.span(), |v| v.span());
-        return Err(ctx.err(span, &k("stop_offset_v"), format!("{} = {stop_offset_v} must not exceed start_offset_v = {start_offset_v}", k("stop_offset_v"))));
+        return Err(ctx.err(
+            span,
+            &k("stop_offset_v"),
+            format!(
+                "{} = {stop_offset_v} must not exceed start_offset_v = {start_offset_v}",
+                k("stop_offset_v")
+            ),
+        ));
     }
     let mppt_only = [
         (&r.mppt_min_v, "mppt_min_v"),
@@ -749,7 +841,16 @@ fn validate_controller(ctx: &Ctx, id: &str, c: &S<RawController>, battery: &Batt
         "mppt" => {
             let mppt_min_v = match &r.mppt_min_v {
                 Some(v) => ctx.range(v, &k("mppt_min_v"), 0.0, max_input_v)?,
-                None => return Err(ctx.err(c.span(), &k("mppt_min_v"), format!("{} is missing (the lowest input voltage the tracker works at)", k("mppt_min_v")))),
+                None => {
+                    return Err(ctx.err(
+                        c.span(),
+                        &k("mppt_min_v"),
+                        format!(
+                            "{} is missing (the lowest input voltage the tracker works at)",
+                            k("mppt_min_v")
+                        ),
+                    ))
+                }
             };
             let mppt_max_v = match &r.mppt_max_v {
                 Some(v) => ctx.range(v, &k("mppt_max_v"), mppt_min_v, max_input_v)?,
@@ -757,7 +858,14 @@ fn validate_controller(ctx: &Ctx, id: &str, c: &S<RawController>, battery: &Batt
             };
             if mppt_max_v <= mppt_min_v {
                 let span = r.mppt_max_v.as_ref().map_or(c.span(), |v| v.span());
-                return Err(ctx.err(span, &k("mppt_max_v"), format!("{} = {mppt_max_v} must be above mppt_min_v = {mppt_min_v}", k("mppt_max_v"))));
+                return Err(ctx.err(
+                    span,
+                    &k("mppt_max_v"),
+                    format!(
+                        "{} = {mppt_max_v} must be above mppt_min_v = {mppt_min_v}",
+                        k("mppt_max_v")
+                    ),
+                ));
             }
             let headroom_v = ctx.opt_range(&r.headroom_v, &k("headroom_v"), 0.0, 50.0, 1.0)?;
             let tracking = match r.tracking.as_ref().map(|t| t.get_ref().as_str()) {
@@ -765,7 +873,14 @@ fn validate_controller(ctx: &Ctx, id: &str, c: &S<RawController>, battery: &Batt
                 Some("local") => TrackerMode::Local,
                 Some(other) => {
                     let span = r.tracking.as_ref().map_or(c.span(), |t| t.span());
-                    return Err(ctx.err(span, &k("tracking"), format!("{} = {other:?} is not known; use \"global\" or \"local\"", k("tracking"))));
+                    return Err(ctx.err(
+                        span,
+                        &k("tracking"),
+                        format!(
+                            "{} = {other:?} is not known; use \"global\" or \"local\"",
+                            k("tracking")
+                        ),
+                    ));
                 }
             };
             let efficiency_curve = match &r.efficiency {
@@ -774,7 +889,11 @@ fn validate_controller(ctx: &Ctx, id: &str, c: &S<RawController>, battery: &Batt
                 Some(e) => efficiency_curve(ctx, e, &k("efficiency"))?,
             };
             if let Some(v) = &r.switch_drop_v {
-                return Err(ctx.err(v.span(), &k("switch_drop_v"), format!("{} applies to kind = \"pwm\" only", k("switch_drop_v"))));
+                return Err(ctx.err(
+                    v.span(),
+                    &k("switch_drop_v"),
+                    format!("{} applies to kind = \"pwm\" only", k("switch_drop_v")),
+                ));
             }
             ControllerModel::Mppt {
                 mppt_min_v,
@@ -791,46 +910,106 @@ fn validate_controller(ctx: &Ctx, id: &str, c: &S<RawController>, battery: &Batt
         "pwm" => {
             for (v, name) in mppt_only {
                 if let Some(v) = v {
-                    return Err(ctx.err(v.span(), &k(name), format!("{} applies to kind = \"mppt\" only", k(name))));
+                    return Err(ctx.err(
+                        v.span(),
+                        &k(name),
+                        format!("{} applies to kind = \"mppt\" only", k(name)),
+                    ));
                 }
             }
             for (present, name, span) in [
-                (r.tracking.is_some(), "tracking", r.tracking.as_ref().map(|t| t.span())),
-                (r.efficiency.is_some(), "efficiency", r.efficiency.as_ref().map(|t| t.span())),
+                (
+                    r.tracking.is_some(),
+                    "tracking",
+                    r.tracking.as_ref().map(|t| t.span()),
+                ),
+                (
+                    r.efficiency.is_some(),
+                    "efficiency",
+                    r.efficiency.as_ref().map(|t| t.span()),
+                ),
             ] {
                 if present {
                     return Err(ctx.err(span.unwrap_or(c.span()), &k(name), format!("{} applies to kind = \"mppt\" only (a PWM controller has no tracker and no conversion)", k(name))));
                 }
             }
             ControllerModel::Pwm {
-                switch_drop_v: ctx.opt_range(&r.switch_drop_v, &k("switch_drop_v"), 0.0, 5.0, 0.2)?,
+                switch_drop_v: ctx.opt_range(
+                    &r.switch_drop_v,
+                    &k("switch_drop_v"),
+                    0.0,
+                    5.0,
+                    0.2,
+                )?,
                 max_input_a,
                 max_charge_a,
             }
         }
         other => {
-            return Err(ctx.err(r.kind.span(), &k("kind"), format!("{} = {other:?} is not known; use \"mppt\" or \"pwm\"", k("kind"))));
+            return Err(ctx.err(
+                r.kind.span(),
+                &k("kind"),
+                format!(
+                    "{} = {other:?} is not known; use \"mppt\" or \"pwm\"",
+                    k("kind")
+                ),
+            ));
         }
     };
     if max_input_v <= battery.charge_v {
-        return Err(ctx.err(r.max_input_v.span(), &k("max_input_v"), format!("{} = {max_input_v} is not above the battery charging voltage {:.1} V", k("max_input_v"), battery.charge_v)));
+        return Err(ctx.err(
+            r.max_input_v.span(),
+            &k("max_input_v"),
+            format!(
+                "{} = {max_input_v} is not above the battery charging voltage {:.1} V",
+                k("max_input_v"),
+                battery.charge_v
+            ),
+        ));
     }
-    let (cross_section_mm2, awg) = cross_section(ctx, &r.main_run_mm2, &r.main_run_awg, &k("main_run"), c.span())?;
+    let (cross_section_mm2, awg) = cross_section(
+        ctx,
+        &r.main_run_mm2,
+        &r.main_run_awg,
+        &k("main_run"),
+        c.span(),
+    )?;
     let main_run = CableRun {
         length_m: ctx.range(&r.main_run_length_m, &k("main_run_length_m"), 0.0, 1000.0)?,
         cross_section_mm2,
         awg,
         conductor: conductor(ctx, &r.main_run_conductor, &k("main_run_conductor"))?,
-        ampacity_a: r.main_run_ampacity_a.as_ref().map(|v| ctx.above(v, &k("main_run_ampacity_a"), 0.0, 1000.0)).transpose()?,
+        ampacity_a: r
+            .main_run_ampacity_a
+            .as_ref()
+            .map(|v| ctx.above(v, &k("main_run_ampacity_a"), 0.0, 1000.0))
+            .transpose()?,
     };
-    Ok(ControllerInput { id: id.to_string(), model, max_input_v, main_run })
+    Ok(ControllerInput {
+        id: id.to_string(),
+        model,
+        max_input_v,
+        main_run,
+    })
 }
 
-fn efficiency_curve(ctx: &Ctx, e: &S<Vec<Vec<f64>>>, key: &str) -> Result<Vec<(f64, f64)>, PlanError> {
+fn efficiency_curve(
+    ctx: &Ctx,
+    e: &S<Vec<Vec<f64>>>,
+    key: &str,
+) -> Result<Vec<(f64, f64)>, PlanError> {
     let mut pts = Vec::new();
     for (n, p) in e.get_ref().iter().enumerate() {
         if p.len() != 2 {
-            return Err(ctx.err(e.span(), key, format!("{key} point {} has {} numbers; write [output_fraction, efficiency]", n + 1, p.len())));
+            return Err(ctx.err(
+                e.span(),
+                key,
+                format!(
+                    "{key} point {} has {} numbers; write [output_fraction, efficiency]",
+                    n + 1,
+                    p.len()
+                ),
+            ));
         }
         let (f, eta) = (p[0], p[1]);
         if !(0.0..=1.0).contains(&f) || !(eta > 0.0 && eta <= 1.0) {
@@ -838,44 +1017,101 @@ fn efficiency_curve(ctx: &Ctx, e: &S<Vec<Vec<f64>>>, key: &str) -> Result<Vec<(f
         }
         if let Some(&(last, _)) = pts.last() {
             if f <= last {
-                return Err(ctx.err(e.span(), key, format!("{key} output fractions must increase (point {} = {f})", n + 1)));
+                return Err(ctx.err(
+                    e.span(),
+                    key,
+                    format!(
+                        "{key} output fractions must increase (point {} = {f})",
+                        n + 1
+                    ),
+                ));
             }
         }
         pts.push((f, eta));
     }
     if pts.is_empty() {
-        return Err(ctx.err(e.span(), key, format!("{key} is empty; give at least one [output_fraction, efficiency] point")));
+        return Err(ctx.err(
+            e.span(),
+            key,
+            format!("{key} is empty; give at least one [output_fraction, efficiency] point"),
+        ));
     }
     Ok(pts)
 }
 
 fn validate_cables(ctx: &Ctx, c: &RawCables) -> Result<Cables, PlanError> {
     let whole = c.string_lead_length_m.span();
-    let (cross_section_mm2, awg) = cross_section(ctx, &c.string_lead_mm2, &c.string_lead_awg, "cables.string_lead", whole)?;
+    let (cross_section_mm2, awg) = cross_section(
+        ctx,
+        &c.string_lead_mm2,
+        &c.string_lead_awg,
+        "cables.string_lead",
+        whole,
+    )?;
     Ok(Cables {
         string_lead: CableRun {
-            length_m: ctx.range(&c.string_lead_length_m, "cables.string_lead_length_m", 0.0, 1000.0)?,
+            length_m: ctx.range(
+                &c.string_lead_length_m,
+                "cables.string_lead_length_m",
+                0.0,
+                1000.0,
+            )?,
             cross_section_mm2,
             awg,
             conductor: conductor(ctx, &c.conductor, "cables.conductor")?,
-            ampacity_a: c.string_lead_ampacity_a.as_ref().map(|v| ctx.above(v, "cables.string_lead_ampacity_a", 0.0, 1000.0)).transpose()?,
+            ampacity_a: c
+                .string_lead_ampacity_a
+                .as_ref()
+                .map(|v| ctx.above(v, "cables.string_lead_ampacity_a", 0.0, 1000.0))
+                .transpose()?,
         },
-        conductor_rise_dk: ctx.opt_range(&c.conductor_rise_dk, "cables.conductor_rise_dk", 0.0, 80.0, 20.0)?,
-        voltage_drop_target_frac: ctx.opt_range(&c.voltage_drop_target_pct, "cables.voltage_drop_target_pct", 0.1, 20.0, 3.0)? / 100.0,
-        blocking_diode_v: c.blocking_diode_v.as_ref().map(|v| ctx.range(v, "cables.blocking_diode_v", 0.0, 2.0)).transpose()?,
+        conductor_rise_dk: ctx.opt_range(
+            &c.conductor_rise_dk,
+            "cables.conductor_rise_dk",
+            0.0,
+            80.0,
+            20.0,
+        )?,
+        voltage_drop_target_frac: ctx.opt_range(
+            &c.voltage_drop_target_pct,
+            "cables.voltage_drop_target_pct",
+            0.1,
+            20.0,
+            3.0,
+        )? / 100.0,
+        blocking_diode_v: c
+            .blocking_diode_v
+            .as_ref()
+            .map(|v| ctx.range(v, "cables.blocking_diode_v", 0.0, 2.0))
+            .transpose()?,
     })
 }
 
-fn int_list(ctx: &Ctx, v: &Option<S<Vec<i64>>>, key: &str, lo: i64, hi: i64, all: std::ops::RangeInclusive<i64>) -> Result<Vec<i64>, PlanError> {
+fn int_list(
+    ctx: &Ctx,
+    v: &Option<S<Vec<i64>>>,
+    key: &str,
+    lo: i64,
+    hi: i64,
+    all: std::ops::RangeInclusive<i64>,
+) -> Result<Vec<i64>, PlanError> {
     match v {
         None => Ok(all.collect()),
         Some(list) => {
             if list.get_ref().is_empty() {
-                return Err(ctx.err(list.span(), key, format!("{key} is empty; leave it out to mean all")));
+                return Err(ctx.err(
+                    list.span(),
+                    key,
+                    format!("{key} is empty; leave it out to mean all"),
+                ));
             }
             for &x in list.get_ref() {
                 if x < lo || x > hi {
-                    return Err(ctx.err(list.span(), key, format!("{key} contains {x}, outside {lo}..={hi}")));
+                    return Err(ctx.err(
+                        list.span(),
+                        key,
+                        format!("{key} contains {x}, outside {lo}..={hi}"),
+                    ));
                 }
             }
             Ok(list.get_ref().clone())
@@ -883,33 +1119,90 @@ fn int_list(ctx: &Ctx, v: &Option<S<Vec<i64>>>, key: &str, lo: i64, hi: i64, all
     }
 }
 
-fn validate_shade(ctx: &Ctx, k: usize, s: &S<RawShade>, modules: &[Module], types: &[ModuleType]) -> Result<ShadeRule, PlanError> {
+fn validate_shade(
+    ctx: &Ctx,
+    k: usize,
+    s: &S<RawShade>,
+    modules: &[Module],
+    types: &[ModuleType],
+) -> Result<ShadeRule, PlanError> {
     let r = s.get_ref();
     let key = |name: &str| format!("shade[{}].{name}", k + 1);
-    let module = modules.iter().position(|m| &m.id == r.module.get_ref()).ok_or_else(|| {
-        ctx.err(r.module.span(), &key("module"), format!("{} = {:?} names no module (module ids are <group>-<n>, e.g. {})", key("module"), r.module.get_ref(), modules.first().map_or("", |m| m.id.as_str())))
-    })?;
+    let module = modules
+        .iter()
+        .position(|m| &m.id == r.module.get_ref())
+        .ok_or_else(|| {
+            ctx.err(
+                r.module.span(),
+                &key("module"),
+                format!(
+                    "{} = {:?} names no module (module ids are <group>-<n>, e.g. {})",
+                    key("module"),
+                    r.module.get_ref(),
+                    modules.first().map_or("", |m| m.id.as_str())
+                ),
+            )
+        })?;
     let b = types[modules[module].module_type].bypass_diodes as i64;
-    let substrings = int_list(ctx, &r.substrings, &key("substrings"), 1, b, 1..=b)?.into_iter().map(|x| (x - 1) as usize).collect();
-    let months = int_list(ctx, &r.months, &key("months"), 1, 12, 1..=12)?.into_iter().map(|x| x as u32).collect();
-    let hours = int_list(ctx, &r.hours, &key("hours"), 0, 23, 0..=23)?.into_iter().map(|x| x as u32).collect();
-    let beam_blocked_frac = ctx.range(&r.beam_blocked_pct, &key("beam_blocked_pct"), 0.0, 100.0)? / 100.0;
-    Ok(ShadeRule { module, substrings, months, hours, beam_blocked_frac })
+    let substrings = int_list(ctx, &r.substrings, &key("substrings"), 1, b, 1..=b)?
+        .into_iter()
+        .map(|x| (x - 1) as usize)
+        .collect();
+    let months = int_list(ctx, &r.months, &key("months"), 1, 12, 1..=12)?
+        .into_iter()
+        .map(|x| x as u32)
+        .collect();
+    let hours = int_list(ctx, &r.hours, &key("hours"), 0, 23, 0..=23)?
+        .into_iter()
+        .map(|x| x as u32)
+        .collect();
+    let beam_blocked_frac =
+        ctx.range(&r.beam_blocked_pct, &key("beam_blocked_pct"), 0.0, 100.0)? / 100.0;
+    Ok(ShadeRule {
+        module,
+        substrings,
+        months,
+        hours,
+        beam_blocked_frac,
+    })
 }
 
-fn validate_layout(ctx: &Ctx, k: usize, l: &S<RawLayout>, modules: &[Module], controllers: &[ControllerInput]) -> Result<LayoutSpec, PlanError> {
+fn validate_layout(
+    ctx: &Ctx,
+    k: usize,
+    l: &S<RawLayout>,
+    modules: &[Module],
+    controllers: &[ControllerInput],
+) -> Result<LayoutSpec, PlanError> {
     let r = l.get_ref();
     let mut used = vec![false; modules.len()];
     let mut inputs = Vec::new();
     if r.strings.is_empty() {
-        return Err(ctx.err(l.span(), &format!("layout[{}].strings", k + 1), format!("layout[{}] has no strings; write strings.<controller> = [[\"group-1\", ...], ...]", k + 1)));
+        return Err(ctx.err(
+            l.span(),
+            &format!("layout[{}].strings", k + 1),
+            format!(
+                "layout[{}] has no strings; write strings.<controller> = [[\"group-1\", ...], ...]",
+                k + 1
+            ),
+        ));
     }
     for (cid, strings) in &r.strings {
         let key = format!("layout[{}].strings.{cid}", k + 1);
-        let ci = controllers.iter().position(|c| &c.id == cid).ok_or_else(|| {
-            let known: Vec<&str> = controllers.iter().map(|c| c.id.as_str()).collect();
-            ctx.err(strings.span(), &key, format!("{key}: {cid:?} names no [controller] table; known: {}", known.join(", ")))
-        })?;
+        let ci = controllers
+            .iter()
+            .position(|c| &c.id == cid)
+            .ok_or_else(|| {
+                let known: Vec<&str> = controllers.iter().map(|c| c.id.as_str()).collect();
+                ctx.err(
+                    strings.span(),
+                    &key,
+                    format!(
+                        "{key}: {cid:?} names no [controller] table; known: {}",
+                        known.join(", ")
+                    ),
+                )
+            })?;
         let list = strings.get_ref();
         if list.is_empty() {
             return Err(ctx.err(strings.span(), &key, format!("{key} has no strings")));
@@ -917,7 +1210,11 @@ fn validate_layout(ctx: &Ctx, k: usize, l: &S<RawLayout>, modules: &[Module], co
         let mut out = Vec::new();
         for (si, st) in list.iter().enumerate() {
             if st.is_empty() {
-                return Err(ctx.err(strings.span(), &key, format!("{key} string {} is empty", si + 1)));
+                return Err(ctx.err(
+                    strings.span(),
+                    &key,
+                    format!("{key} string {} is empty", si + 1),
+                ));
             }
             if st.len() != list[0].len() {
                 return Err(ctx.err(
@@ -932,7 +1229,11 @@ fn validate_layout(ctx: &Ctx, k: usize, l: &S<RawLayout>, modules: &[Module], co
                     ctx.err(strings.span(), &key, format!("{key} names module {id:?}, which the plan does not have (ids are <group>-<n>)"))
                 })?;
                 if used[m] {
-                    return Err(ctx.err(strings.span(), &key, format!("{key} uses module {id:?} twice in one layout")));
+                    return Err(ctx.err(
+                        strings.span(),
+                        &key,
+                        format!("{key} uses module {id:?} twice in one layout"),
+                    ));
                 }
                 used[m] = true;
                 idx.push(m);
@@ -941,5 +1242,8 @@ fn validate_layout(ctx: &Ctx, k: usize, l: &S<RawLayout>, modules: &[Module], co
         }
         inputs.push((ci, out));
     }
-    Ok(LayoutSpec { name: r.name.clone(), inputs })
+    Ok(LayoutSpec {
+        name: r.name.clone(),
+        inputs,
+    })
 }

@@ -151,9 +151,8 @@ impl ControllerModel {
     /// Input current rating, A.
     pub fn max_input_a(&self) -> f64 {
         match self {
-            ControllerModel::Mppt { max_input_a, .. } | ControllerModel::Pwm { max_input_a, .. } => {
-                *max_input_a
-            }
+            ControllerModel::Mppt { max_input_a, .. }
+            | ControllerModel::Pwm { max_input_a, .. } => *max_input_a,
         }
     }
 
@@ -207,9 +206,18 @@ impl ControllerModel {
     ///
     /// # Source
     /// MODEL.md §9 (behaviour common to small charge controllers; no single published source).
-    pub fn operate(&self, curve: &ArrayCurve, battery_v: f64, awake: &mut bool) -> ControllerPowers {
+    pub fn operate(
+        &self,
+        curve: &ArrayCurve,
+        battery_v: f64,
+        awake: &mut bool,
+    ) -> ControllerPowers {
         let voc = curve.voc_v();
-        let available = if voc > 0.0 { best_in(curve, 0.0, voc).0 } else { 0.0 };
+        let available = if voc > 0.0 {
+            best_in(curve, 0.0, voc).0
+        } else {
+            0.0
+        };
         let mut out = ControllerPowers {
             available_w: available,
             ..ControllerPowers::default()
@@ -305,6 +313,135 @@ impl ControllerModel {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::physics::diode::{fit_de_soto, Datasheet, OperatingParams, BYPASS_DROP_DEFAULT_V};
+    use crate::physics::wiring::{
+        array_curve, string_curve, substring_curve, substring_knees_a, CurrentGrid,
+    };
+
+    /// An invented but consistent 36-cell datasheet (no real product), two bypass diodes.
+    fn module_substring(irradiance_w_m2: f64, cell_c: f64) -> OperatingParams {
+        let ds = Datasheet {
+            voc_v: 22.4,
+            isc_a: 7.05,
+            vmp_v: 18.2,
+            imp_a: 6.60,
+            alpha_isc_a_k: 0.0005 * 7.05,
+            beta_voc_v_k: -0.0030 * 22.4,
+            cells_in_series: 36,
+        };
+        fit_de_soto(&ds)
+            .expect("consistent datasheet")
+            .substring(2)
+            .at(irradiance_w_m2, cell_c)
+    }
+
+    /// The terminal curve of `parallel` strings of `series` identical modules.
+    fn curve(series: usize, parallel: usize, g: f64, r_main: f64) -> ArrayCurve {
+        let p = module_substring(g, 25.0);
+        let grid = CurrentGrid::with_knees(
+            p.il_a * 1.02,
+            64,
+            &substring_knees_a(&p, BYPASS_DROP_DEFAULT_V),
+        );
+        let sub = substring_curve(&p, BYPASS_DROP_DEFAULT_V, &grid);
+        let subs: Vec<_> = std::iter::repeat_n(&sub, 2 * series).collect();
+        let mut s = Vec::new();
+        string_curve(&subs, 0.0, None, &grid, &mut s);
+        let strings: Vec<&[f64]> = std::iter::repeat_n(s.as_slice(), parallel).collect();
+        let mut out = ArrayCurve::default();
+        array_curve(&strings, &grid, r_main, &mut out);
+        out
+    }
+
+    fn mppt(max_input_a: f64, max_charge_a: f64) -> ControllerModel {
+        ControllerModel::Mppt {
+            mppt_min_v: 15.0,
+            mppt_max_v: 95.0,
+            headroom_v: 1.0,
+            efficiency_curve: vec![(0.0, 0.96), (1.0, 0.96)],
+            tracking: TrackerMode::Global,
+            start_offset_v: 5.0,
+            stop_offset_v: 1.0,
+            max_input_a,
+            max_charge_a,
+        }
+    }
+
+    #[test]
+    fn never_wakes_when_voc_stays_below_battery_plus_start_offset() {
+        // Source: MODEL.md §9 start-up rule (common practice: battery + 5 V to start). One
+        // 36-cell module (Voc ≈ 22 V) cannot start a 24 V-system controller charging at
+        // 27.2 V, however long it waits.
+        let c = curve(1, 1, 1000.0, 0.0);
+        let ctl = mppt(30.0, 20.0);
+        let mut awake = false;
+        for _ in 0..24 {
+            let p = ctl.operate(&c, 27.2, &mut awake);
+            assert!(!awake && !p.awake);
+            assert_eq!(p.output_w, 0.0);
+        }
+        // The same module wakes a 12 V system (13.6 + 5 = 18.6 V < Voc).
+        let p = ctl.operate(&c, 13.6, &mut awake);
+        assert!(awake && p.output_w > 0.0);
+    }
+
+    #[test]
+    fn clipped_output_never_exceeds_the_charge_limit() {
+        // Source: MODEL.md §9 (output limit = max charge current × battery voltage).
+        let c = curve(2, 3, 1000.0, 0.0);
+        let ctl = mppt(50.0, 10.0);
+        let mut awake = true;
+        let p = ctl.operate(&c, 13.6, &mut awake);
+        assert!(p.output_w <= 10.0 * 13.6 + 1e-9, "{}", p.output_w);
+        assert!(
+            p.input_w < p.after_input_limit_w,
+            "clipping moved the point"
+        );
+        // The clipped point sits on the open-circuit side of the maximum.
+        assert!(c.power_at(p.voltage_v) <= p.input_w + 0.5);
+    }
+
+    #[test]
+    fn input_current_limit_moves_the_point_toward_open_circuit() {
+        // Source: MODEL.md §9 (operating point moves up the curve so that I ≤ limit).
+        let c = curve(1, 4, 1000.0, 0.0);
+        let ctl = mppt(20.0, 100.0);
+        let mut awake = true;
+        let p = ctl.operate(&c, 13.6, &mut awake);
+        assert!(c.current_at(p.voltage_v) <= 20.0 + 1e-6);
+        assert!(p.after_input_limit_w < p.after_window_w);
+    }
+
+    #[test]
+    fn cable_loss_at_the_operating_current_is_i_squared_r() {
+        // Source: Joule's law — the main run shifts each point by I·R, so at equal current the
+        // terminal power is lower by I²R.
+        let r = 0.05;
+        let bare = curve(2, 2, 800.0, 0.0);
+        let with = curve(2, 2, 800.0, r);
+        for k in (0..bare.v.len()).step_by(7) {
+            let (v, i) = (bare.v[k], bare.i[k]);
+            let v_t = with.v[k];
+            assert!((with.i[k] - i).abs() < 1e-12);
+            assert!(((v * i - v_t * i) - i * i * r).abs() < 1e-9);
+        }
+    }
+
+    #[test]
+    fn pwm_holds_the_array_at_battery_voltage() {
+        // Source: MODEL.md §9 (PWM: operating voltage = battery + switch drop, no gain).
+        let c = curve(1, 2, 1000.0, 0.0);
+        let ctl = ControllerModel::Pwm {
+            switch_drop_v: 0.2,
+            max_input_a: 30.0,
+            max_charge_a: 30.0,
+        };
+        let mut awake = false;
+        let p = ctl.operate(&c, 13.6, &mut awake);
+        assert!((p.voltage_v - 13.8).abs() < 1e-12);
+        let i = c.current_at(13.8);
+        assert!((p.output_w - 13.6 * i).abs() < 1e-9);
+    }
 
     #[test]
     fn efficiency_interpolates_and_is_flat_outside() {

@@ -455,7 +455,8 @@ fn fit_residuals(ds: &Datasheet, x: &[f64; 3]) -> Option<[f64; 3]> {
 fn initial_guess(ds: &Datasheet) -> [f64; 3] {
     let vt = module_thermal_voltage_v(ds.cells_in_series);
     let r_scale = ds.voc_v / ds.isc_a;
-    let eg_term = EG_REF_EV * (1.0 - EG_TEMP_COEFF_PER_K * T_REF_K) / (K_OVER_Q_V_K * T_REF_K * T_REF_K);
+    let eg_term =
+        EG_REF_EV * (1.0 - EG_TEMP_COEFF_PER_K * T_REF_K) / (K_OVER_Q_V_K * T_REF_K * T_REF_K);
     let denom = ds.alpha_isc_a_k / ds.isc_a - 3.0 / T_REF_K - eg_term;
     let mut a = (ds.beta_voc_v_k - ds.voc_v / T_REF_K) / denom;
     if !(a.is_finite() && (0.5 * vt..=2.5 * vt).contains(&a)) {
@@ -895,8 +896,18 @@ mod tests {
         let p = fit_de_soto(ds).expect("fit");
         let op = p.at(1000.0, 25.0);
         let mpp = op.max_power_point();
-        assert!(rel(op.isc_a(), ds.isc_a) <= tol, "isc {} vs {}", op.isc_a(), ds.isc_a);
-        assert!(rel(op.voc_v(), ds.voc_v) <= tol, "voc {} vs {}", op.voc_v(), ds.voc_v);
+        assert!(
+            rel(op.isc_a(), ds.isc_a) <= tol,
+            "isc {} vs {}",
+            op.isc_a(),
+            ds.isc_a
+        );
+        assert!(
+            rel(op.voc_v(), ds.voc_v) <= tol,
+            "voc {} vs {}",
+            op.voc_v(),
+            ds.voc_v
+        );
         assert!(rel(mpp.v, ds.vmp_v) <= tol, "vmp {} vs {}", mpp.v, ds.vmp_v);
         assert!(rel(mpp.i, ds.imp_a) <= tol, "imp {} vs {}", mpp.i, ds.imp_a);
         let pmax = ds.vmp_v * ds.imp_a;
@@ -920,8 +931,16 @@ mod tests {
             let p = fit_de_soto(&ds).unwrap();
             let n = p.a_ref_v / module_thermal_voltage_v(ds.cells_in_series);
             assert!((0.9..=1.6).contains(&n), "n = {n}");
-            assert!(p.rs_ohm > 0.0 && p.rs_ohm < 0.1 * ds.voc_v / ds.isc_a, "rs {}", p.rs_ohm);
-            assert!(p.rsh_ref_ohm > 10.0 * ds.voc_v / ds.isc_a, "rsh {}", p.rsh_ref_ohm);
+            assert!(
+                p.rs_ohm > 0.0 && p.rs_ohm < 0.1 * ds.voc_v / ds.isc_a,
+                "rs {}",
+                p.rs_ohm
+            );
+            assert!(
+                p.rsh_ref_ohm > 10.0 * ds.voc_v / ds.isc_a,
+                "rsh {}",
+                p.rsh_ref_ohm
+            );
         }
     }
 
@@ -988,7 +1007,10 @@ mod tests {
         // voltage_at must invert current_at at the same point.
         let back = p.voltage_at(want);
         let dv_tol = 1e-6 * (1.0 + back.abs());
-        assert!((back - v).abs() <= dv_tol.max(1e-6), "i {want}: v {back} vs {v}");
+        assert!(
+            (back - v).abs() <= dv_tol.max(1e-6),
+            "i {want}: v {back} vs {v}"
+        );
     }
 
     #[test]
@@ -1014,7 +1036,10 @@ mod tests {
 
     fn check_w(x: f64, expected: f64) {
         let w = lambert_w0(x);
-        assert!(rel(w, expected) <= 1e-12, "W({x}) = {w}, expected {expected}");
+        assert!(
+            rel(w, expected) <= 1e-12,
+            "W({x}) = {w}, expected {expected}"
+        );
     }
 
     #[test]
@@ -1063,7 +1088,11 @@ mod tests {
     fn check_current_scales(p: &ReferenceParams, s: f64, v: f64, tol: f64) {
         let i_ref = p.at(1000.0, 25.0).current_at(v);
         let i = p.at(s, 25.0).current_at(v);
-        assert!(rel(i / i_ref, s / 1000.0) <= tol, "s {s}: ratio {}", i / i_ref);
+        assert!(
+            rel(i / i_ref, s / 1000.0) <= tol,
+            "s {s}: ratio {}",
+            i / i_ref
+        );
     }
 
     #[test]
@@ -1089,16 +1118,72 @@ mod tests {
     #[test]
     fn inconsistent_datasheets_are_rejected() {
         // Source: MODEL.md §7 (Vmp ≥ Voc, Imp ≥ Isc, fill factor out of range).
-        check_rejects(Datasheet { vmp_v: 22.4, ..ds36() }, "vmp_v = 22.4");
-        check_rejects(Datasheet { imp_a: 6.0, ..ds36() }, "imp_a = 6");
-        check_rejects(Datasheet { vmp_v: 12.0, imp_a: 4.0, ..ds36() }, "fill factor");
-        check_rejects(Datasheet { vmp_v: 21.0, imp_a: 5.85, ..ds36() }, "fill factor");
-        check_rejects(Datasheet { voc_v: f64::NAN, ..ds36() }, "voc_v = NaN");
-        check_rejects(Datasheet { isc_a: -1.0, ..ds36() }, "isc_a = -1");
-        check_rejects(Datasheet { cells_in_series: 0, ..ds36() }, "cells_in_series");
+        check_rejects(
+            Datasheet {
+                vmp_v: 22.4,
+                ..ds36()
+            },
+            "vmp_v = 22.4",
+        );
+        check_rejects(
+            Datasheet {
+                imp_a: 6.0,
+                ..ds36()
+            },
+            "imp_a = 6",
+        );
+        check_rejects(
+            Datasheet {
+                vmp_v: 12.0,
+                imp_a: 4.0,
+                ..ds36()
+            },
+            "fill factor",
+        );
+        check_rejects(
+            Datasheet {
+                vmp_v: 21.0,
+                imp_a: 5.85,
+                ..ds36()
+            },
+            "fill factor",
+        );
+        check_rejects(
+            Datasheet {
+                voc_v: f64::NAN,
+                ..ds36()
+            },
+            "voc_v = NaN",
+        );
+        check_rejects(
+            Datasheet {
+                isc_a: -1.0,
+                ..ds36()
+            },
+            "isc_a = -1",
+        );
+        check_rejects(
+            Datasheet {
+                cells_in_series: 0,
+                ..ds36()
+            },
+            "cells_in_series",
+        );
         // β given in %/K by mistake.
-        check_rejects(Datasheet { beta_voc_v_k: -0.36, ..ds36() }, "beta_voc_v_k = -0.36");
-        check_rejects(Datasheet { alpha_isc_a_k: 0.05, ..ds36() }, "alpha_isc_a_k = 0.05");
+        check_rejects(
+            Datasheet {
+                beta_voc_v_k: -0.36,
+                ..ds36()
+            },
+            "beta_voc_v_k = -0.36",
+        );
+        check_rejects(
+            Datasheet {
+                alpha_isc_a_k: 0.05,
+                ..ds36()
+            },
+            "alpha_isc_a_k = 0.05",
+        );
         // Source: common practice, no source: a fill factor of 0.83 with β −0.45 %/K asks
         // for an ideality above 1.1 (from β) and a knee sharper than that ideality allows
         // (the fit stalls with the shunt at its upper bound).

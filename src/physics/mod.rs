@@ -1,7 +1,7 @@
 //! Pure physics: no file I/O, no polars, no clap, no plotters, no serde.
-pub mod sun;
-pub mod sky;
-pub mod thermal;
-pub mod diode;
-pub mod wiring;
 pub mod controller;
+pub mod diode;
+pub mod sky;
+pub mod sun;
+pub mod thermal;
+pub mod wiring;

@@ -45,7 +45,10 @@ pub fn day_angle_rad(day_of_year: f64) -> f64 {
 /// Any day of year; accurate to about 1e-4.
 pub fn earth_sun_distance_factor(day_of_year: f64) -> f64 {
     let g = day_angle_rad(day_of_year);
-    1.000110 + 0.034221 * g.cos() + 0.001280 * g.sin() + 0.000719 * (2.0 * g).cos()
+    1.000110
+        + 0.034221 * g.cos()
+        + 0.001280 * g.sin()
+        + 0.000719 * (2.0 * g).cos()
         + 0.000077 * (2.0 * g).sin()
 }
 
@@ -90,7 +93,9 @@ pub fn declination_spencer_deg(day_of_year: f64) -> f64 {
 pub fn equation_of_time_min(day_of_year: f64) -> f64 {
     let g = day_angle_rad(day_of_year);
     229.2
-        * (0.000075 + 0.001868 * g.cos() - 0.032077 * g.sin() - 0.014615 * (2.0 * g).cos()
+        * (0.000075 + 0.001868 * g.cos()
+            - 0.032077 * g.sin()
+            - 0.014615 * (2.0 * g).cos()
             - 0.04089 * (2.0 * g).sin())
 }
 
@@ -403,9 +408,14 @@ pub(crate) fn spa_geocentric(unix_s: f64, delta_t_s: f64) -> Geocentric {
     // 3.9–3.10 Geocentric right ascension and declination (eq. 30–31).
     let (sin_lam, cos_lam) = lambda_deg.to_radians().sin_cos();
     let beta = beta_deg.to_radians();
-    let alpha_deg =
-        limit_deg((sin_lam * cos_eps - beta.tan() * sin_eps).atan2(cos_lam).to_degrees());
-    let delta_deg = (beta.sin() * cos_eps + beta.cos() * sin_eps * sin_lam).asin().to_degrees();
+    let alpha_deg = limit_deg(
+        (sin_lam * cos_eps - beta.tan() * sin_eps)
+            .atan2(cos_lam)
+            .to_degrees(),
+    );
+    let delta_deg = (beta.sin() * cos_eps + beta.cos() * sin_eps * sin_lam)
+        .asin()
+        .to_degrees();
 
     // A.1 Equation of time (eq. A1–A2), reduced to −720…720 min (±20 min in practice).
     let m = jme;
@@ -414,8 +424,8 @@ pub(crate) fn spa_geocentric(unix_s: f64, delta_t_s: f64) -> Geocentric {
             + m * (360007.6982779
                 + m * (0.03032028 + m * (1.0 / 49931.0 + m * (-1.0 / 15300.0 - m / 2_000_000.0)))),
     );
-    let mut eot_min =
-        (4.0 * (sun_mean_long - 0.0057183 - alpha_deg + delta_psi_deg * cos_eps)).rem_euclid(1440.0);
+    let mut eot_min = (4.0 * (sun_mean_long - 0.0057183 - alpha_deg + delta_psi_deg * cos_eps))
+        .rem_euclid(1440.0);
     if eot_min > 720.0 {
         eot_min -= 1440.0;
     }
@@ -484,7 +494,10 @@ pub(crate) fn spa_topocentric(
 
     // 3.14 Topocentric zenith angle (eq. 40–44). The refraction correction is applied only
     // while the sun's upper limb can still be above the apparent horizon, as in SPA.
-    let e0_deg = (sin_phi * sin_dp + cos_phi * cos_dp * cos_hp).clamp(-1.0, 1.0).asin().to_degrees();
+    let e0_deg = (sin_phi * sin_dp + cos_phi * cos_dp * cos_hp)
+        .clamp(-1.0, 1.0)
+        .asin()
+        .to_degrees();
     let delta_e_deg = if e0_deg >= -(SUN_RADIUS_DEG + REFRACTION_AT_HORIZON_DEG) {
         (atm.pressure_hpa / 1010.0) * (283.0 / (273.0 + atm.temperature_c)) * 1.02
             / (60.0 * (e0_deg + 10.3 / (e0_deg + 5.11)).to_radians().tan())
@@ -495,8 +508,11 @@ pub(crate) fn spa_topocentric(
     let zenith_deg = 90.0 - e_deg;
 
     // 3.15 Topocentric azimuth (eq. 45–46).
-    let azimuth_astro_deg =
-        limit_deg(sin_hp.atan2(cos_hp * sin_phi - (sin_dp / cos_dp) * cos_phi).to_degrees());
+    let azimuth_astro_deg = limit_deg(
+        sin_hp
+            .atan2(cos_hp * sin_phi - (sin_dp / cos_dp) * cos_phi)
+            .to_degrees(),
+    );
     let azimuth_deg = limit_deg(azimuth_astro_deg + 180.0);
 
     Topocentric {
@@ -575,7 +591,12 @@ impl SpaDetail {
 /// assert!((p.zenith_deg - 50.111622).abs() < 5e-6);
 /// assert!((p.azimuth_deg - 194.340241).abs() < 5e-6);
 /// ```
-pub fn solar_position(unix_s: f64, obs: &Observer, atm: &Atmosphere, delta_t_s: f64) -> SunPosition {
+pub fn solar_position(
+    unix_s: f64,
+    obs: &Observer,
+    atm: &Atmosphere,
+    delta_t_s: f64,
+) -> SunPosition {
     solar_position_detailed(unix_s, obs, atm, delta_t_s).position()
 }
 
@@ -677,7 +698,11 @@ pub fn air_mass_absolute(relative: f64, pressure_hpa: f64) -> f64 {
 ///
 /// # Validity
 /// Geocentric and without refraction: the textbook approximation, not SPA.
-pub fn zenith_azimuth_from_hour_angle_deg(lat_deg: f64, decl_deg: f64, hour_angle_deg: f64) -> (f64, f64) {
+pub fn zenith_azimuth_from_hour_angle_deg(
+    lat_deg: f64,
+    decl_deg: f64,
+    hour_angle_deg: f64,
+) -> (f64, f64) {
     let (sp, cp) = lat_deg.to_radians().sin_cos();
     let (sd, cd) = decl_deg.to_radians().sin_cos();
     let (sw, cw) = hour_angle_deg.to_radians().sin_cos();
@@ -685,7 +710,11 @@ pub fn zenith_azimuth_from_hour_angle_deg(lat_deg: f64, decl_deg: f64, hour_angl
     let zenith_deg = cos_z.acos().to_degrees();
     let num = cd * sw;
     let den = cd * cw * sp - sd * cp;
-    let gamma_s_deg = if num == 0.0 && den == 0.0 { 0.0 } else { num.atan2(den).to_degrees() };
+    let gamma_s_deg = if num == 0.0 && den == 0.0 {
+        0.0
+    } else {
+        num.atan2(den).to_degrees()
+    };
     (zenith_deg, limit_deg(gamma_s_deg + 180.0))
 }
 
@@ -714,7 +743,10 @@ pub fn cos_incidence_from_hour_angle(
     let (sw, cw) = hour_angle_deg.to_radians().sin_cos();
     let (sb, cb) = tilt_deg.to_radians().sin_cos();
     let (sg, cg) = (surface_azimuth_deg - 180.0).to_radians().sin_cos();
-    sd * sp * cb - sd * cp * sb * cg + cd * cp * cb * cw + cd * sp * sb * cg * cw + cd * sb * sg * sw
+    sd * sp * cb - sd * cp * sb * cg
+        + cd * cp * cb * cw
+        + cd * sp * sb * cg * cw
+        + cd * sb * sg * sw
 }
 
 /// Local solar time minus local standard time, minutes.
@@ -731,7 +763,11 @@ pub fn cos_incidence_from_hour_angle(
 /// # Validity
 /// Spencer's E is within about ±0.5 min of the SPA value (see the tests); use
 /// [`solar_position`] where seconds matter.
-pub fn solar_time_offset_min(day_of_year: f64, longitude_deg: f64, standard_meridian_deg: f64) -> f64 {
+pub fn solar_time_offset_min(
+    day_of_year: f64,
+    longitude_deg: f64,
+    standard_meridian_deg: f64,
+) -> f64 {
     4.0 * (longitude_deg - standard_meridian_deg) + equation_of_time_min(day_of_year)
 }
 
@@ -881,7 +917,17 @@ pub(crate) fn find_sun_crossing(
 ) -> f64 {
     let g_lo = spa_geocentric(t_lo, delta_t_s);
     let g_hi = spa_geocentric(t_hi, delta_t_s);
-    find_crossing(t_lo, g_lo, t_hi, g_hi, obs, atm, delta_t_s, threshold_deg, apparent)
+    find_crossing(
+        t_lo,
+        g_lo,
+        t_hi,
+        g_hi,
+        obs,
+        atm,
+        delta_t_s,
+        threshold_deg,
+        apparent,
+    )
 }
 
 /// The sun for one weather interval [start, end): where to evaluate it and how much of the
@@ -941,7 +987,11 @@ pub fn interval_sun(
     // elevation equals e0 < 0.
     let reach = max_elevation_rate_deg_per_h(obs.latitude_deg) * (0.5 * len / 3600.0) + 0.01;
     if mid.topo.e0_deg - reach > 0.0 {
-        return Some(IntervalSun { eval_unix_s: t_mid, sunlit_frac: 1.0, position: mid.position() });
+        return Some(IntervalSun {
+            eval_unix_s: t_mid,
+            sunlit_frac: 1.0,
+            position: mid.position(),
+        });
     }
     if mid.topo.e0_deg + reach < -(SUN_RADIUS_DEG + REFRACTION_AT_HORIZON_DEG) - 1e-4 {
         return None;
@@ -962,7 +1012,11 @@ pub fn interval_sun(
     let (lit_from, lit_to, lit_total) = match (up_start, up_mid, up_end) {
         (false, false, false) => return None,
         (true, true, true) => {
-            return Some(IntervalSun { eval_unix_s: t_mid, sunlit_frac: 1.0, position: mid.position() })
+            return Some(IntervalSun {
+                eval_unix_s: t_mid,
+                sunlit_frac: 1.0,
+                position: mid.position(),
+            })
         }
         // Sunrise inside.
         (false, true, true) => {
@@ -1152,7 +1206,11 @@ const L3: [[f64; 3]; 7] = [
     [1.0, 5.97, 242.73],
 ];
 
-const L4: [[f64; 3]; 3] = [[114.0, 3.142, 0.0], [8.0, 4.13, 6283.08], [1.0, 3.84, 12566.15]];
+const L4: [[f64; 3]; 3] = [
+    [114.0, 3.142, 0.0],
+    [8.0, 4.13, 6283.08],
+    [1.0, 3.84, 12566.15],
+];
 
 const L5: [[f64; 3]; 1] = [[1.0, 3.14, 0.0]];
 
@@ -1378,9 +1436,15 @@ mod tests {
     // 2003-10-17 12:30:30 MST (UTC−7) = 19:30:30 UTC, ΔUT1 0, ΔT 67 s.
     const SPA_EXAMPLE_UNIX_S: f64 = 1_066_419_030.0;
     const SPA_EXAMPLE_DELTA_T_S: f64 = 67.0;
-    const DENVER: Observer =
-        Observer { latitude_deg: 39.742476, longitude_deg: -105.1786, elevation_m: 1830.14 };
-    const DENVER_AIR: Atmosphere = Atmosphere { pressure_hpa: 820.0, temperature_c: 11.0 };
+    const DENVER: Observer = Observer {
+        latitude_deg: 39.742476,
+        longitude_deg: -105.1786,
+        elevation_m: 1830.14,
+    };
+    const DENVER_AIR: Atmosphere = Atmosphere {
+        pressure_hpa: 820.0,
+        temperature_c: 11.0,
+    };
 
     /// Unix time of a UTC calendar instant (proleptic Gregorian; days from civil).
     fn unix(y: i64, mo: i64, d: i64, h: i64, mi: i64, s: i64) -> f64 {
@@ -1398,7 +1462,12 @@ mod tests {
     }
 
     fn spa_example() -> SpaDetail {
-        solar_position_detailed(SPA_EXAMPLE_UNIX_S, &DENVER, &DENVER_AIR, SPA_EXAMPLE_DELTA_T_S)
+        solar_position_detailed(
+            SPA_EXAMPLE_UNIX_S,
+            &DENVER,
+            &DENVER_AIR,
+            SPA_EXAMPLE_DELTA_T_S,
+        )
     }
 
     #[test]
@@ -1459,9 +1528,19 @@ mod tests {
         check("Δe", d.topo.delta_e_deg, 0.016332, 5e-7);
         check("Γ", d.topo.azimuth_astro_deg, 14.340241, 5e-7);
 
-        let p = solar_position(SPA_EXAMPLE_UNIX_S, &DENVER, &DENVER_AIR, SPA_EXAMPLE_DELTA_T_S);
+        let p = solar_position(
+            SPA_EXAMPLE_UNIX_S,
+            &DENVER,
+            &DENVER_AIR,
+            SPA_EXAMPLE_DELTA_T_S,
+        );
         assert_eq!(p.zenith_deg, d.topo.zenith_deg);
-        check("geometric zenith", p.zenith_geometric_deg, 90.0 - 39.872046, 5e-7);
+        check(
+            "geometric zenith",
+            p.zenith_geometric_deg,
+            90.0 - 39.872046,
+            5e-7,
+        );
         check("elevation", p.elevation_deg(), 39.888378, 5e-7);
         assert_eq!(p.declination_deg, d.topo.delta_prime_deg);
     }
@@ -1470,7 +1549,12 @@ mod tests {
     fn spa_example_incidence() {
         // Source: SPA report, worked example: slope 30°, azimuth rotation −10° (east of
         // south) = 170° from north; incidence 25.187000° (text).
-        let p = solar_position(SPA_EXAMPLE_UNIX_S, &DENVER, &DENVER_AIR, SPA_EXAMPLE_DELTA_T_S);
+        let p = solar_position(
+            SPA_EXAMPLE_UNIX_S,
+            &DENVER,
+            &DENVER_AIR,
+            SPA_EXAMPLE_DELTA_T_S,
+        );
         let i = incidence_angle_deg(p.zenith_deg, p.azimuth_deg, 30.0, 170.0);
         check("incidence (task)", i, 25.187000, 5e-4);
         check("incidence", i, 25.187000, 5e-7);
@@ -1530,7 +1614,10 @@ mod tests {
             ];
             let (mut psi, mut eps) = (0.0, 0.0);
             for (y, c) in NUT_Y.iter().zip(NUT_ABCD.iter()) {
-                let arg: f64 = (0..5).map(|j| f64::from(y[j]) * x[j]).sum::<f64>().to_radians();
+                let arg: f64 = (0..5)
+                    .map(|j| f64::from(y[j]) * x[j])
+                    .sum::<f64>()
+                    .to_radians();
                 psi += (c[0] + c[1] * t) * arg.sin();
                 eps += (c[2] + c[3] * t) * arg.cos();
             }
@@ -1560,7 +1647,12 @@ mod tests {
         check("θ", c.acos().to_degrees(), 35.0, 0.5);
         // The zenith/azimuth form (eq. 1.6.3) must agree with eq. 1.6.2.
         let (z, az) = zenith_azimuth_from_hour_angle_deg(43.0, -14.0, -22.5);
-        check("eq. 1.6.3 vs 1.6.2", incidence_angle_deg(z, az, 45.0, 195.0).to_radians().cos(), c, 1e-12);
+        check(
+            "eq. 1.6.3 vs 1.6.2",
+            incidence_angle_deg(z, az, 45.0, 195.0).to_radians().cos(),
+            c,
+            1e-12,
+        );
     }
 
     #[test]
@@ -1638,7 +1730,11 @@ mod tests {
         // Spencer agrees with the table within 0.5° only in Jan–Aug and Dec; Sep, Oct and
         // Nov differ by 1.14°, 1.38° and 0.86°: tolerance 1.5° there.
         for &(n, decl) in &DB_MEAN_DAYS {
-            let tol = if (250.0..330.0).contains(&n) { 1.5 } else { 0.5 };
+            let tol = if (250.0..330.0).contains(&n) {
+                1.5
+            } else {
+                0.5
+            };
             check("Spencer δ vs table", declination_spencer_deg(n), decl, tol);
         }
         // Source: SPA (this module) at 12:00 UTC of the mean days of 2022: the table's
@@ -1700,8 +1796,18 @@ mod tests {
         // a regression guard, not an independent check.
         check("Γ(1)", day_angle_rad(1.0), 0.0, 0.0);
         check("Γ(366)", day_angle_rad(366.0), 2.0 * PI, 1e-15);
-        check("(R0/R)² n=1", earth_sun_distance_factor(1.0), 1.035050, 5e-7);
-        check("G_on n=1", extraterrestrial_normal_w_m2(1.0), 1361.0 * 1.035050, 1e-3);
+        check(
+            "(R0/R)² n=1",
+            earth_sun_distance_factor(1.0),
+            1.035050,
+            5e-7,
+        );
+        check(
+            "G_on n=1",
+            extraterrestrial_normal_w_m2(1.0),
+            1361.0 * 1.035050,
+            1e-3,
+        );
         check("δ n=1", declination_spencer_deg(1.0), -23.0586, 5e-4);
         check("E n=1", equation_of_time_min(1.0), -2.9044, 5e-4);
     }
@@ -1710,9 +1816,17 @@ mod tests {
     fn extraterrestrial_irradiance_range() {
         // Source: Duffie & Beckman 4th ed. §1.4: G_on varies by about ±3.3 % over the year;
         // perihelion in early January, aphelion in early July (text, general knowledge).
-        let v: Vec<f64> = (1..=365).map(|n| extraterrestrial_normal_w_m2(f64::from(n))).collect();
-        let (imax, max) = v.iter().enumerate().fold((0, 0.0f64), |a, (i, &x)| if x > a.1 { (i, x) } else { a });
-        let (imin, min) = v.iter().enumerate().fold((0, f64::MAX), |a, (i, &x)| if x < a.1 { (i, x) } else { a });
+        let v: Vec<f64> = (1..=365)
+            .map(|n| extraterrestrial_normal_w_m2(f64::from(n)))
+            .collect();
+        let (imax, max) = v
+            .iter()
+            .enumerate()
+            .fold((0, 0.0f64), |a, (i, &x)| if x > a.1 { (i, x) } else { a });
+        let (imin, min) =
+            v.iter()
+                .enumerate()
+                .fold((0, f64::MAX), |a, (i, &x)| if x < a.1 { (i, x) } else { a });
         assert!(imax <= 5 || imax >= 360, "max on day {}", imax + 1);
         assert!((180..=190).contains(&imin), "min on day {}", imin + 1);
         check("max/Gsc", max / SOLAR_CONSTANT_W_M2, 1.0351, 0.001);
@@ -1738,7 +1852,12 @@ mod tests {
     fn absolute_air_mass_scales_with_pressure() {
         // Source: common practice (AM_abs = AM · p/p0).
         check("sea level", air_mass_absolute(2.0, 1013.25), 2.0, 1e-12);
-        check("820 hPa", air_mass_absolute(2.0, 820.0), 2.0 * 820.0 / 1013.25, 1e-12);
+        check(
+            "820 hPa",
+            air_mass_absolute(2.0, 820.0),
+            2.0 * 820.0 / 1013.25,
+            1e-12,
+        );
     }
 
     #[test]
@@ -1755,10 +1874,30 @@ mod tests {
     #[test]
     fn incidence_edge_cases() {
         // Source: geometry (common practice).
-        check("horizontal", incidence_angle_deg(40.0, 123.0, 0.0, 0.0), 40.0, 1e-9);
-        check("facing the sun", incidence_angle_deg(40.0, 200.0, 40.0, 200.0), 0.0, 1e-5);
-        check("behind", incidence_angle_deg(0.0, 0.0, 90.0, 0.0), 90.0, 1e-9);
-        check("back to the sun", incidence_angle_deg(60.0, 180.0, 30.0, 0.0), 90.0, 1e-9);
+        check(
+            "horizontal",
+            incidence_angle_deg(40.0, 123.0, 0.0, 0.0),
+            40.0,
+            1e-9,
+        );
+        check(
+            "facing the sun",
+            incidence_angle_deg(40.0, 200.0, 40.0, 200.0),
+            0.0,
+            1e-5,
+        );
+        check(
+            "behind",
+            incidence_angle_deg(0.0, 0.0, 90.0, 0.0),
+            90.0,
+            1e-9,
+        );
+        check(
+            "back to the sun",
+            incidence_angle_deg(60.0, 180.0, 30.0, 0.0),
+            90.0,
+            1e-9,
+        );
         let i = incidence_angle_deg(90.0, 180.0, 90.0, 180.0);
         assert!(i.is_finite() && i.abs() < 1e-5);
     }
@@ -1767,9 +1906,20 @@ mod tests {
     fn azimuth_conventions() {
         // Source: MODEL.md conventions: azimuth clockwise from north. Morning sun is east,
         // noon sun is south in the north's mid latitudes and north in the south's.
-        let air = Atmosphere { pressure_hpa: 1013.25, temperature_c: 12.0 };
-        let north = Observer { latitude_deg: 45.0, longitude_deg: 0.0, elevation_m: 0.0 };
-        let south = Observer { latitude_deg: -45.0, longitude_deg: 0.0, elevation_m: 0.0 };
+        let air = Atmosphere {
+            pressure_hpa: 1013.25,
+            temperature_c: 12.0,
+        };
+        let north = Observer {
+            latitude_deg: 45.0,
+            longitude_deg: 0.0,
+            elevation_m: 0.0,
+        };
+        let south = Observer {
+            latitude_deg: -45.0,
+            longitude_deg: 0.0,
+            elevation_m: 0.0,
+        };
         let noon = unix(2021, 6, 21, 12, 0, 0);
         let morning = unix(2021, 6, 21, 7, 0, 0);
         let az = |o: &Observer, t| solar_position(t, o, &air, DELTA_T_DEFAULT_S).azimuth_deg;
@@ -1795,7 +1945,12 @@ mod tests {
         let text = include_str!("../../tests/reference/sun_ephem.csv");
         let mut lines = text.lines().filter(|l| !l.starts_with('#'));
         let header: Vec<&str> = lines.next().unwrap().split(',').collect();
-        let col = |name: &str| header.iter().position(|h| *h == name).unwrap_or_else(|| panic!("no column {name}"));
+        let col = |name: &str| {
+            header
+                .iter()
+                .position(|h| *h == name)
+                .unwrap_or_else(|| panic!("no column {name}"))
+        };
         let (c_t, c_lat, c_lon, c_el, c_p, c_tc, c_dt, c_z, c_zg, c_az) = (
             col("unix_s"),
             col("latitude_deg"),
@@ -1814,8 +1969,15 @@ mod tests {
                 let v: Vec<f64> = l.split(',').map(|x| x.trim().parse().unwrap()).collect();
                 EphemRow {
                     unix_s: v[c_t],
-                    obs: Observer { latitude_deg: v[c_lat], longitude_deg: v[c_lon], elevation_m: v[c_el] },
-                    atm: Atmosphere { pressure_hpa: v[c_p], temperature_c: v[c_tc] },
+                    obs: Observer {
+                        latitude_deg: v[c_lat],
+                        longitude_deg: v[c_lon],
+                        elevation_m: v[c_el],
+                    },
+                    atm: Atmosphere {
+                        pressure_hpa: v[c_p],
+                        temperature_c: v[c_tc],
+                    },
                     delta_t_s: v[c_dt],
                     zenith_deg: v[c_z],
                     zenith_geometric_deg: v[c_zg],
@@ -1839,28 +2001,50 @@ mod tests {
         // refracting by design and ephem does not: not compared.
         let rows = ephem_rows();
         assert!(rows.len() >= 200, "only {} rows", rows.len());
-        let (mut n_high, mut max_z_high, mut max_az_high, mut max_geo) = (0, 0.0f64, 0.0f64, 0.0f64);
+        let (mut n_high, mut max_z_high, mut max_az_high, mut max_geo) =
+            (0, 0.0f64, 0.0f64, 0.0f64);
         let (mut n_low, mut max_z_low) = (0, 0.0f64);
         for r in &rows {
             let p = solar_position(r.unix_s, &r.obs, &r.atm, r.delta_t_s);
             let dz_geo = (p.zenith_geometric_deg - r.zenith_geometric_deg).abs();
             max_geo = max_geo.max(dz_geo);
-            assert!(dz_geo <= 0.01, "geometric zenith off by {dz_geo} at t={} {:?}", r.unix_s, r.obs);
+            assert!(
+                dz_geo <= 0.01,
+                "geometric zenith off by {dz_geo} at t={} {:?}",
+                r.unix_s,
+                r.obs
+            );
             let elev = 90.0 - r.zenith_deg;
             let dz = (p.zenith_deg - r.zenith_deg).abs();
             if elev > 5.0 {
                 n_high += 1;
                 max_z_high = max_z_high.max(dz);
-                assert!(dz <= 0.01, "zenith off by {dz} at t={} {:?}", r.unix_s, r.obs);
+                assert!(
+                    dz <= 0.01,
+                    "zenith off by {dz} at t={} {:?}",
+                    r.unix_s,
+                    r.obs
+                );
                 if r.zenith_deg > 5.0 {
                     let daz = wrap180(p.azimuth_deg - r.azimuth_deg).abs();
                     max_az_high = max_az_high.max(daz);
-                    assert!(daz <= 0.01, "azimuth off by {daz} at t={} {:?}", r.unix_s, r.obs);
+                    assert!(
+                        daz <= 0.01,
+                        "azimuth off by {daz} at t={} {:?}",
+                        r.unix_s,
+                        r.obs
+                    );
                 }
-            } else if 90.0 - p.zenith_geometric_deg >= -(SUN_RADIUS_DEG + REFRACTION_AT_HORIZON_DEG) {
+            } else if 90.0 - p.zenith_geometric_deg >= -(SUN_RADIUS_DEG + REFRACTION_AT_HORIZON_DEG)
+            {
                 n_low += 1;
                 max_z_low = max_z_low.max(dz);
-                assert!(dz <= 0.03, "near-horizon zenith off by {dz} at t={} {:?}", r.unix_s, r.obs);
+                assert!(
+                    dz <= 0.03,
+                    "near-horizon zenith off by {dz} at t={} {:?}",
+                    r.unix_s,
+                    r.obs
+                );
             }
         }
         eprintln!(
@@ -1869,14 +2053,22 @@ mod tests {
              refracted, below 5° ({n_low} rows): apparent zenith max {max_z_low:.4}°",
             rows.len()
         );
-        assert!(n_high >= 100 && n_low >= 20, "too few rows in a band: {n_high} / {n_low}");
+        assert!(
+            n_high >= 100 && n_low >= 20,
+            "too few rows in a band: {n_high} / {n_low}"
+        );
     }
 
     #[test]
     fn spa_example_vs_pyephem_value() {
         // Source: CHECK-VALUES.md: PyEphem on the SPA case gives zenith 50.112334°, azimuth
         // 194.340233° with refraction (its refraction model differs): 0.002° / 0.001°.
-        let p = solar_position(SPA_EXAMPLE_UNIX_S, &DENVER, &DENVER_AIR, SPA_EXAMPLE_DELTA_T_S);
+        let p = solar_position(
+            SPA_EXAMPLE_UNIX_S,
+            &DENVER,
+            &DENVER_AIR,
+            SPA_EXAMPLE_DELTA_T_S,
+        );
         check("zenith", p.zenith_deg, 50.112334, 0.002);
         check("azimuth", p.azimuth_deg, 194.340233, 0.001);
     }
@@ -1906,11 +2098,23 @@ mod tests {
         // about 1.6 min later.
         let (a, b) = (unix(2003, 10, 17, 13, 0, 0), unix(2003, 10, 17, 14, 0, 0));
         let s = interval_sun(a, b, &DENVER, &DENVER_AIR, DELTA_T_DEFAULT_S).unwrap();
-        assert!(s.sunlit_frac > 0.0 && s.sunlit_frac < 1.0, "frac {}", s.sunlit_frac);
+        assert!(
+            s.sunlit_frac > 0.0 && s.sunlit_frac < 1.0,
+            "frac {}",
+            s.sunlit_frac
+        );
         let rise = b - s.sunlit_frac * (b - a);
-        check("eval = midpoint of sunlit part", s.eval_unix_s, 0.5 * (rise + b), 1e-6);
+        check(
+            "eval = midpoint of sunlit part",
+            s.eval_unix_s,
+            0.5 * (rise + b),
+            1e-6,
+        );
         assert!(s.eval_unix_s > rise && s.eval_unix_s > 0.5 * (a + b));
-        assert!(elev(rise - 1.0, &DENVER, &DENVER_AIR) < 0.0 && elev(rise + 1.0, &DENVER, &DENVER_AIR) > 0.0);
+        assert!(
+            elev(rise - 1.0, &DENVER, &DENVER_AIR) < 0.0
+                && elev(rise + 1.0, &DENVER, &DENVER_AIR) > 0.0
+        );
         assert!(rise > unix(2003, 10, 17, 13, 12, 43) && rise < unix(2003, 10, 17, 13, 17, 0));
         assert!(s.position.elevation_deg() > 0.0);
     }
@@ -1923,16 +2127,30 @@ mod tests {
         let s = interval_sun(a, b, &DENVER, &DENVER_AIR, DELTA_T_DEFAULT_S).unwrap();
         let set = a + s.sunlit_frac * (b - a);
         check("eval", s.eval_unix_s, 0.5 * (a + set), 1e-6);
-        assert!(elev(set - 1.0, &DENVER, &DENVER_AIR) > 0.0 && elev(set + 1.0, &DENVER, &DENVER_AIR) < 0.0);
+        assert!(
+            elev(set - 1.0, &DENVER, &DENVER_AIR) > 0.0
+                && elev(set + 1.0, &DENVER, &DENVER_AIR) < 0.0
+        );
         assert!(set < unix(2003, 10, 18, 0, 18, 51) && set > unix(2003, 10, 18, 0, 15, 0));
     }
 
     #[test]
     fn interval_night_and_polar_night_are_none() {
         // Source: common practice (no sun in polar night; midnight in Denver).
-        let tromso = Observer { latitude_deg: 69.65, longitude_deg: 18.96, elevation_m: 10.0 };
-        let svalbard = Observer { latitude_deg: 78.22, longitude_deg: 15.65, elevation_m: 10.0 };
-        let cold = Atmosphere { pressure_hpa: 1010.0, temperature_c: -10.0 };
+        let tromso = Observer {
+            latitude_deg: 69.65,
+            longitude_deg: 18.96,
+            elevation_m: 10.0,
+        };
+        let svalbard = Observer {
+            latitude_deg: 78.22,
+            longitude_deg: 15.65,
+            elevation_m: 10.0,
+        };
+        let cold = Atmosphere {
+            pressure_hpa: 1010.0,
+            temperature_c: -10.0,
+        };
         for obs in [&tromso, &svalbard] {
             let (a, b) = (unix(2021, 12, 21, 11, 0, 0), unix(2021, 12, 21, 12, 0, 0));
             assert!(interval_sun(a, b, obs, &cold, DELTA_T_DEFAULT_S).is_none());
@@ -1944,8 +2162,15 @@ mod tests {
     #[test]
     fn interval_midnight_sun_is_sunlit() {
         // Source: common practice (midnight sun at 78° N on the June solstice).
-        let svalbard = Observer { latitude_deg: 78.22, longitude_deg: 15.65, elevation_m: 10.0 };
-        let air = Atmosphere { pressure_hpa: 1010.0, temperature_c: 5.0 };
+        let svalbard = Observer {
+            latitude_deg: 78.22,
+            longitude_deg: 15.65,
+            elevation_m: 10.0,
+        };
+        let air = Atmosphere {
+            pressure_hpa: 1010.0,
+            temperature_c: 5.0,
+        };
         let (a, b) = (unix(2021, 6, 21, 22, 30, 0), unix(2021, 6, 21, 23, 30, 0));
         let s = interval_sun(a, b, &svalbard, &air, DELTA_T_DEFAULT_S).unwrap();
         assert_eq!(s.sunlit_frac, 1.0);
@@ -1964,13 +2189,29 @@ mod tests {
         check("eval", s.eval_unix_s, 0.5 * (first + last), 30.0);
         // Upper-limb day (SPA: rise 06:12:43, set ≈ 17:18:51 MST) = 11.102 h; the centre
         // with refraction is up about 2 × 1.6 min less.
-        check("day length (h)", s.sunlit_frac * 24.0, 11.102 - 2.0 * 1.6 / 60.0, 0.02);
+        check(
+            "day length (h)",
+            s.sunlit_frac * 24.0,
+            11.102 - 2.0 * 1.6 / 60.0,
+            0.02,
+        );
         // Evaluated near solar noon (about 11:46 MST = 18:46 UTC).
-        check("eval near noon (s)", s.eval_unix_s, unix(2003, 10, 17, 18, 46, 0), 120.0);
+        check(
+            "eval near noon (s)",
+            s.eval_unix_s,
+            unix(2003, 10, 17, 18, 46, 0),
+            120.0,
+        );
     }
 
     /// Brute force: sample the interval every `step` seconds.
-    fn brute_force(a: f64, b: f64, obs: &Observer, atm: &Atmosphere, step: f64) -> (f64, Option<(f64, f64)>) {
+    fn brute_force(
+        a: f64,
+        b: f64,
+        obs: &Observer,
+        atm: &Atmosphere,
+        step: f64,
+    ) -> (f64, Option<(f64, f64)>) {
         let n = ((b - a) / step).round() as usize;
         let mut lit = 0usize;
         let (mut first, mut last) = (None, None);
@@ -1992,15 +2233,24 @@ mod tests {
         // 1990–2040, hourly and 10-minute intervals placed near sunrise or sunset.
         let mut seed: u64 = 0x5eed_1234_abcd_0001;
         let mut rnd = move || {
-            seed = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+            seed = seed
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
             (seed >> 11) as f64 / (1u64 << 53) as f64
         };
         let step = 15.0;
         let mut checked = 0;
         for k in 0..160 {
             let lat = -85.0 + 170.0 * rnd();
-            let obs = Observer { latitude_deg: lat, longitude_deg: -180.0 + 360.0 * rnd(), elevation_m: 3000.0 * rnd() };
-            let atm = Atmosphere { pressure_hpa: 700.0 + 350.0 * rnd(), temperature_c: -30.0 + 60.0 * rnd() };
+            let obs = Observer {
+                latitude_deg: lat,
+                longitude_deg: -180.0 + 360.0 * rnd(),
+                elevation_m: 3000.0 * rnd(),
+            };
+            let atm = Atmosphere {
+                pressure_hpa: 700.0 + 350.0 * rnd(),
+                temperature_c: -30.0 + 60.0 * rnd(),
+            };
             let len = if k % 2 == 0 { 3600.0 } else { 600.0 };
             // Start at a random instant and walk to the first interval whose sunlit state
             // differs between its ends or whose midpoint is within 8° of the horizon.
@@ -2015,7 +2265,10 @@ mod tests {
             let got = interval_sun(a, b, &obs, &atm, DELTA_T_DEFAULT_S);
             let (frac, span) = brute_force(a, b, &obs, &atm, step);
             match got {
-                None => assert_eq!(frac, 0.0, "interval {a}–{b} at {obs:?}: None but brute force {frac}"),
+                None => assert_eq!(
+                    frac, 0.0,
+                    "interval {a}–{b} at {obs:?}: None but brute force {frac}"
+                ),
                 Some(s) => {
                     let tol = 1.5 * step / len + 1e-9;
                     assert!(
@@ -2024,7 +2277,8 @@ mod tests {
                         s.sunlit_frac
                     );
                     if let Some((first, last)) = span {
-                        if s.sunlit_frac < 1.0 && (last - first) < s.sunlit_frac * len + 2.0 * step {
+                        if s.sunlit_frac < 1.0 && (last - first) < s.sunlit_frac * len + 2.0 * step
+                        {
                             // One sunlit piece: the evaluation point is its midpoint.
                             check("eval", s.eval_unix_s, 0.5 * (first + last), step);
                         }
@@ -2050,14 +2304,27 @@ mod tests {
     #[test]
     #[ignore = "timing; run with --release -- --ignored --nocapture"]
     fn timing() {
-        let air = Atmosphere { pressure_hpa: 1013.25, temperature_c: 12.0 };
-        let obs = Observer { latitude_deg: 45.0, longitude_deg: 7.0, elevation_m: 300.0 };
+        let air = Atmosphere {
+            pressure_hpa: 1013.25,
+            temperature_c: 12.0,
+        };
+        let obs = Observer {
+            latitude_deg: 45.0,
+            longitude_deg: 7.0,
+            elevation_m: 300.0,
+        };
         let t0 = unix(2021, 1, 1, 0, 0, 0);
         let n = 8760;
         let start = std::time::Instant::now();
         let mut acc = 0.0;
         for i in 0..n {
-            acc += solar_position(t0 + 3600.0 * i as f64 + 1800.0, &obs, &air, DELTA_T_DEFAULT_S).zenith_deg;
+            acc += solar_position(
+                t0 + 3600.0 * i as f64 + 1800.0,
+                &obs,
+                &air,
+                DELTA_T_DEFAULT_S,
+            )
+            .zenith_deg;
         }
         let spa = start.elapsed();
         let start = std::time::Instant::now();

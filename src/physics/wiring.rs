@@ -156,7 +156,11 @@ pub struct SubstringCurve {
 ///
 /// # Source
 /// MODEL.md §7 (bypass diodes), De Soto et al. 2006 (the curve).
-pub fn substring_curve(p: &OperatingParams, bypass_drop_v: f64, grid: &CurrentGrid) -> SubstringCurve {
+pub fn substring_curve(
+    p: &OperatingParams,
+    bypass_drop_v: f64,
+    grid: &CurrentGrid,
+) -> SubstringCurve {
     let mut out = SubstringCurve::default();
     substring_curve_into(p, bypass_drop_v, grid, &mut out);
     out
@@ -586,7 +590,12 @@ mod tests {
     }
 
     /// One unshaded module through substring → string → array curve.
-    fn module_curve(p: &ReferenceParams, parts: u32, s: f64, t: f64) -> (ArrayCurve, OperatingParams) {
+    fn module_curve(
+        p: &ReferenceParams,
+        parts: u32,
+        s: f64,
+        t: f64,
+    ) -> (ArrayCurve, OperatingParams) {
         let sub = p.substring(parts).at(s, t);
         let grid = grid_for(&sub);
         let sc = substring_curve(&sub, BYPASS_DROP_DEFAULT_V, &grid);
@@ -604,7 +613,12 @@ mod tests {
         let found = arr.local_maxima(0.0, f64::INFINITY);
         assert_eq!(found.len(), 1, "{s} W/m², {t} °C: {found:?}");
         let m = found[0];
-        assert!(rel(m.p, exact.p) <= 0.001, "{s} W/m², {t} °C: {} vs {}", m.p, exact.p);
+        assert!(
+            rel(m.p, exact.p) <= 0.001,
+            "{s} W/m², {t} °C: {} vs {}",
+            m.p,
+            exact.p
+        );
         // The reported maximum lies on the same curve that power_at evaluates.
         assert!(rel(arr.power_at(m.v), m.p) <= 1e-12);
     }
@@ -614,7 +628,13 @@ mod tests {
         // Source: the brief's accuracy target for GRID_POINTS_DEFAULT (0.1 %), against
         // OperatingParams::max_power_point (Newton on dP/dV, independent of the grid).
         for (p, parts) in [(module36(), 2), (module60(), 3)] {
-            for (s, t) in [(1000.0, 25.0), (1200.0, 70.0), (600.0, 40.0), (200.0, 10.0), (50.0, -5.0)] {
+            for (s, t) in [
+                (1000.0, 25.0),
+                (1200.0, 70.0),
+                (600.0, 40.0),
+                (200.0, 10.0),
+                (50.0, -5.0),
+            ] {
                 check_grid_mpp(&p, parts, s, t);
             }
         }
@@ -720,7 +740,13 @@ mod tests {
         let mut clear = Vec::new();
         string_curve(&[&sl; 6], 0.0, None, &grid, &mut clear);
         let mut shaded = Vec::new();
-        string_curve(&[&sd, &sl, &sl, &sl, &sl, &sl], 0.0, None, &grid, &mut shaded);
+        string_curve(
+            &[&sd, &sl, &sl, &sl, &sl, &sl],
+            0.0,
+            None,
+            &grid,
+            &mut shaded,
+        );
         (grid, clear, shaded, sl)
     }
 
@@ -738,7 +764,10 @@ mod tests {
             }
             let loss = clear[k] - shaded[k];
             let expected = sl.v[k] + BYPASS_DROP_DEFAULT_V;
-            assert!((loss - expected).abs() <= 1e-3, "i {i}: {loss} vs {expected}");
+            assert!(
+                (loss - expected).abs() <= 1e-3,
+                "i {i}: {loss} vs {expected}"
+            );
         }
         // Source: common practice, no source: at the maximum-power point the string keeps
         // about 5/6 of its power minus Vd·Imp. 1 % tolerance: the maximum of the 5-substring
@@ -750,7 +779,11 @@ mod tests {
         let m_clear = best(&a_clear.local_maxima(0.0, 1e9));
         let m_shaded = best(&a_shaded.local_maxima(0.0, 1e9));
         let expected = 5.0 / 6.0 * m_clear.p - BYPASS_DROP_DEFAULT_V * m_clear.i;
-        assert!(rel(m_shaded.p, expected) <= 0.01, "{} vs {expected}", m_shaded.p);
+        assert!(
+            rel(m_shaded.p, expected) <= 0.01,
+            "{} vs {expected}",
+            m_shaded.p
+        );
     }
 
     #[test]
@@ -783,7 +816,10 @@ mod tests {
         let dark = p.at(0.0, 5.0);
         let grid = CurrentGrid::new(1.02 * dark.il_a, GRID_POINTS_DEFAULT);
         let sc = substring_curve(&dark, BYPASS_DROP_DEFAULT_V, &grid);
-        assert!(sc.v.iter().all(|v| v.is_finite() && *v >= -BYPASS_DROP_DEFAULT_V));
+        assert!(sc
+            .v
+            .iter()
+            .all(|v| v.is_finite() && *v >= -BYPASS_DROP_DEFAULT_V));
         let mut s = Vec::new();
         string_curve(&[&sc; 6], 0.05, Some(0.7), &grid, &mut s);
         let mut arr = ArrayCurve::default();
@@ -817,7 +853,11 @@ mod tests {
     }
 
     fn check_awg(awg: i32, mm2: f64) {
-        assert!(rel(awg_to_mm2(awg), mm2) <= 1e-3, "awg {awg}: {}", awg_to_mm2(awg));
+        assert!(
+            rel(awg_to_mm2(awg), mm2) <= 1e-3,
+            "awg {awg}: {}",
+            awg_to_mm2(awg)
+        );
     }
 
     #[test]
@@ -840,7 +880,10 @@ mod tests {
 
     fn check_nec(conductor: Conductor, awg: i32, expected_ohm_kft: f64, tol: f64) {
         let got = ohm_per_kft(conductor, awg, 75.0);
-        assert!(rel(got, expected_ohm_kft) <= tol, "{awg} AWG: {got} vs {expected_ohm_kft}");
+        assert!(
+            rel(got, expected_ohm_kft) <= tol,
+            "{awg} AWG: {got} vs {expected_ohm_kft}"
+        );
     }
 
     #[test]

@@ -91,14 +91,18 @@ fn json_output_follows_the_documented_schema_and_balances_energy() {
             other => panic!("unexpected status {other:?}"),
         }
     }
-    assert!(ranked >= 1 && rejected >= 1, "{ranked} ranked, {rejected} rejected");
+    assert!(
+        ranked >= 1 && rejected >= 1,
+        "{ranked} ranked, {rejected} rejected"
+    );
 }
 
 #[test]
 fn template_is_a_valid_plan() {
     let out = wirerank(&["template"]);
     assert_eq!(out.status.code(), Some(0));
-    let plan = wirerank::io::plan_toml::parse_plan(&text(&out.stdout), "template.toml", Path::new(""));
+    let plan =
+        wirerank::io::plan_toml::parse_plan(&text(&out.stdout), "template.toml", Path::new(""));
     assert!(plan.is_ok(), "{:?}", plan.err());
 }
 
@@ -121,12 +125,19 @@ fn sunpath_csv_has_the_documented_columns() {
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
     let s = text(&out.stdout);
     let mut lines = s.lines();
-    assert_eq!(lines.next(), Some("time_local,zenith_deg,elevation_deg,azimuth_deg"));
+    assert_eq!(
+        lines.next(),
+        Some("time_local,zenith_deg,elevation_deg,azimuth_deg")
+    );
     let noon = s
         .lines()
         .find(|l| l.starts_with("2025-03-20T12:00"))
         .expect("a noon row");
-    let elev: f64 = noon.split(',').nth(2).and_then(|x| x.parse().ok()).expect("elevation");
+    let elev: f64 = noon
+        .split(',')
+        .nth(2)
+        .and_then(|x| x.parse().ok())
+        .expect("elevation");
     // Source: common practice, no source — near the March equinox the noon sun stands at
     // about 90° − latitude on the 15° E meridian (42.8°, plus ≈ 0.2° of declination drift
     // and refraction): 1° tolerance.
@@ -137,14 +148,26 @@ fn sunpath_csv_has_the_documented_columns() {
 fn bad_plans_name_the_key_and_exit_2() {
     let cases = [
         ("bad_plan_unknown_key.toml", "tilt_degree"),
-        ("bad_plan_tilt_out_of_range.toml", "group.roof.tilt_deg = 120 is outside 0..=90"),
+        (
+            "bad_plan_tilt_out_of_range.toml",
+            "group.roof.tilt_deg = 120 is outside 0..=90",
+        ),
         ("bad_plan_unknown_module_in_layout.toml", "roof-9"),
         ("bad_plan_module_used_twice.toml", "twice"),
         ("bad_plan_series_mismatch.toml", "same series count"),
         ("bad_plan_vmp_above_voc.toml", "module_type.m120.vmp_v"),
-        ("bad_plan_negative_cable_length.toml", "cables.string_lead_length_m"),
-        ("bad_plan_controller_current_zero.toml", "controller.mppt.max_input_a"),
-        ("bad_plan_unknown_controller_kind.toml", "controller.pwm.kind"),
+        (
+            "bad_plan_negative_cable_length.toml",
+            "cables.string_lead_length_m",
+        ),
+        (
+            "bad_plan_controller_current_zero.toml",
+            "controller.mppt.max_input_a",
+        ),
+        (
+            "bad_plan_unknown_controller_kind.toml",
+            "controller.pwm.kind",
+        ),
         ("bad_plan_not_toml.toml", "bad_plan_not_toml.toml:"),
     ];
     for (file, needle) in cases {
@@ -154,7 +177,10 @@ fn bad_plans_name_the_key_and_exit_2() {
         assert_eq!(out.status.code(), Some(2), "{file}: {err}");
         assert!(err.starts_with("error: "), "{file}: {err}");
         assert!(err.contains(needle), "{file}: expected {needle:?} in {err}");
-        assert!(err.contains(file), "{file}: the message names the file: {err}");
+        assert!(
+            err.contains(file),
+            "{file}: the message names the file: {err}"
+        );
         assert!(!err.contains("panicked"), "{file}: {err}");
         assert!(out.stdout.is_empty(), "{file}: nothing on stdout");
     }

@@ -14,8 +14,12 @@ fn fixture(name: &str) -> PathBuf {
 }
 
 fn run(name: &str, parallel: bool) -> RankResult {
-    simulate_and_rank(&PlanSource::File(fixture(name)), Criterion::Annual, parallel)
-        .expect("fixture plan runs")
+    simulate_and_rank(
+        &PlanSource::File(fixture(name)),
+        Criterion::Annual,
+        parallel,
+    )
+    .expect("fixture plan runs")
 }
 
 fn annual(r: &RankResult, label: &str) -> f64 {
@@ -84,13 +88,25 @@ fn horizontal_insolation_equals_the_weather_files_own_sum() {
     .expect("sample present");
     let mut lines = raw.lines().filter(|l| !l.starts_with('#'));
     let header: Vec<&str> = lines.next().expect("column names").split(',').collect();
-    let col = header.iter().position(|h| *h == "ghi_w_m2").expect("ghi column");
+    let col = header
+        .iter()
+        .position(|h| *h == "ghi_w_m2")
+        .expect("ghi column");
     let sum_wh: f64 = lines
-        .map(|l| l.split(',').nth(col).and_then(|x| x.parse::<f64>().ok()).unwrap_or(0.0))
+        .map(|l| {
+            l.split(',')
+                .nth(col)
+                .and_then(|x| x.parse::<f64>().ok())
+                .unwrap_or(0.0)
+        })
         .sum();
     let ours: f64 = r.horizontal_kwh_m2.iter().sum();
     // Source: the file itself (hourly rows: W/m² × 1 h = Wh/m²).
-    assert!((ours - sum_wh / 1000.0).abs() < 1e-9, "{ours} vs {}", sum_wh / 1000.0);
+    assert!(
+        (ours - sum_wh / 1000.0).abs() < 1e-9,
+        "{ours} vs {}",
+        sum_wh / 1000.0
+    );
 }
 
 #[test]
@@ -117,7 +133,10 @@ fn cold_voc_agrees_with_the_nec_690_7_table_for_a_typical_coefficient() {
     let beta = -0.0040 * voc;
     for (t, factor) in table {
         let ratio = voc_at_v(voc, beta, t) / voc;
-        assert!((ratio / factor - 1.0).abs() < 0.02, "{t} °C: {ratio:.3} vs {factor}");
+        assert!(
+            (ratio / factor - 1.0).abs() < 0.02,
+            "{t} °C: {ratio:.3} vs {factor}"
+        );
     }
 }
 

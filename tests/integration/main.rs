@@ -1,4 +1,5 @@
 //! Integration tests, compiled into one binary and grouped by topic.
 mod cli;
 mod electrical;
+mod invariants;
 mod weather;
