@@ -104,7 +104,7 @@ struct SubCurve {
 }
 
 /// Per-interval shared state: the current grid and every distinct substring curve.
-struct IntervalCurves {
+pub struct IntervalCurves {
     grid: CurrentGrid,
     curves: Vec<SubCurve>,
     /// For each module, for each substring: index into `curves`.
@@ -231,6 +231,10 @@ fn max_power_w(c: &ArrayCurve) -> f64 {
 /// Scratch buffers reused across intervals for one layout.
 #[derive(Default)]
 struct Scratch {
+    /// Per distinct string: its sorted substring-curve indices.
+    keys: Vec<Vec<u16>>,
+    /// Per string of the input: which distinct string it is.
+    slot: Vec<usize>,
     strings: Vec<Vec<f64>>,
     strings_bare: Vec<Vec<f64>>,
     array: ArrayCurve,
@@ -333,33 +337,59 @@ fn build_input_curves(
     r_main: f64,
     s: &mut Scratch,
 ) {
-    let n = w.strings.len();
-    s.strings.resize_with(n, Vec::new);
-    s.strings_bare.resize_with(n, Vec::new);
-    let blocking = plan.cables.blocking_diode_v;
-    for (si, st) in w.strings.iter().enumerate() {
-        let subs: Vec<&SubstringCurve> = st
+    // Strings made of the same substring curves (in any order) have the same curve: build
+    // each distinct one once and pass the same slice again, which `array_curve` then
+    // interpolates once and counts with its multiplicity.
+    s.keys.clear();
+    s.slot.clear();
+    let mut distinct = 0;
+    for st in &w.strings {
+        let mut key: Vec<u16> = st
             .iter()
-            .flat_map(|&mi| ic.module_subs[mi].iter())
+            .flat_map(|&mi| ic.module_subs[mi].iter().copied())
+            .collect();
+        key.sort_unstable();
+        let slot = match s.keys[..distinct].iter().position(|k| *k == key) {
+            Some(j) => j,
+            None => {
+                if s.keys.len() <= distinct {
+                    s.keys.push(Vec::new());
+                }
+                s.keys[distinct] = key;
+                distinct += 1;
+                distinct - 1
+            }
+        };
+        s.slot.push(slot);
+    }
+    s.strings.resize_with(distinct, Vec::new);
+    s.strings_bare.resize_with(distinct, Vec::new);
+    let blocking = plan.cables.blocking_diode_v;
+    for j in 0..distinct {
+        let subs: Vec<&SubstringCurve> = s.keys[j]
+            .iter()
             .map(|&c| &ic.curves[c as usize].curve)
             .collect();
-        string_curve(&subs, r_lead, blocking, &ic.grid, &mut s.strings[si]);
-        string_curve(&subs, 0.0, blocking, &ic.grid, &mut s.strings_bare[si]);
+        string_curve(&subs, r_lead, blocking, &ic.grid, &mut s.strings[j]);
+        string_curve(&subs, 0.0, blocking, &ic.grid, &mut s.strings_bare[j]);
     }
-    let with: Vec<&[f64]> = s.strings[..n].iter().map(Vec::as_slice).collect();
+    let with: Vec<&[f64]> = s.slot.iter().map(|&j| s.strings[j].as_slice()).collect();
     array_curve(&with, &ic.grid, r_main, &mut s.array);
-    let bare: Vec<&[f64]> = s.strings_bare[..n].iter().map(Vec::as_slice).collect();
+    let bare: Vec<&[f64]> = s
+        .slot
+        .iter()
+        .map(|&j| s.strings_bare[j].as_slice())
+        .collect();
     array_curve(&bare, &ic.grid, 0.0, &mut s.array_bare);
 }
 
-/// Runs phase 2 for every layout; `threads = 1` runs single-threaded (benchmarks, checks).
-pub fn run(
+/// Every interval's distinct substring curves (the curve-solving half of phase 2).
+pub fn all_interval_curves(
     plan: &Plan,
     cond: &Conditions,
-    layouts: &[&Layout],
     parallel: bool,
-) -> Vec<LayoutEnergy> {
-    let curves: Vec<Option<IntervalCurves>> = if parallel {
+) -> Vec<Option<IntervalCurves>> {
+    if parallel {
         (0..cond.intervals.len())
             .into_par_iter()
             .map(|k| interval_curves(plan, cond, k))
@@ -368,16 +398,38 @@ pub fn run(
         (0..cond.intervals.len())
             .map(|k| interval_curves(plan, cond, k))
             .collect()
-    };
+    }
+}
+
+/// Every layout over every interval from shared curves (the combination half of phase 2).
+pub fn simulate_layouts(
+    plan: &Plan,
+    cond: &Conditions,
+    curves: &[Option<IntervalCurves>],
+    layouts: &[&Layout],
+    parallel: bool,
+) -> Vec<LayoutEnergy> {
     if parallel {
         layouts
             .par_iter()
-            .map(|l| simulate_layout(plan, cond, &curves, l))
+            .map(|l| simulate_layout(plan, cond, curves, l))
             .collect()
     } else {
         layouts
             .iter()
-            .map(|l| simulate_layout(plan, cond, &curves, l))
+            .map(|l| simulate_layout(plan, cond, curves, l))
             .collect()
     }
+}
+
+/// Runs phase 2 for every layout; `parallel = false` runs single-threaded (benchmarks,
+/// checks). Both give identical results.
+pub fn run(
+    plan: &Plan,
+    cond: &Conditions,
+    layouts: &[&Layout],
+    parallel: bool,
+) -> Vec<LayoutEnergy> {
+    let curves = all_interval_curves(plan, cond, parallel);
+    simulate_layouts(plan, cond, &curves, layouts, parallel)
 }

@@ -1,0 +1,112 @@
+//! Speed targets (criterion): one orientation's sun + sky + temperature over an hourly year
+//! (target ≤ 5 ms), and the demo plan's whole year single-threaded (target ≤ 0.25 s), split
+//! into curve solving and combination.
+
+use criterion::{criterion_group, criterion_main, Criterion};
+use std::hint::black_box;
+
+use wirerank::physics::sky::{self, SkyModel, SkyState, Surface};
+use wirerank::physics::sun::{self, Atmosphere, Observer};
+use wirerank::physics::thermal::CellTemperatureModel;
+use wirerank::{layouts, limits, load, phase2, simulate, PlanSource};
+
+fn one_orientation_year(c: &mut Criterion) {
+    let loaded = load(&PlanSource::Demo).expect("demo loads");
+    let w = &loaded.weather;
+    let site = &loaded.site;
+    let obs = Observer {
+        latitude_deg: site.latitude_deg,
+        longitude_deg: site.longitude_deg,
+        elevation_m: site.elevation_m,
+    };
+    let surface = Surface {
+        tilt_deg: 40.0,
+        azimuth_deg: 180.0,
+    }
+    .prepare();
+    let glass = sky::GlassCover::DE_SOTO_2006;
+    let factors = sky::iam_factors(&glass, 40.0);
+    let thermal = CellTemperatureModel::SANDIA_GLASS_POLYMER_OPEN_RACK;
+    let p = sun::pressure_from_elevation_hpa(site.elevation_m);
+    c.bench_function("sun+sky+temperature, one orientation, hourly year", |b| {
+        b.iter(|| {
+            let mut acc = 0.0;
+            for k in 0..w.len() {
+                let start = w.local_start_s[k] as f64 - site.utc_offset_h * 3600.0;
+                let atm = Atmosphere {
+                    pressure_hpa: p,
+                    temperature_c: w.air_temp_c[k],
+                };
+                let Some(s) =
+                    sun::interval_sun(start, start + 3600.0, &obs, &atm, sun::DELTA_T_DEFAULT_S)
+                else {
+                    continue;
+                };
+                let ghi = w.ghi_w_m2[k];
+                if ghi <= 0.0 {
+                    continue;
+                }
+                let g_on =
+                    sun::extraterrestrial_normal_w_m2(simulate::day_of_year_utc(s.eval_unix_s));
+                let z = s.position.zenith_deg;
+                let split = sky::erbs_split(ghi, z, g_on);
+                let state = SkyState {
+                    ghi_w_m2: ghi,
+                    dni_w_m2: split.dni_w_m2,
+                    dhi_w_m2: split.dhi_w_m2,
+                    extraterrestrial_normal_w_m2: g_on,
+                    zenith_deg: z,
+                    azimuth_deg: s.position.azimuth_deg,
+                    air_mass_relative: sun::air_mass_relative(z).unwrap_or(0.0),
+                };
+                let poa = sky::poa_parts_prepared(SkyModel::Perez, &surface, &state, 0.2);
+                let eff = sky::apply_iam(&poa, &glass, &factors);
+                acc += eff.total_w_m2()
+                    + thermal.cell_temperature_c(poa.total_w_m2(), w.air_temp_c[k], 1.0);
+            }
+            black_box(acc)
+        })
+    });
+}
+
+fn demo_year(c: &mut Criterion) {
+    let loaded = load(&PlanSource::Demo).expect("demo loads");
+    let plan = &loaded.plan;
+    let temps = wirerank::design_temperatures(plan, &loaded.weather);
+    let all = layouts::listed(plan);
+    let passing: Vec<&layouts::Layout> = all
+        .iter()
+        .filter(|l| {
+            limits::check_layout(plan, l, &temps)
+                .iter()
+                .all(|f| f.severity != limits::Severity::Reject)
+        })
+        .collect();
+    let mut g = c.benchmark_group("demo year, single thread");
+    g.sample_size(10);
+    g.bench_function("phase 1 (all orientations)", |b| {
+        b.iter(|| black_box(simulate::phase1(plan, &loaded.weather, &loaded.site)))
+    });
+    let cond = simulate::phase1(plan, &loaded.weather, &loaded.site);
+    g.bench_function("phase 2: curve solving", |b| {
+        b.iter(|| black_box(phase2::all_interval_curves(plan, &cond, false)))
+    });
+    let curves = phase2::all_interval_curves(plan, &cond, false);
+    g.bench_function("phase 2: combination and controllers", |b| {
+        b.iter(|| {
+            black_box(phase2::simulate_layouts(
+                plan, &cond, &curves, &passing, false,
+            ))
+        })
+    });
+    g.bench_function("whole run: phase 1 + phase 2", |b| {
+        b.iter(|| {
+            let cond = simulate::phase1(plan, &loaded.weather, &loaded.site);
+            black_box(phase2::run(plan, &cond, &passing, false))
+        })
+    });
+    g.finish();
+}
+
+criterion_group!(benches, one_orientation_year, demo_year);
+criterion_main!(benches);
