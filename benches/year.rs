@@ -95,14 +95,14 @@ fn demo_year(c: &mut Criterion) {
     g.bench_function("phase 2: combination and controllers", |b| {
         b.iter(|| {
             black_box(phase2::simulate_layouts(
-                plan, &cond, &curves, &passing, false,
+                plan, &cond, &curves, &passing, false, false,
             ))
         })
     });
     g.bench_function("whole run: phase 1 + phase 2", |b| {
         b.iter(|| {
             let cond = simulate::phase1(plan, &loaded.weather, &loaded.site);
-            black_box(phase2::run(plan, &cond, &passing, false))
+            black_box(phase2::run(plan, &cond, &passing, false, false))
         })
     });
     g.finish();

@@ -189,6 +189,7 @@ pub fn simulate_and_rank(
     source: &PlanSource,
     criterion: rank::Criterion,
     parallel: bool,
+    hourly: bool,
 ) -> Result<RankResult, Error> {
     let loaded = load(source)?;
     let plan = &loaded.plan;
@@ -210,7 +211,7 @@ pub fn simulate_and_rank(
         .filter(|o| !o.rejected())
         .map(|o| &o.layout)
         .collect();
-    let energies = phase2::run(plan, &conditions, &passing, parallel);
+    let energies = phase2::run(plan, &conditions, &passing, parallel, hourly);
     let mut energies = energies.into_iter();
     for o in outcomes.iter_mut().filter(|o| !o.rejected()) {
         o.energy = energies.next();
@@ -234,7 +235,7 @@ pub fn simulate_and_rank(
 }
 
 fn rank(r: &RankRequest) -> Result<Outcome, Error> {
-    let result = simulate_and_rank(&r.plan, r.criterion, true)?;
+    let result = simulate_and_rank(&r.plan, r.criterion, true, false)?;
     let nothing_passed = result.outcomes.iter().all(|o| o.rank.is_none());
     let stdout = match r.format {
         OutputFormat::Table => report::ranking(&result),

@@ -81,6 +81,23 @@ pub struct LayoutEnergy {
     pub low_sun_wh: [f64; 12],
     /// Hours with at least one controller input awake.
     pub awake_h: [f64; 12],
+    /// One row per weather interval, when asked for (`--hourly`); empty otherwise.
+    pub hourly: Vec<HourRow>,
+}
+
+/// One layout in one interval, for the hourly export (powers are interval means, W).
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct HourRow {
+    /// Light on the wired modules × STC efficiency.
+    pub potential_w: f32,
+    /// Best power the array offers at the controller terminals.
+    pub available_w: f32,
+    /// Delivered to the battery.
+    pub delivered_w: f32,
+    /// Lost to output clipping.
+    pub clipped_w: f32,
+    /// At least one controller input awake.
+    pub awake: bool,
 }
 
 impl LayoutEnergy {
@@ -247,8 +264,12 @@ fn simulate_layout(
     cond: &Conditions,
     curves: &[Option<IntervalCurves>],
     layout: &Layout,
+    hourly: bool,
 ) -> LayoutEnergy {
     let mut e = LayoutEnergy::default();
+    if hourly {
+        e.hourly.reserve(cond.intervals.len());
+    }
     let mut awake = vec![false; layout.inputs.len()];
     let mut scratch = Scratch::default();
     let used: Vec<usize> = layout
@@ -261,12 +282,16 @@ fn simulate_layout(
     for (k, info) in cond.intervals.iter().enumerate() {
         let Some(ic) = &curves[k] else {
             awake.iter_mut().for_each(|a| *a = false);
+            if hourly {
+                e.hourly.push(HourRow::default());
+            }
             continue;
         };
         let m = (info.month - 1) as usize;
         let wh = info.hours;
         // Light bookkeeping over the wired modules (STC-efficiency DC equivalents).
         let mut sub_mpp_sum = 0.0;
+        let potential_before = e.potential_wh[m];
         for &mi in &used {
             let module = &plan.modules[mi];
             let t = &plan.module_types[module.module_type];
@@ -318,6 +343,15 @@ fn simulate_layout(
         e.delivered_wh[m] += powers.output_w * wh;
         if any_awake {
             e.awake_h[m] += wh;
+        }
+        if hourly {
+            e.hourly.push(HourRow {
+                potential_w: ((e.potential_wh[m] - potential_before) / wh) as f32,
+                available_w: powers.available_w as f32,
+                delivered_w: powers.output_w as f32,
+                clipped_w: (powers.after_input_limit_w - powers.input_w) as f32,
+                awake: any_awake,
+            });
         }
         if let Some(el) = info.sun_elevation_deg() {
             if el > 0.0 && el < low_sun {
@@ -408,16 +442,17 @@ pub fn simulate_layouts(
     curves: &[Option<IntervalCurves>],
     layouts: &[&Layout],
     parallel: bool,
+    hourly: bool,
 ) -> Vec<LayoutEnergy> {
     if parallel {
         layouts
             .par_iter()
-            .map(|l| simulate_layout(plan, cond, curves, l))
+            .map(|l| simulate_layout(plan, cond, curves, l, hourly))
             .collect()
     } else {
         layouts
             .iter()
-            .map(|l| simulate_layout(plan, cond, curves, l))
+            .map(|l| simulate_layout(plan, cond, curves, l, hourly))
             .collect()
     }
 }
@@ -429,7 +464,8 @@ pub fn run(
     cond: &Conditions,
     layouts: &[&Layout],
     parallel: bool,
+    hourly: bool,
 ) -> Vec<LayoutEnergy> {
     let curves = all_interval_curves(plan, cond, parallel);
-    simulate_layouts(plan, cond, &curves, layouts, parallel)
+    simulate_layouts(plan, cond, &curves, layouts, parallel, hourly)
 }
