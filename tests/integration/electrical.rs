@@ -18,6 +18,7 @@ fn run(name: &str, parallel: bool) -> RankResult {
         &PlanSource::File(fixture(name)),
         Criterion::Annual,
         parallel,
+        false,
     )
     .expect("fixture plan runs")
 }
