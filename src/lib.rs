@@ -120,6 +120,9 @@ pub struct Loaded {
     pub plan: Plan,
     pub weather: Weather,
     pub site: Site,
+    /// SHA-256 of the plan and weather files as read (provenance).
+    pub plan_sha256: String,
+    pub weather_sha256: String,
 }
 
 /// Reads and validates a plan, its weather file and the site they describe together.
@@ -127,16 +130,22 @@ pub struct Loaded {
 /// # Errors
 /// Any validation error of the plan or the weather file, or a site conflict between them.
 pub fn load(source: &PlanSource) -> Result<Loaded, Error> {
-    let (plan, weather) = match source {
+    let (plan, weather, plan_sha256, weather_sha256) = match source {
         PlanSource::Demo => {
             let plan = io::plan_toml::parse_plan(DEMO_PLAN, "demo plan", Path::new(""))?;
             let weather = io::weather_csv::parse_weather_csv(DEMO_WEATHER, "larchwood-2025.csv")?;
-            (plan, weather)
+            let hashes = (
+                io::sha256_hex(DEMO_PLAN.as_bytes()),
+                io::sha256_hex(DEMO_WEATHER.as_bytes()),
+            );
+            (plan, weather, hashes.0, hashes.1)
         }
         PlanSource::File(path) => {
             let plan = io::plan_toml::read_plan(path)?;
             let weather = io::weather_csv::read_weather_csv(&plan.weather_path)?;
-            (plan, weather)
+            let plan_hash = io::file_sha256(path).unwrap_or_default();
+            let weather_hash = io::file_sha256(&plan.weather_path).unwrap_or_default();
+            (plan, weather, plan_hash, weather_hash)
         }
     };
     let site = simulate::resolve_site(&plan, &weather)?;
@@ -149,6 +158,8 @@ pub fn load(source: &PlanSource) -> Result<Loaded, Error> {
         plan,
         weather,
         site,
+        plan_sha256,
+        weather_sha256,
     })
 }
 

@@ -6,3 +6,18 @@
 pub mod json;
 pub mod plan_toml;
 pub mod weather_csv;
+
+/// SHA-256 of some bytes, lower-case hex (provenance records).
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    use sha2::{Digest, Sha256};
+    Sha256::digest(bytes)
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect()
+}
+
+/// SHA-256 of a file's bytes, or `None` when it cannot be read (the run has already read it,
+/// so this only fails if the file changed underneath).
+pub fn file_sha256(path: &std::path::Path) -> Option<String> {
+    std::fs::read(path).ok().map(|b| sha256_hex(&b))
+}
