@@ -175,6 +175,10 @@ pub struct RankResult {
     pub light: Vec<tally::GroupMonthly>,
     /// Ranked layouts first (best first), then rejected ones.
     pub outcomes: Vec<rank::LayoutOutcome>,
+    /// Layouts listed in the plan (the rest were enumerated).
+    pub listed: usize,
+    /// Enumerated input choices skipped for breaking a hard limit on their own, by rule.
+    pub pruned: Vec<(&'static str, usize)>,
 }
 
 /// The temperatures the limit checks use: the weather's extremes widened by the plan's design
@@ -192,6 +196,53 @@ pub fn design_temperatures(plan: &Plan, weather: &Weather) -> limits::DesignTemp
     }
 }
 
+/// The candidate layouts of a plan and what enumeration skipped.
+#[derive(Clone, Debug)]
+pub struct Candidates {
+    pub layouts: Vec<layouts::Layout>,
+    /// How many were listed in the plan.
+    pub listed: usize,
+    /// Enumerated input choices skipped because they break a hard limit on their own, by rule.
+    pub pruned: Vec<(&'static str, usize)>,
+}
+
+/// The plan's listed layouts, then (with `layouts = "all"`) every enumerated one that is not
+/// already listed. Enumeration skips input choices that break a hard limit by themselves
+/// (counted by rule); listed layouts are always kept and checked.
+///
+/// # Errors
+/// Enumeration beyond [`layouts::MAX_CANDIDATES`].
+pub fn candidate_layouts(
+    plan: &Plan,
+    temps: &limits::DesignTemperatures,
+) -> Result<Candidates, Error> {
+    let mut all = layouts::listed(plan);
+    let listed = all.len();
+    let mut pruned = Vec::new();
+    if plan.enumerate_all {
+        let reject = |p: &Plan, d: &layouts::InputDraft| limits::input_hard_limit(p, temps, d);
+        let (found, skipped) = layouts::enumerate_pruned(plan, plan.enumerate, &reject).map_err(|e| {
+            Error::Usage(format!(
+                "{}: layouts = \"all\" gives more than {} candidate layouts; list the layouts you want instead, or turn off [enumerate] allow_unused_modules / allow_mixed_orientation",
+                plan.source.display(),
+                e.limit
+            ))
+        })?;
+        pruned = skipped;
+        for l in found {
+            let key = l.canonical();
+            if !all.iter().any(|x| x.canonical() == key) {
+                all.push(l);
+            }
+        }
+    }
+    Ok(Candidates {
+        layouts: all,
+        listed,
+        pruned,
+    })
+}
+
 /// Loads, checks, simulates and ranks.
 ///
 /// # Errors
@@ -205,8 +256,9 @@ pub fn simulate_and_rank(
     let loaded = load(source)?;
     let plan = &loaded.plan;
     let temps = design_temperatures(plan, &loaded.weather);
-    let candidates = layouts::listed(plan);
+    let candidates = candidate_layouts(plan, &temps)?;
     let mut outcomes: Vec<rank::LayoutOutcome> = candidates
+        .layouts
         .into_iter()
         .map(|layout| rank::LayoutOutcome {
             findings: limits::check_layout(plan, &layout, &temps),
@@ -242,6 +294,8 @@ pub fn simulate_and_rank(
         winter_months,
         light,
         outcomes,
+        listed: candidates.listed,
+        pruned: candidates.pruned,
     })
 }
 

@@ -366,3 +366,53 @@ fn push(out: &mut Vec<Finding>, severity: Severity, rule: &'static str, message:
         message,
     });
 }
+
+/// The hard limits that depend only on what one input carries (modules in series, strings in
+/// parallel, their module types): enumeration skips such choices before building layouts.
+/// Returns the rule broken, as named in [`check_layout`].
+pub fn input_hard_limit(
+    plan: &Plan,
+    temps: &DesignTemperatures,
+    draft: &crate::layouts::InputDraft,
+) -> Option<&'static str> {
+    let c = &plan.controllers[draft.controller];
+    let battery_v = plan.battery.charge_v;
+    let type_of = |g: usize| &plan.module_types[plan.groups[g].module_type];
+    let mut voc_cold_max: f64 = 0.0;
+    let mut max_system_v = f64::INFINITY;
+    let mut isc_sum = 0.0;
+    for (n, comp) in draft.compositions {
+        let mut voc = 0.0;
+        let mut isc = f64::INFINITY;
+        for (g, &count) in comp.iter().enumerate() {
+            if count == 0 {
+                continue;
+            }
+            let t = type_of(g);
+            voc += count as f64
+                * voc_at_v(t.datasheet.voc_v, t.datasheet.beta_voc_v_k, temps.min_air_c);
+            isc = isc.min(t.datasheet.isc_a);
+            max_system_v = max_system_v.min(t.max_system_v);
+        }
+        voc_cold_max = voc_cold_max.max(voc);
+        isc_sum += *n as f64 * isc;
+    }
+    if voc_cold_max > c.max_input_v {
+        return Some("cold-voc");
+    }
+    if voc_cold_max > max_system_v {
+        return Some("module-system-voltage");
+    }
+    if ISC_FACTOR * isc_sum > c.model.max_input_a() {
+        return Some("input-current");
+    }
+    match &c.model {
+        ControllerModel::Mppt { start_offset_v, .. }
+            if voc_cold_max < battery_v + start_offset_v =>
+        {
+            Some("never-wakes")
+        }
+        ControllerModel::Pwm { .. } if voc_cold_max <= battery_v => Some("never-charges"),
+        _ => None,
+    }
+}

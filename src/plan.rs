@@ -132,7 +132,7 @@ pub struct Battery {
 }
 
 /// A cable: one-way length, cross-section and conductor.
-#[derive(Clone, Debug)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct CableRun {
     /// One-way length, m (the resistance counts the round trip).
     pub length_m: f64,
@@ -198,6 +198,18 @@ pub struct Plan {
     pub layouts: Vec<LayoutSpec>,
     /// `layouts = "all"`: also enumerate every regular wiring.
     pub enumerate_all: bool,
+    /// What enumeration may do (`[enumerate]`).
+    pub enumerate: crate::layouts::EnumerateOptions,
+}
+
+impl ControllerInput {
+    /// Same behaviour, ratings and main run (the id aside): swapping the strings of two such
+    /// inputs changes nothing electrically.
+    pub fn same_hardware(&self, other: &ControllerInput) -> bool {
+        self.model == other.model
+            && self.max_input_v == other.max_input_v
+            && self.main_run == other.main_run
+    }
 }
 
 impl Plan {

@@ -58,6 +58,26 @@ pub fn ranking(r: &RankResult) -> String {
     );
     let ranked: Vec<_> = r.outcomes.iter().filter(|o| o.rank.is_some()).collect();
     let rejected: Vec<_> = r.outcomes.iter().filter(|o| o.rank.is_none()).collect();
+    let enumerated = r.outcomes.len() - r.listed;
+    let _ = writeln!(
+        out,
+        "{} candidate layouts ({} listed in the plan, {} enumerated)",
+        r.outcomes.len(),
+        r.listed,
+        enumerated
+    );
+    if !r.pruned.is_empty() {
+        let parts: Vec<String> = r
+            .pruned
+            .iter()
+            .map(|(rule, n)| format!("{rule} {n}"))
+            .collect();
+        let _ = writeln!(
+            out,
+            "enumeration skipped input wirings that break a hard limit on their own: {}",
+            parts.join(", ")
+        );
+    }
     let _ = writeln!(out);
     let winter: Vec<&str> = r.winter_months.iter().map(|&m| MONTHS[m]).collect();
     let _ = writeln!(
@@ -143,11 +163,19 @@ pub fn ranking(r: &RankResult) -> String {
     if !rejected.is_empty() {
         let _ = writeln!(out);
         let _ = writeln!(out, "Rejected (never ranked):");
-        for o in &rejected {
+        const SHOWN: usize = 15;
+        for o in rejected.iter().take(SHOWN) {
             let _ = writeln!(out, "  {}", o.layout.display_name());
             for f in o.findings.iter().filter(|f| f.severity == Severity::Reject) {
                 let _ = writeln!(out, "    ✗ {}: {}", f.rule, f.message);
             }
+        }
+        if rejected.len() > SHOWN {
+            let _ = writeln!(
+                out,
+                "  … and {} more (all are in --format json and summary.csv)",
+                rejected.len() - SHOWN
+            );
         }
     }
     let warned: Vec<_> = ranked

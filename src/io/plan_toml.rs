@@ -36,6 +36,14 @@ struct RawPlan {
     #[serde(default)]
     layout: Vec<S<RawLayout>>,
     layouts: Option<S<String>>,
+    enumerate: Option<RawEnumerate>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawEnumerate {
+    allow_unused_modules: Option<bool>,
+    allow_mixed_orientation: Option<bool>,
 }
 
 #[derive(Deserialize)]
@@ -451,6 +459,18 @@ fn validate(ctx: &Ctx, raw: RawPlan, base_dir: &Path) -> Result<Plan, PlanError>
         shade,
         layouts,
         enumerate_all,
+        enumerate: crate::layouts::EnumerateOptions {
+            allow_unused_modules: raw
+                .enumerate
+                .as_ref()
+                .and_then(|e| e.allow_unused_modules)
+                .unwrap_or(false),
+            allow_mixed_orientation: raw
+                .enumerate
+                .as_ref()
+                .and_then(|e| e.allow_mixed_orientation)
+                .unwrap_or(false),
+        },
     })
 }
 

@@ -1,0 +1,154 @@
+//! Enumeration of every wiring (`layouts = "all"`).
+
+use std::path::Path;
+
+use wirerank::io::plan_toml::parse_plan;
+use wirerank::layouts::{enumerate, EnumerateOptions};
+use wirerank::plan::Plan;
+
+/// A plan with the given groups (name, count, azimuth) and controller inputs, no listed layouts.
+/// Inputs differ in their main-run length (so they are not interchangeable) unless their
+/// names start with "same".
+fn plan(groups: &[(&str, usize, f64)], inputs: &[&str]) -> Plan {
+    let mut t = String::from(
+        r#"layouts = "all"
+[weather]
+file = "unused.csv"
+[module_type.m]
+pmax_w = 120
+voc_v = 22.4
+isc_a = 7.05
+vmp_v = 18.2
+imp_a = 6.60
+alpha_isc_pct_k = 0.05
+beta_voc_pct_k = -0.30
+gamma_pmax_pct_k = -0.40
+cells_in_series = 36
+bypass_diodes = 2
+noct_c = 45
+length_m = 1.2
+width_m = 0.54
+max_system_v = 1000
+max_series_fuse_a = 15
+[battery]
+nominal_v = 12
+[cables]
+string_lead_length_m = 5
+string_lead_mm2 = 4
+"#,
+    );
+    for (name, count, az) in groups {
+        t.push_str(&format!(
+            "[group.{name}]\nmodule_type = \"m\"\ncount = {count}\ntilt_deg = 30\nazimuth_deg = {az}\n"
+        ));
+    }
+    for (k, c) in inputs.iter().enumerate() {
+        let run_m = if c.starts_with("same") { 5 } else { 5 + k };
+        t.push_str(&format!(
+            "[controller.{c}]\nkind = \"mppt\"\nmax_input_v = 150\nmax_input_a = 50\nmax_charge_a = 40\nmppt_min_v = 15\nmain_run_length_m = {run_m}\nmain_run_mm2 = 10\n"
+        ));
+    }
+    parse_plan(&t, "test plan", Path::new("")).expect("test plan is valid")
+}
+
+#[test]
+fn twelve_modules_on_one_input_give_the_six_divisor_layouts() {
+    // Source: common practice, no source — s·p = 12 has exactly the divisor pairs
+    // 1×12, 2×6, 3×4, 4×3, 6×2, 12×1.
+    let p = plan(&[("roof", 12, 180.0)], &["mppt"]);
+    let found = enumerate(&p, EnumerateOptions::default()).expect("tractable");
+    let mut codes: Vec<String> = found.iter().map(|l| l.code.clone()).collect();
+    codes.sort();
+    assert_eq!(codes, ["12s1p", "1s12p", "2s6p", "3s4p", "4s3p", "6s2p"]);
+}
+
+#[test]
+fn two_inputs_count_matches_the_hand_count() {
+    // Source: hand count — 4 modules over inputs A and B (either may stay empty, not both,
+    // every module used): splits (nA, nB) = (0,4) (1,3) (2,2) (3,1) (4,0) give
+    // d(0)·d(4) + d(1)·d(3) + d(2)·d(2) + d(3)·d(1) + d(4)·d(0) with d(0) = 1 (empty),
+    // d(1) = 1, d(2) = 2, d(3) = 2, d(4) = 3: 3 + 2 + 4 + 2 + 3 = 14.
+    let p = plan(&[("roof", 4, 180.0)], &["a", "b"]);
+    let found = enumerate(&p, EnumerateOptions::default()).expect("tractable");
+    assert_eq!(found.len(), 14);
+    // Two inputs with the same hardware are interchangeable: unordered pairs remain —
+    // {4, 0}: 3; {1, 3}: 1·2 = 2; {2, 2}: pairs with repetition from 2 choices = 3 → 8.
+    let same = plan(&[("roof", 4, 180.0)], &["same_a", "same_b"]);
+    assert_eq!(
+        enumerate(&same, EnumerateOptions::default())
+            .expect("ok")
+            .len(),
+        8
+    );
+    // No layout appears twice.
+    for (i, x) in found.iter().enumerate() {
+        for y in &found[i + 1..] {
+            assert_ne!(x.canonical(), y.canonical());
+        }
+    }
+}
+
+#[test]
+fn mixed_strings_only_when_allowed_and_marked() {
+    // Source: hand count — groups of 2 (east) and 2 (west) on one input, all used, no mixing:
+    // s = 1: 4 strings (1 way); s = 2: one string from each group (1 way) → 2 layouts.
+    // With mixing: + s = 2 with (1 east + 1 west) × p = 2; s = 4: (2 + 2) × 1; s = 3 cannot
+    // use all four; s = 1 compositions are single-group only → 4 layouts.
+    let p = plan(&[("east", 2, 90.0), ("west", 2, 270.0)], &["mppt"]);
+    let plain = enumerate(&p, EnumerateOptions::default()).expect("tractable");
+    assert_eq!(plain.len(), 2);
+    assert!(plain.iter().all(|l| !l.mixed_orientation));
+    let mixed = enumerate(
+        &p,
+        EnumerateOptions {
+            allow_mixed_orientation: true,
+            allow_unused_modules: false,
+        },
+    )
+    .expect("tractable");
+    assert_eq!(mixed.len(), 4);
+    assert_eq!(mixed.iter().filter(|l| l.mixed_orientation).count(), 2);
+}
+
+#[test]
+fn unused_modules_only_when_allowed() {
+    // Source: hand count — 3 modules, one input: all used → 1s3p, 3s1p (2); with unused
+    // allowed: + 1s1p, 1s2p, 2s1p (any s·p ≤ 3) → 5.
+    let p = plan(&[("roof", 3, 180.0)], &["mppt"]);
+    assert_eq!(
+        enumerate(&p, EnumerateOptions::default())
+            .expect("ok")
+            .len(),
+        2
+    );
+    let with_unused = enumerate(
+        &p,
+        EnumerateOptions {
+            allow_unused_modules: true,
+            allow_mixed_orientation: false,
+        },
+    )
+    .expect("ok");
+    assert_eq!(with_unused.len(), 5);
+}
+
+#[test]
+fn forty_modules_on_four_inputs_stay_tractable() {
+    // Source: the issue's bound (≤ 40 modules, ≤ 4 inputs must stay tractable).
+    let p = plan(&[("south", 12, 180.0), ("west", 12, 270.0)], &["a", "b"]);
+    let n = enumerate(&p, EnumerateOptions::default())
+        .expect("24 modules, 2 inputs")
+        .len();
+    eprintln!("24 modules, 2 inputs: {n} candidates");
+    let p = plan(
+        &[("south", 24, 180.0), ("west", 16, 270.0)],
+        &["same_a", "same_b", "same_c", "same_d"],
+    );
+    match enumerate(&p, EnumerateOptions::default()) {
+        Ok(found) => {
+            eprintln!("40 modules, 4 inputs: {} candidates", found.len());
+            assert!(!found.is_empty());
+        }
+        Err(e) => eprintln!("40 modules, 4 inputs: over the {} cap", e.limit),
+    }
+}
