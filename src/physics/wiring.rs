@@ -22,7 +22,7 @@
 //!   array's open circuit). The array's open-circuit voltage is therefore the highest
 //!   string open-circuit voltage at the terminals.
 
-use super::diode::{substring_voltage_v, Mpp, OperatingParams};
+use super::diode::{Mpp, OperatingParams};
 
 /// Number of grid points used by the simulation for one interval's curves.
 ///
@@ -152,7 +152,8 @@ pub struct SubstringCurve {
 ///
 /// # Formula
 /// v_k = max(V(I_k), −Vd) with V(I) the explicit single-diode solution
-/// (`OperatingParams::voltage_at`) and Vd the bypass diode's forward drop.
+/// (`OperatingParams::voltage_at`, here through its warm-started fast path
+/// `OperatingParams::clamped_voltages_at`) and Vd the bypass diode's forward drop.
 ///
 /// # Source
 /// MODEL.md §7 (bypass diodes), De Soto et al. 2006 (the curve).
@@ -186,12 +187,7 @@ pub fn substring_curve_into(
     grid: &CurrentGrid,
     out: &mut SubstringCurve,
 ) {
-    out.v.clear();
-    out.v.extend(
-        grid.currents()
-            .iter()
-            .map(|&i| substring_voltage_v(p, i, bypass_drop_v)),
-    );
+    p.clamped_voltages_at(grid.currents(), bypass_drop_v, &mut out.v);
 }
 
 /// String voltage at each grid current, V.
@@ -245,9 +241,11 @@ pub struct ArrayCurve {
     pub i: Vec<f64>,
 }
 
-/// Whether two string curves are the same slice (the caller passed it twice).
+/// Whether two string curves are identical: the same slice passed twice, or two strings
+/// built from the same substring curves in the same order (bitwise equal sums). Comparing
+/// n values is far cheaper than interpolating them again.
 fn same_slice(a: &[f64], b: &[f64]) -> bool {
-    std::ptr::eq(a.as_ptr(), b.as_ptr()) && a.len() == b.len()
+    (std::ptr::eq(a.as_ptr(), b.as_ptr()) && a.len() == b.len()) || a == b
 }
 
 /// Parallel strings on one controller input → the array curve at the controller terminals.
@@ -258,8 +256,8 @@ fn same_slice(a: &[f64], b: &[f64]) -> bool {
 /// string's current by linear interpolation between its grid points, 0 above its own
 /// open-circuit voltage and, at or below its lowest voltage, the current where that lowest
 /// voltage is first reached (the bypassed, vertical end of the curve); m_s the number
-/// of times the same slice was passed (identical strings are interpolated once). Then the
-/// main run: V_terminal = V − I_array·R_main.
+/// of identical strings (the same slice passed again, or equal values: identical strings
+/// are interpolated once). Then the main run: V_terminal = V − I_array·R_main.
 ///
 /// # Source
 /// MODEL.md §8; parallel addition at equal voltage is common practice (Kirchhoff's laws).
@@ -277,27 +275,118 @@ pub fn array_curve(
     let currents = grid.currents();
     out.v.clear();
     out.i.clear();
-    let is_first = |k: usize| !strings[..k].iter().any(|t| same_slice(t, strings[k]));
+    // Group identical strings: representative index and multiplicity, on the stack.
+    let mut rep = [0usize; MAX_STRING_GROUPS];
+    let mut mult = [0u32; MAX_STRING_GROUPS];
+    let mut groups = 0;
+    let mut overflow = false;
     for (k, s) in strings.iter().enumerate() {
-        if is_first(k) {
-            out.v.extend(s.iter().rev());
+        if let Some(j) = (0..groups).find(|&j| same_slice(strings[rep[j]], s)) {
+            mult[j] += 1;
+        } else if groups < MAX_STRING_GROUPS {
+            rep[groups] = k;
+            mult[groups] = 1;
+            groups += 1;
+        } else {
+            overflow = true;
+            break;
         }
     }
-    out.v.sort_unstable_by(f64::total_cmp);
-    out.v.dedup();
-    out.i.resize(out.v.len(), 0.0);
-    for (k, s) in strings.iter().enumerate() {
-        if !is_first(k) {
-            continue;
+    if overflow {
+        // More distinct strings than the stack holds (not a small array any more): take
+        // every string on its own, with a sort instead of the merge. Same result.
+        for s in strings {
+            out.v.extend(s.iter().rev());
         }
-        let m = strings.iter().filter(|t| same_slice(t, s)).count() as f64;
-        add_string_current(s, currents, m, &out.v, &mut out.i);
+        out.v.sort_unstable_by(f64::total_cmp);
+        out.v.dedup();
+        out.i.resize(out.v.len(), 0.0);
+        for s in strings {
+            add_string_current(s, currents, 1.0, &out.v, &mut out.i);
+        }
+    } else if groups == 1 {
+        // All strings identical (the common unshaded case): the array points are the
+        // string's own points, currents × m, no interpolation. In a run of equal voltages
+        // (the bypassed end) keep the smallest current, as add_string_current does.
+        let s = strings[rep[0]];
+        let m = f64::from(mult[0]);
+        for (v, i) in s.iter().zip(currents).rev() {
+            if out.v.last() == Some(v) {
+                if let Some(last) = out.i.last_mut() {
+                    *last = m * i;
+                }
+            } else {
+                out.v.push(*v);
+                out.i.push(m * i);
+            }
+        }
+    } else {
+        // out.i serves as the merge's scratch buffer before it receives the currents.
+        merge_voltages(strings, &rep[..groups], &mut out.v, &mut out.i);
+        out.i.clear();
+        out.i.resize(out.v.len(), 0.0);
+        for j in 0..groups {
+            add_string_current(
+                strings[rep[j]],
+                currents,
+                f64::from(mult[j]),
+                &out.v,
+                &mut out.i,
+            );
+        }
     }
     if main_resistance_ohm != 0.0 {
         for (v, i) in out.v.iter_mut().zip(&out.i) {
             *v -= i * main_resistance_ohm;
         }
     }
+}
+
+/// Most distinct strings on one controller input handled without allocation.
+const MAX_STRING_GROUPS: usize = 16;
+
+/// Merges the voltages of the listed strings (each not increasing, so read backwards it
+/// is ascending) into one ascending list without duplicates, in `out`; `scratch` is a
+/// second buffer of the caller's, used when there are three strings or more.
+///
+/// One string: a reversed copy. Two: a two-pointer merge. More: pairwise merges of the
+/// running result with the next string, alternating between the two buffers.
+fn merge_voltages(strings: &[&[f64]], reps: &[usize], out: &mut Vec<f64>, scratch: &mut Vec<f64>) {
+    out.clear();
+    match reps {
+        [] => {}
+        [a] => out.extend(strings[*a].iter().rev()),
+        [a, rest @ ..] => {
+            out.extend(strings[*a].iter().rev());
+            for &r in rest {
+                scratch.clear();
+                merge_ascending_with_reversed(out, strings[r], scratch);
+                std::mem::swap(out, scratch);
+            }
+        }
+    }
+    out.dedup();
+}
+
+/// Two-pointer merge of an ascending list `a` with a not-increasing list `b` read
+/// backwards, into `out` (ascending; a value present in both is written once).
+fn merge_ascending_with_reversed(a: &[f64], b: &[f64], out: &mut Vec<f64>) {
+    let (mut ia, mut ib) = (0, b.len());
+    while ia < a.len() && ib > 0 {
+        let (va, vb) = (a[ia], b[ib - 1]);
+        if va <= vb {
+            out.push(va);
+            ia += 1;
+            if va == vb {
+                ib -= 1;
+            }
+        } else {
+            out.push(vb);
+            ib -= 1;
+        }
+    }
+    out.extend_from_slice(&a[ia..]);
+    out.extend(b[..ib].iter().rev());
 }
 
 /// Adds m·I_s(V) at every voltage of `vs` (ascending) to `acc`, walking the string's
@@ -384,7 +473,7 @@ impl ArrayCurve {
         }
         let lo = v_lo.max(self.v[0]);
         let hi = v_hi.min(self.v[n - 1]);
-        if !(hi > lo) {
+        if hi <= lo || hi.is_nan() || lo.is_nan() {
             return found;
         }
         // Stream the critical points (window ends, vertices, segment tops) in voltage order
@@ -422,9 +511,12 @@ impl ArrayCurve {
             if v0 >= hi {
                 break;
             }
-            if v1 > v0 {
-                let s = (i1 - i0) / (v1 - v0);
-                if s < 0.0 {
+            let (dv, di) = (v1 - v0, i1 - i0);
+            // dP/dV just inside the segment's ends, times dv > 0 (no division): the segment
+            // has an interior top only when the power rises at v0 and falls at v1.
+            if dv > 0.0 && i0 * dv + di * v0 > 0.0 && i1 * dv + di * v1 < 0.0 {
+                let s = di / dv;
+                {
                     let v_top = (s * v0 - i0) / (2.0 * s);
                     if v_top > v0.max(lo) && v_top < v1.min(hi) {
                         let i = i0 + s * (v_top - v0);
@@ -887,6 +979,7 @@ mod tests {
     }
 
     #[test]
+    #[allow(clippy::approx_constant)] // 3.14 Ω/kft is the table's value for 14 AWG, not π
     fn copper_awg_against_nec_table_8() {
         // Source: NEC 2017 Chapter 9 Table 8, uncoated stranded copper at 75 °C: 10 AWG
         // 1.24 Ω/kft, 12 AWG 1.98 Ω/kft. Tolerance 3 %: the table is for stranded
@@ -932,5 +1025,125 @@ mod tests {
         // Source: same formula, temperature correction (recomputed): 70 °C is 1 + 0.00393·50.
         let hot = cable_resistance_ohm(Conductor::Copper, 10.0, 4.0, 70.0);
         assert!((hot / r - 1.1965).abs() <= 1e-9);
+    }
+
+    #[test]
+    fn parallel_sum_matches_single_strings() {
+        // Source: general mathematics (Kirchhoff: parallel currents add at equal voltage;
+        // the union-of-points curve must equal the sum of the single-string curves at every
+        // one of its points); 1e-9 A. Exercises the merge of 1, 2 and 3 distinct strings.
+        let p = module60().substring(3);
+        let (lit, dimmer, dim) = (p.at(900.0, 45.0), p.at(600.0, 35.0), p.at(200.0, 45.0));
+        let grid = CurrentGrid::new(1.02 * lit.il_a, GRID_POINTS_DEFAULT);
+        let a = substring_curve(&lit, BYPASS_DROP_DEFAULT_V, &grid);
+        let b = substring_curve(&dimmer, BYPASS_DROP_DEFAULT_V, &grid);
+        let c = substring_curve(&dim, BYPASS_DROP_DEFAULT_V, &grid);
+        let (mut sa, mut sb, mut sc) = (Vec::new(), Vec::new(), Vec::new());
+        string_curve(&[&a; 6], 0.08, None, &grid, &mut sa);
+        string_curve(&[&b; 6], 0.08, None, &grid, &mut sb);
+        string_curve(&[&c, &a, &a, &a, &a, &a], 0.0, Some(0.6), &grid, &mut sc);
+        let single = |s: &[f64]| {
+            let mut arr = ArrayCurve::default();
+            array_curve(&[s], &grid, 0.0, &mut arr);
+            arr
+        };
+        let (ua, ub, uc) = (single(&sa), single(&sb), single(&sc));
+        let cases: [(&[&[f64]], [f64; 3]); 3] = [
+            (&[&sa, &sb], [1.0, 1.0, 0.0]),
+            (&[&sa, &sb, &sc, &sb], [1.0, 2.0, 1.0]),
+            (&[&sc, &sc.clone(), &sa], [1.0, 0.0, 2.0]),
+        ];
+        for (strings, [ma, mb, mc]) in cases {
+            let mut arr = ArrayCurve::default();
+            array_curve(strings, &grid, 0.0, &mut arr);
+            assert!(
+                arr.v.windows(2).all(|w| w[1] > w[0]),
+                "ascending, no duplicates"
+            );
+            for (&v, &i) in arr.v.iter().zip(&arr.i) {
+                let want = ma * ua.current_at(v) + mb * ub.current_at(v) + mc * uc.current_at(v);
+                assert!((i - want).abs() <= 1e-9, "v {v}: {i} vs {want}");
+            }
+        }
+    }
+
+    /// Demo-sized year of this module's work: 4400 daylight intervals, 8 modules of
+    /// 3 substrings in 2 orientations, 6 layouts, a shaded substring every fourth hour.
+    #[test]
+    #[ignore = "timing, run by hand: cargo test --release --lib year_of_curves -- --ignored --nocapture"]
+    fn year_of_curves_fits_the_budget() {
+        // Source: the brief's budget: the whole demo year in 0.25 s single-threaded; this
+        // part (curves, strings, arrays, maxima) must leave most of it to the rest: 0.1 s.
+        let p = module60().substring(3);
+        let grid_n = GRID_POINTS_DEFAULT;
+        let mut grid = CurrentGrid::new(10.0, grid_n);
+        let (mut east, mut west, mut dim) = (
+            SubstringCurve::default(),
+            SubstringCurve::default(),
+            SubstringCurve::default(),
+        );
+        let mut strings: Vec<Vec<f64>> = vec![Vec::new(); 8];
+        let mut arr = ArrayCurve::default();
+        let mut checksum = 0.0;
+        let start = std::time::Instant::now();
+        for h in 0..4400 {
+            let s_e = 100.0 + (h % 9) as f64 * 100.0;
+            let s_w = 900.0 - (h % 9) as f64 * 90.0;
+            let t = 10.0 + (h % 13) as f64 * 3.0;
+            let (oe, ow, od) = (p.at(s_e, t), p.at(s_w, t), p.at(0.3 * s_e, t));
+            let shaded = h % 4 == 0;
+            grid.reset(1.02 * oe.il_a.max(ow.il_a), grid_n);
+            substring_curve_into(&oe, BYPASS_DROP_DEFAULT_V, &grid, &mut east);
+            substring_curve_into(&ow, BYPASS_DROP_DEFAULT_V, &grid, &mut west);
+            if shaded {
+                substring_curve_into(&od, BYPASS_DROP_DEFAULT_V, &grid, &mut dim);
+            }
+            let first = if shaded { &dim } else { &east };
+            let e_mod = [first, &east, &east];
+            let e_clear = [&east, &east, &east];
+            let w_mod = [&west, &west, &west];
+            // Layouts: 8S mixed; 4S2P by orientation; 4S2P mixed; 2S4P by orientation;
+            // 2S4P mixed; 1S8P.
+            let layouts: [&[usize]; 6] = [
+                &[8],
+                &[4, 4],
+                &[4, 4],
+                &[2, 2, 2, 2],
+                &[2, 2, 2, 2],
+                &[1; 8],
+            ];
+            for (li, layout) in layouts.iter().enumerate() {
+                for (si, &len) in layout.iter().enumerate() {
+                    let mut subs: Vec<&SubstringCurve> = Vec::with_capacity(3 * len);
+                    for m in 0..len {
+                        let by_orientation = li == 1 || li == 3 || li == 5;
+                        let is_east = if by_orientation {
+                            si < layout.len() / 2
+                        } else {
+                            m % 2 == 0
+                        };
+                        let module = if !is_east {
+                            &w_mod
+                        } else if si == 0 && m == 0 {
+                            &e_mod
+                        } else {
+                            &e_clear
+                        };
+                        subs.extend(module.iter().copied());
+                    }
+                    string_curve(&subs, 0.05, None, &grid, &mut strings[si]);
+                }
+                let refs: Vec<&[f64]> = strings[..layout.len()]
+                    .iter()
+                    .map(|v| v.as_slice())
+                    .collect();
+                array_curve(&refs, &grid, 0.02, &mut arr);
+                checksum += best(&arr.local_maxima(10.0, 140.0)).p;
+            }
+        }
+        let secs = start.elapsed().as_secs_f64();
+        println!("year of curves: {secs:.3} s (checksum {checksum:.1})");
+        assert!(checksum > 0.0);
+        assert!(secs <= 0.1, "{secs} s");
     }
 }
