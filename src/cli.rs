@@ -25,6 +25,8 @@ pub struct Cli {
 pub enum Command {
     /// Simulate the plan's layouts over the weather year and rank them.
     Rank(RankArgs),
+    /// Check every layout against the electrical limits only (no simulation).
+    Check(CheckArgs),
     /// Print a commented starter plan to copy and edit.
     Template,
     /// Print the sun's elevation and azimuth for a site over a date or a range of dates.
@@ -37,6 +39,12 @@ pub struct RankArgs {
     pub plan: PathBuf,
     #[command(flatten)]
     pub output: OutputArgs,
+}
+
+#[derive(Debug, Args)]
+pub struct CheckArgs {
+    /// The plan file (TOML); `demo` checks the bundled demo plan.
+    pub plan: PathBuf,
 }
 
 #[derive(Debug, Args, Default)]
@@ -145,6 +153,11 @@ impl Cli {
                 format: a.output.format.into(),
                 criterion: a.output.by.into(),
                 quiet: a.output.quiet,
+            }),
+            Some(Command::Check(a)) => Request::Check(if a.plan.as_os_str() == "demo" {
+                PlanSource::Demo
+            } else {
+                PlanSource::File(a.plan)
             }),
             Some(Command::Template) => Request::Template,
             Some(Command::Sunpath(a)) => Request::Sunpath(SunpathRequest {

@@ -86,6 +86,8 @@ pub struct SunpathRequest {
 #[derive(Clone, Debug)]
 pub enum Request {
     Rank(RankRequest),
+    /// `wirerank check`: limits only.
+    Check(PlanSource),
     Template,
     Sunpath(SunpathRequest),
 }
@@ -106,6 +108,7 @@ pub struct Outcome {
 pub fn run(request: Request) -> Result<Outcome, Error> {
     match request {
         Request::Rank(r) => rank(&r),
+        Request::Check(source) => check(&source),
         Request::Template => Ok(Outcome {
             stdout: TEMPLATE_PLAN.to_string(),
             ..Outcome::default()
@@ -316,5 +319,56 @@ fn rank(r: &RankRequest) -> Result<Outcome, Error> {
             .map(|w| w.to_string())
             .collect(),
         nothing_passed,
+    })
+}
+
+/// Every candidate layout with its limit findings, without simulating.
+#[derive(Clone, Debug)]
+pub struct CheckResult {
+    pub loaded: Loaded,
+    pub temps: limits::DesignTemperatures,
+    pub candidates: Candidates,
+    /// Findings per layout, in `candidates.layouts` order.
+    pub findings: Vec<Vec<limits::Finding>>,
+}
+
+/// Loads the plan and weather and checks every candidate layout's limits.
+///
+/// # Errors
+/// As [`load`] and [`candidate_layouts`].
+pub fn check_limits(source: &PlanSource) -> Result<CheckResult, Error> {
+    let loaded = load(source)?;
+    let temps = design_temperatures(&loaded.plan, &loaded.weather);
+    let candidates = candidate_layouts(&loaded.plan, &temps)?;
+    let findings = candidates
+        .layouts
+        .iter()
+        .map(|l| limits::check_layout(&loaded.plan, l, &temps))
+        .collect();
+    Ok(CheckResult {
+        loaded,
+        temps,
+        candidates,
+        findings,
+    })
+}
+
+fn check(source: &PlanSource) -> Result<Outcome, Error> {
+    let r = check_limits(source)?;
+    let passed = r
+        .findings
+        .iter()
+        .filter(|f| f.iter().all(|x| x.severity != limits::Severity::Reject))
+        .count();
+    Ok(Outcome {
+        stdout: report::check(&r),
+        warnings: r
+            .loaded
+            .weather
+            .warnings
+            .iter()
+            .map(|w| w.to_string())
+            .collect(),
+        nothing_passed: passed == 0,
     })
 }

@@ -12,7 +12,7 @@ use crate::limits::Severity;
 use crate::phase2::Step;
 use crate::physics::sun::{self, Atmosphere, Observer};
 use crate::tally::GroupMonthly;
-use crate::{Loaded, Outcome, RankResult, SunpathRequest};
+use crate::{CheckResult, Loaded, Outcome, RankResult, SunpathRequest};
 
 const MONTHS: [&str; 12] = [
     "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec",
@@ -241,6 +241,71 @@ pub fn ranking(r: &RankResult) -> String {
     }
     let _ = writeln!(out);
     out.push_str(&light_section(r));
+    let _ = writeln!(out);
+    let _ = writeln!(out, "{CAUTIONS}");
+    out
+}
+
+/// `wirerank check`: every layout with pass / warn / reject and the numbers.
+pub fn check(r: &CheckResult) -> String {
+    let mut out = String::new();
+    site_header(&mut out, &r.loaded);
+    let plan = &r.loaded.plan;
+    let _ = writeln!(
+        out,
+        "{} modules, battery {:.1} V; limits checked at {:.0} °C (coldest) and {:.0} °C (hottest air)",
+        plan.modules.len(),
+        plan.battery.charge_v,
+        r.temps.min_air_c,
+        r.temps.max_air_c
+    );
+    let n = r.candidates.layouts.len();
+    let _ = writeln!(
+        out,
+        "{n} candidate layouts ({} listed in the plan, {} enumerated)",
+        r.candidates.listed,
+        n - r.candidates.listed
+    );
+    if !r.candidates.pruned.is_empty() {
+        let parts: Vec<String> = r
+            .candidates
+            .pruned
+            .iter()
+            .map(|(rule, k)| format!("{rule} {k}"))
+            .collect();
+        let _ = writeln!(
+            out,
+            "enumeration skipped input wirings that break a hard limit on their own: {}",
+            parts.join(", ")
+        );
+    }
+    let _ = writeln!(out);
+    let mut passed = 0;
+    for (l, findings) in r.candidates.layouts.iter().zip(&r.findings) {
+        let rejected = findings.iter().any(|f| f.severity == Severity::Reject);
+        let warned = findings.iter().any(|f| f.severity == Severity::Warn);
+        let verdict = if rejected {
+            "reject"
+        } else if warned {
+            "warn  "
+        } else {
+            "pass  "
+        };
+        if !rejected {
+            passed += 1;
+        }
+        let _ = writeln!(out, "{verdict}  {}", l.display_name());
+        for f in findings {
+            let mark = if f.severity == Severity::Reject {
+                "✗"
+            } else {
+                "!"
+            };
+            let _ = writeln!(out, "          {mark} {}: {}", f.rule, f.message);
+        }
+    }
+    let _ = writeln!(out);
+    let _ = writeln!(out, "{passed} of {n} layouts pass the hard limits");
     let _ = writeln!(out);
     let _ = writeln!(out, "{CAUTIONS}");
     out
