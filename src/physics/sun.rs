@@ -13,8 +13,6 @@
 //! Duffie & Beckman keep the book's south-based angles inside and convert at the boundary.
 //! The method is written out in `notebooks-free-docs/method-sun.md`.
 
-use std::f64::consts::PI;
-
 /// Solar constant, W/m².
 ///
 /// # Source
@@ -42,7 +40,10 @@ pub fn day_angle_rad(day_of_year: f64) -> f64 {
 /// Spencer 1971; Duffie & Beckman 4th ed. eq. 1.4.1b.
 ///
 /// # Validity
-/// Any day of year; accurate to about 1e-4.
+/// Any day of year. Against SPA's 1/R² (2020–2023) it is within 1.2e-3 (0.12 %, 1.6 W/m² of
+/// G_on): its first harmonic 0.034221 is larger than 2e = 0.0334 for today's orbital
+/// eccentricity. Spencer's own claim of 1e-4 (from memory) holds only for his fitted data.
+/// Use 1/R² from [`solar_position`]-grade code (NREL SPA) where 0.1 % matters.
 pub fn earth_sun_distance_factor(day_of_year: f64) -> f64 {
     let g = day_angle_rad(day_of_year);
     1.000110
@@ -73,7 +74,11 @@ pub fn extraterrestrial_normal_w_m2(day_of_year: f64) -> f64 {
 /// Spencer 1971; Duffie & Beckman 4th ed. eq. 1.6.1b.
 ///
 /// # Validity
-/// Error below about 0.035°; use [`solar_position`]-grade code (NREL SPA) where that matters.
+/// Spencer states a maximum error of 0.0006 rad (0.035°) for his fitted year, and that is
+/// what SPA shows at the best-matching phase (00:00 UTC in 2020). A calendar day of a real
+/// year sits up to ±0.75 day from that phase (time of day, leap-year cycle) and δ moves up
+/// to 0.4°/day, so against SPA at a given instant the error reaches about 0.5° near the
+/// equinoxes. Use [`solar_position`] (NREL SPA) where that matters.
 pub fn declination_spencer_deg(day_of_year: f64) -> f64 {
     let g = day_angle_rad(day_of_year);
     (0.006918 - 0.399912 * g.cos() + 0.070257 * g.sin() - 0.006758 * (2.0 * g).cos()
@@ -90,6 +95,9 @@ pub fn declination_spencer_deg(day_of_year: f64) -> f64 {
 ///
 /// # Source
 /// Spencer 1971 as printed in Duffie & Beckman 4th ed. eq. 1.5.3.
+///
+/// # Validity
+/// Within about 0.9 min of SPA's equation of time (2020–2023, tested).
 pub fn equation_of_time_min(day_of_year: f64) -> f64 {
     let g = day_angle_rad(day_of_year);
     229.2
@@ -196,7 +204,7 @@ impl SunPosition {
 /// JD = unix_s / 86400 + 2440587.5 (1970-01-01T00:00 UTC is JD 2440587.5).
 ///
 /// # Source
-/// Equivalent to SPA report eq. 4 (Meeus's calendar formula) for Gregorian dates; UTC is
+/// Equivalent to SPA report step 3.1 (Meeus's calendar formula) for Gregorian dates; UTC is
 /// taken as UT1 (ΔUT1 = 0).
 ///
 /// # Validity
@@ -208,12 +216,14 @@ pub fn julian_day(unix_s: f64) -> f64 {
 /// Unix time of JD 2451545.0 (2000-01-01T12:00 UTC), the epoch of SPA's centuries.
 const UNIX_J2000_S: f64 = 946_728_000.0;
 
-/// Sidereal rotation of the mean sidereal time, degrees per day (SPA eq. 12).
+/// Sidereal rotation of the mean sidereal time, degrees per day (SPA step 3.8).
 const SIDEREAL_DEG_PER_DAY: f64 = 360.98564736629;
 
-/// SPA steps 3.1–3.8 and 3.12: everything that does not depend on the observer.
-/// Field names follow the symbols of the SPA report.
+/// SPA steps 3.1–3.10 and A.1: everything that does not depend on the observer.
+/// Field names follow the symbols of the SPA report. Every intermediate value is kept so
+/// that the tests can check it against the report's worked example.
 #[derive(Clone, Copy, Debug)]
+#[cfg_attr(not(test), allow(dead_code))]
 pub(crate) struct Geocentric {
     pub jd: f64,
     pub jde: f64,
@@ -244,8 +254,10 @@ pub(crate) struct Geocentric {
     pub eot_min: f64,
 }
 
-/// SPA steps 3.9–3.11 and A.4: what depends on the observer.
+/// SPA steps 3.11–3.15: what depends on the observer (all intermediate values kept,
+/// as for [`Geocentric`]).
 #[derive(Clone, Copy, Debug)]
+#[cfg_attr(not(test), allow(dead_code))]
 pub(crate) struct Topocentric {
     /// Observer local hour angle H (0…360), equatorial horizontal parallax ξ, parallax in
     /// right ascension Δα, topocentric α′, δ′, H′; all degrees.
@@ -273,19 +285,98 @@ pub(crate) struct SpaDetail {
     pub topo: Topocentric,
 }
 
-/// Sum of A·cos(B + C·τ) over one row set of SPA Table A4.2.
-#[inline]
-fn periodic_sum(terms: &[[f64; 3]], jme: f64) -> f64 {
-    let mut s = 0.0;
-    for t in terms {
-        s += t[0] * (t[1] + t[2] * jme).cos();
+/// One row set of SPA Table A4.2 stored by column (A, B, C), so that the loop over its
+/// terms vectorises.
+struct Series<const N: usize> {
+    a: [f64; N],
+    b: [f64; N],
+    c: [f64; N],
+}
+
+const fn by_column<const N: usize>(rows: &[[f64; 3]; N]) -> Series<N> {
+    let mut s = Series {
+        a: [0.0; N],
+        b: [0.0; N],
+        c: [0.0; N],
+    };
+    let mut i = 0;
+    while i < N {
+        s.a[i] = rows[i][0];
+        s.b[i] = rows[i][1];
+        s.c[i] = rows[i][2];
+        i += 1;
     }
     s
 }
 
+/// Sum of A·cos(B + C·τ) over one row set of SPA Table A4.2 (step 3.2), τ = JME.
+#[inline]
+fn periodic_sum<const N: usize>(s: &Series<N>, jme: f64) -> f64 {
+    let mut terms = [0.0f64; N];
+    for (term, ((a, b), c)) in terms.iter_mut().zip(s.a.iter().zip(&s.b).zip(&s.c)) {
+        *term = a * cos_periodic(b + c * jme);
+    }
+    // Smallest terms first (the tables are sorted by decreasing amplitude).
+    terms.iter().rev().sum()
+}
+
+/// cos x for the periodic-term sums, |x| < 1e6 (SPA's arguments stay below ~1e5 for
+/// years −2000…6000): Cody–Waite reduction by π/2 with the two-part constant of fdlibm,
+/// then Taylor polynomials on |r| ≤ π/4 carried to r¹⁶ (cos) and r¹⁷ (sin), whose
+/// truncation error is below 1e-18. Within 2e-16 of `f64::cos` (tested) and free of calls
+/// and branches, so that the loop over the 195 periodic terms — most of the cost of one SPA
+/// evaluation — vectorises.
+#[inline(always)]
+fn cos_periodic(x: f64) -> f64 {
+    // π/2 = PIO2_HI + PIO2_LO; PIO2_HI has 33 significant bits, so k·PIO2_HI is exact for
+    // |k| < 2^20 and x − k·PIO2_HI is exact near x.
+    const PIO2_HI: f64 = f64::from_bits(0x3FF9_21FB_5440_0000); // 1.5707963267341256
+    const PIO2_LO: f64 = f64::from_bits(0x3DD0_B461_1A62_6331); // 6.077100506506192e-11
+                                                                // Round to nearest by adding 1.5·2^52: the integer k then sits in the low mantissa bits
+                                                                // (f64::round would be a libm call on baseline x86-64).
+    const ROUNDER: f64 = 6_755_399_441_055_744.0;
+    let shifted = x * std::f64::consts::FRAC_2_PI + ROUNDER;
+    let q = shifted.to_bits(); // low two bits = k mod 4
+    let k = shifted - ROUNDER;
+    let r = (x - k * PIO2_HI) - k * PIO2_LO;
+    let r2 = r * r;
+    let c = 1.0
+        + r2 * (-1.0 / 2.0
+            + r2 * (1.0 / 24.0
+                + r2 * (-1.0 / 720.0
+                    + r2 * (1.0 / 40_320.0
+                        + r2 * (-1.0 / 3_628_800.0
+                            + r2 * (1.0 / 479_001_600.0
+                                + r2 * (-1.0 / 87_178_291_200.0 + r2 / 20_922_789_888_000.0)))))));
+    let s = r
+        * (1.0
+            + r2 * (-1.0 / 6.0
+                + r2 * (1.0 / 120.0
+                    + r2 * (-1.0 / 5_040.0
+                        + r2 * (1.0 / 362_880.0
+                            + r2 * (-1.0 / 39_916_800.0
+                                + r2 * (1.0 / 6_227_020_800.0
+                                    + r2 * (-1.0 / 1_307_674_368_000.0
+                                        + r2 / 355_687_428_096_000.0))))))));
+    // cos(r + kπ/2) = c, −s, −c, s for k mod 4 = 0, 1, 2, 3: pick by bit masks.
+    let odd = (q & 1).wrapping_neg();
+    let v = (c.to_bits() & !odd) | (s.to_bits() & odd);
+    let sign = ((q.wrapping_add(1)) & 2) << 62;
+    f64::from_bits(v ^ sign)
+}
+
+/// Reduce an angle to 0…360 degrees (SPA's limit_degrees). Truncation by an integer cast
+/// instead of `rem_euclid`, which is a libm `fmod` call; exact for |x| < 2^53.
 #[inline]
 fn limit_deg(x: f64) -> f64 {
-    x.rem_euclid(360.0)
+    let y = x - 360.0 * ((x / 360.0) as i64 as f64);
+    if y < 0.0 {
+        y + 360.0
+    } else if y >= 360.0 {
+        y - 360.0
+    } else {
+        y
+    }
 }
 
 /// Wrap an angle difference to −180…180 degrees.
@@ -299,7 +390,7 @@ fn wrap180(x: f64) -> f64 {
     }
 }
 
-/// Nutation in longitude and obliquity (SPA eq. 15–22), degrees.
+/// Nutation in longitude and obliquity (SPA step 3.4), degrees.
 ///
 /// The 63 arguments Σ Y_ij X_j are integer combinations of five angles, so e^{i·arg} is a
 /// product of integer powers of e^{i X_j}: ten trigonometric calls replace 126, with the
@@ -319,16 +410,13 @@ fn nutation(jce: f64, x_deg: &[f64; 5]) -> (f64, f64) {
         pow[j][1] = (p2.0, -p2.1);
         pow[j][0] = (p3.0, -p3.1);
     }
+    let mul = |a: (f64, f64), b: (f64, f64)| (a.0 * b.0 - a.1 * b.1, a.0 * b.1 + a.1 * b.0);
     let mut sum_psi = 0.0;
     let mut sum_eps = 0.0;
     for (y, abcd) in NUT_Y.iter().zip(NUT_ABCD.iter()) {
-        let (mut re, mut im) = (1.0f64, 0.0f64);
-        for j in 0..5 {
-            let (c, s) = pow[j][(y[j] + 3) as usize];
-            let r = re * c - im * s;
-            im = re * s + im * c;
-            re = r;
-        }
+        let p = |j: usize| pow[j][(y[j] + 3) as usize];
+        // Pairwise products: a shorter dependency chain than a running product.
+        let (re, im) = mul(mul(mul(p(0), p(1)), mul(p(2), p(3))), p(4));
         sum_psi += (abcd[0] + abcd[1] * jce) * im;
         sum_eps += (abcd[2] + abcd[3] * jce) * re;
     }
@@ -347,31 +435,31 @@ pub(crate) fn spa_geocentric(unix_s: f64, delta_t_s: f64) -> Geocentric {
     let jce = days_e / 36525.0;
     let jme = jce / 10.0;
 
-    // 3.2 Earth heliocentric longitude, latitude, radius vector (eq. 9–11).
-    let l_rad = (((((periodic_sum(&L5, jme) * jme + periodic_sum(&L4, jme)) * jme
-        + periodic_sum(&L3, jme))
+    // 3.2 Earth heliocentric longitude, latitude, radius vector.
+    let l_rad = (((((periodic_sum(&L5S, jme) * jme + periodic_sum(&L4S, jme)) * jme
+        + periodic_sum(&L3S, jme))
         * jme
-        + periodic_sum(&L2, jme))
+        + periodic_sum(&L2S, jme))
         * jme
-        + periodic_sum(&L1, jme))
+        + periodic_sum(&L1S, jme))
         * jme
-        + periodic_sum(&L0, jme))
+        + periodic_sum(&L0S, jme))
         / 1e8;
     let l_deg = limit_deg(l_rad.to_degrees());
-    let b_deg = ((periodic_sum(&B1, jme) * jme + periodic_sum(&B0, jme)) / 1e8).to_degrees();
-    let r_au = ((((periodic_sum(&R4, jme) * jme + periodic_sum(&R3, jme)) * jme
-        + periodic_sum(&R2, jme))
+    let b_deg = ((periodic_sum(&B1S, jme) * jme + periodic_sum(&B0S, jme)) / 1e8).to_degrees();
+    let r_au = ((((periodic_sum(&R4S, jme) * jme + periodic_sum(&R3S, jme)) * jme
+        + periodic_sum(&R2S, jme))
         * jme
-        + periodic_sum(&R1, jme))
+        + periodic_sum(&R1S, jme))
         * jme
-        + periodic_sum(&R0, jme))
+        + periodic_sum(&R0S, jme))
         / 1e8;
 
-    // 3.3 Geocentric longitude and latitude (eq. 13–14).
+    // 3.3 Geocentric longitude and latitude.
     let theta_deg = limit_deg(l_deg + 180.0);
     let beta_deg = -b_deg;
 
-    // 3.4 Nutation (eq. 15–23).
+    // 3.4 Nutation.
     let t = jce;
     let x_deg = [
         297.85036 + 445267.111480 * t - 0.0019142 * t * t + t * t * t / 189474.0,
@@ -382,7 +470,7 @@ pub(crate) fn spa_geocentric(unix_s: f64, delta_t_s: f64) -> Geocentric {
     ];
     let (delta_psi_deg, delta_eps_deg) = nutation(jce, &x_deg);
 
-    // 3.5 True obliquity of the ecliptic (eq. 24–25; 4680.93 as corrected in 2009).
+    // 3.5 True obliquity of the ecliptic (4680.93 as corrected in 2009).
     let u = jme / 10.0;
     let eps0_arcsec = 84381.448
         + u * (-4680.93
@@ -393,11 +481,11 @@ pub(crate) fn spa_geocentric(unix_s: f64, delta_t_s: f64) -> Geocentric {
                             + u * (-39.05 + u * (7.12 + u * (27.87 + u * (5.79 + u * 2.45)))))))));
     let eps_deg = eps0_arcsec / 3600.0 + delta_eps_deg;
 
-    // 3.6–3.7 Aberration and apparent sun longitude (eq. 26–27).
+    // 3.6–3.7 Aberration and apparent sun longitude.
     let delta_tau_deg = -20.4898 / (3600.0 * r_au);
     let lambda_deg = theta_deg + delta_psi_deg + delta_tau_deg;
 
-    // 3.8 Apparent sidereal time at Greenwich (eq. 28–29).
+    // 3.8 Apparent sidereal time at Greenwich.
     let nu0_deg = limit_deg(
         280.46061837 + SIDEREAL_DEG_PER_DAY * days + 0.000387933 * jc * jc
             - jc * jc * jc / 38_710_000.0,
@@ -405,7 +493,7 @@ pub(crate) fn spa_geocentric(unix_s: f64, delta_t_s: f64) -> Geocentric {
     let (sin_eps, cos_eps) = eps_deg.to_radians().sin_cos();
     let nu_deg = nu0_deg + delta_psi_deg * cos_eps;
 
-    // 3.9–3.10 Geocentric right ascension and declination (eq. 30–31).
+    // 3.9–3.10 Geocentric right ascension and declination.
     let (sin_lam, cos_lam) = lambda_deg.to_radians().sin_cos();
     let beta = beta_deg.to_radians();
     let alpha_deg = limit_deg(
@@ -417,7 +505,7 @@ pub(crate) fn spa_geocentric(unix_s: f64, delta_t_s: f64) -> Geocentric {
         .asin()
         .to_degrees();
 
-    // A.1 Equation of time (eq. A1–A2), reduced to −720…720 min (±20 min in practice).
+    // A.1 Equation of time, reduced to −720…720 min (±20 min in practice).
     let m = jme;
     let sun_mean_long = limit_deg(
         280.4664567
@@ -456,28 +544,51 @@ pub(crate) fn spa_geocentric(unix_s: f64, delta_t_s: f64) -> Geocentric {
     }
 }
 
-/// SPA observer part (eq. 32–44) from apparent sidereal time ν, geocentric α, δ and R.
+/// SPA observer part (steps 3.11–3.15) from apparent sidereal time ν, geocentric α, δ and R.
+/// The observer terms of SPA that do not change with time: sin φ, cos φ and the parallax
+/// terms x, y of step 3.12 (u = atan(0.99664719 tan φ), x = cos u + E/6378140 · cos φ,
+/// y = 0.99664719 sin u + E/6378140 · sin φ).
+#[derive(Clone, Copy, Debug)]
+pub(crate) struct Site {
+    longitude_deg: f64,
+    sin_phi: f64,
+    cos_phi: f64,
+    x: f64,
+    y: f64,
+}
+
+impl Site {
+    pub(crate) fn new(obs: &Observer) -> Self {
+        let phi = obs.latitude_deg.to_radians();
+        let (sin_phi, cos_phi) = phi.sin_cos();
+        let u = (0.99664719 * phi.tan()).atan();
+        let (sin_u, cos_u) = u.sin_cos();
+        Site {
+            longitude_deg: obs.longitude_deg,
+            sin_phi,
+            cos_phi,
+            x: cos_u + obs.elevation_m / 6_378_140.0 * cos_phi,
+            y: 0.99664719 * sin_u + obs.elevation_m / 6_378_140.0 * sin_phi,
+        }
+    }
+}
+
 pub(crate) fn spa_topocentric(
     nu_deg: f64,
     alpha_deg: f64,
     delta_deg: f64,
     r_au: f64,
-    obs: &Observer,
+    site: &Site,
     atm: &Atmosphere,
 ) -> Topocentric {
-    // 3.11 Observer local hour angle (eq. 32), measured westward from south.
-    let h_deg = limit_deg(nu_deg + obs.longitude_deg - alpha_deg);
+    // 3.11 Observer local hour angle, measured westward from south.
+    let h_deg = limit_deg(nu_deg + site.longitude_deg - alpha_deg);
     let h = h_deg.to_radians();
 
-    // 3.12 Parallax in right ascension and topocentric declination (eq. 33–38).
+    // 3.12 Parallax in right ascension and topocentric declination.
     let xi_deg = 8.794 / (3600.0 * r_au);
     let sin_xi = xi_deg.to_radians().sin();
-    let phi = obs.latitude_deg.to_radians();
-    let (sin_phi, cos_phi) = phi.sin_cos();
-    let u = (0.99664719 * phi.tan()).atan();
-    let (sin_u, cos_u) = u.sin_cos();
-    let x = cos_u + obs.elevation_m / 6_378_140.0 * cos_phi;
-    let y = 0.99664719 * sin_u + obs.elevation_m / 6_378_140.0 * sin_phi;
+    let (sin_phi, cos_phi, x, y) = (site.sin_phi, site.cos_phi, site.x, site.y);
     let (sin_d, cos_d) = delta_deg.to_radians().sin_cos();
     let (sin_h, cos_h) = h.sin_cos();
     let denom = cos_d - x * sin_xi * cos_h;
@@ -487,12 +598,12 @@ pub(crate) fn spa_topocentric(
     let delta_prime = ((sin_d - y * sin_xi) * delta_alpha.cos()).atan2(denom);
     let delta_prime_deg = delta_prime.to_degrees();
 
-    // 3.13 Topocentric local hour angle (eq. 39).
+    // 3.13 Topocentric local hour angle.
     let h_prime_deg = h_deg - delta_alpha_deg;
     let (sin_hp, cos_hp) = h_prime_deg.to_radians().sin_cos();
     let (sin_dp, cos_dp) = delta_prime.sin_cos();
 
-    // 3.14 Topocentric zenith angle (eq. 40–44). The refraction correction is applied only
+    // 3.14 Topocentric zenith angle. The refraction correction is applied only
     // while the sun's upper limb can still be above the apparent horizon, as in SPA.
     let e0_deg = (sin_phi * sin_dp + cos_phi * cos_dp * cos_hp)
         .clamp(-1.0, 1.0)
@@ -507,7 +618,7 @@ pub(crate) fn spa_topocentric(
     let e_deg = e0_deg + delta_e_deg;
     let zenith_deg = 90.0 - e_deg;
 
-    // 3.15 Topocentric azimuth (eq. 45–46).
+    // 3.15 Topocentric azimuth.
     let azimuth_astro_deg = limit_deg(
         sin_hp
             .atan2(cos_hp * sin_phi - (sin_dp / cos_dp) * cos_phi)
@@ -539,7 +650,14 @@ pub(crate) fn solar_position_detailed(
     delta_t_s: f64,
 ) -> SpaDetail {
     let geo = spa_geocentric(unix_s, delta_t_s);
-    let topo = spa_topocentric(geo.nu_deg, geo.alpha_deg, geo.delta_deg, geo.r_au, obs, atm);
+    let topo = spa_topocentric(
+        geo.nu_deg,
+        geo.alpha_deg,
+        geo.delta_deg,
+        geo.r_au,
+        &Site::new(obs),
+        atm,
+    );
     SpaDetail { geo, topo }
 }
 
@@ -614,7 +732,7 @@ pub fn solar_position(
 ///
 /// # Source
 /// Duffie & Beckman, Solar Engineering of Thermal Processes, 4th ed., eq. 1.6.3; the same
-/// expression is SPA's eq. 47 (with Γ − γ in its south-based angles).
+/// expression is SPA's step 3.16 (with Γ − γ in its south-based angles).
 ///
 /// # Validity
 /// Any angles. θ > 90° means the sun is behind the surface; callers clip the beam there.
@@ -660,7 +778,7 @@ pub fn incidence_angle_deg(
 /// ```
 pub fn air_mass_relative(apparent_zenith_deg: f64) -> Option<f64> {
     let z = apparent_zenith_deg;
-    if !(z < 90.0) {
+    if z.is_nan() || z >= 90.0 {
         return None;
     }
     Some(1.0 / (z.to_radians().cos() + 0.50572 * (96.07995 - z).powf(-1.6364)))
@@ -785,105 +903,212 @@ pub struct IntervalSun {
     pub position: SunPosition,
 }
 
+/// The observer-independent quantities the topocentric step needs (a subset of
+/// [`Geocentric`]), so that they can come from a full SPA run or from interpolation.
+#[derive(Clone, Copy, Debug)]
+pub(crate) struct GeoCore {
+    pub nu_deg: f64,
+    pub alpha_deg: f64,
+    pub delta_deg: f64,
+    pub r_au: f64,
+    pub eot_min: f64,
+}
+
+impl Geocentric {
+    fn core(&self) -> GeoCore {
+        GeoCore {
+            nu_deg: self.nu_deg,
+            alpha_deg: self.alpha_deg,
+            delta_deg: self.delta_deg,
+            r_au: self.r_au,
+            eot_min: self.eot_min,
+        }
+    }
+}
+
+impl GeoCore {
+    fn topocentric(&self, site: &Site, atm: &Atmosphere) -> Topocentric {
+        spa_topocentric(
+            self.nu_deg,
+            self.alpha_deg,
+            self.delta_deg,
+            self.r_au,
+            site,
+            atm,
+        )
+    }
+
+    fn position(&self, site: &Site, atm: &Atmosphere) -> SunPosition {
+        let topo = self.topocentric(site, atm);
+        SunPosition {
+            zenith_deg: topo.zenith_deg,
+            zenith_geometric_deg: 90.0 - topo.e0_deg,
+            azimuth_deg: topo.azimuth_deg,
+            declination_deg: topo.delta_prime_deg,
+            equation_of_time_min: self.eot_min,
+        }
+    }
+
+    /// Geocentric geometric elevation (no parallax, no refraction), degrees: three
+    /// trigonometric calls instead of the full topocentric step. Parallax lowers the
+    /// topocentric value by at most ξ ≈ 0.0025°.
+    fn geocentric_elevation_deg(&self, site: &Site) -> f64 {
+        let (sd, cd) = self.delta_deg.to_radians().sin_cos();
+        let h = (self.nu_deg + site.longitude_deg - self.alpha_deg).to_radians();
+        (site.sin_phi * sd + site.cos_phi * cd * h.cos())
+            .clamp(-1.0, 1.0)
+            .asin()
+            .to_degrees()
+    }
+}
+
 /// Fastest rate of change of the sun's elevation at a latitude, degrees per hour.
 ///
 /// de/dt = −ω cos φ sin A (A = azimuth, ω = Earth rotation relative to the sun, at most
 /// ~15.04°/h with the equation-of-time drift), plus the declination's own motion (at most
-/// ~0.017°/h) and a small allowance for parallax and refraction-free arithmetic.
+/// ~0.017°/h), rounded up.
 fn max_elevation_rate_deg_per_h(lat_deg: f64) -> f64 {
     15.1 * lat_deg.to_radians().cos().abs() + 0.02
 }
 
-/// Linear interpolation of the geocentric quantities the topocentric step needs, between
-/// two instants at which the full SPA was run (ν is advanced at the sidereal rate; its
-/// small nutation drift and α, δ, R are interpolated; angles are unwrapped first).
+/// Geometric elevation below which SPA adds no refraction, degrees: −(0.26667 + 0.5667).
+const NO_REFRACTION_BELOW_DEG: f64 = -(SUN_RADIUS_DEG + REFRACTION_AT_HORIZON_DEG);
+
+/// Verdict on an interval from one elevation estimate at its midpoint.
+enum Screen {
+    /// Apparent elevation > 0 throughout.
+    LitThroughout,
+    /// Apparent elevation < 0 throughout.
+    DarkThroughout,
+    Undecided,
+}
+
+/// Decide an interval from a geometric elevation `e_mid_deg` at its midpoint known to within
+/// `err_deg`. Over the half interval the geometric elevation moves at most `reach`. If it
+/// stays above 0, the apparent elevation (≥ geometric) does too; if it stays below
+/// −0.8334°, SPA adds no refraction and the apparent elevation equals it, < 0.
+fn screen(e_mid_deg: f64, err_deg: f64, lat_deg: f64, len_s: f64) -> Screen {
+    let reach = max_elevation_rate_deg_per_h(lat_deg) * (0.5 * len_s / 3600.0) + err_deg + 0.01;
+    if e_mid_deg - reach > 0.0 {
+        Screen::LitThroughout
+    } else if e_mid_deg + reach < NO_REFRACTION_BELOW_DEG - 1e-4 {
+        Screen::DarkThroughout
+    } else {
+        Screen::Undecided
+    }
+}
+
+/// Low-precision geometric elevation of the sun's centre, degrees, from the Astronomical
+/// Almanac's low-precision formulas (n = JD − 2451545: L = 280.460° + 0.9856474° n,
+/// g = 357.528° + 0.9856003° n, λ = L + 1.915° sin g + 0.020° sin 2g,
+/// ε = 23.439° − 4e-7° n; α, δ from λ, ε) and the SPA mean sidereal time. The Almanac
+/// states 0.01° for α and δ over 1950–2050; against SPA (tested, 1900–2100) the elevation
+/// stays within [`LOW_PRECISION_ERROR_DEG`]. Only used to skip SPA in intervals that are
+/// dark throughout.
+fn low_precision_elevation_deg(unix_s: f64, obs: &Observer) -> f64 {
+    let n = (unix_s - UNIX_J2000_S) / 86400.0;
+    let l = 280.460 + 0.985_647_4 * n;
+    let g = (357.528 + 0.985_600_3 * n).to_radians();
+    let lambda = (l + 1.915 * g.sin() + 0.020 * (2.0 * g).sin()).to_radians();
+    let (se, ce) = (23.439 - 4e-7 * n).to_radians().sin_cos();
+    let (sl, cl) = lambda.sin_cos();
+    let alpha_deg = (ce * sl).atan2(cl).to_degrees();
+    let sin_delta = se * sl;
+    let cos_delta = (1.0 - sin_delta * sin_delta).sqrt();
+    let h = (280.46061837 + SIDEREAL_DEG_PER_DAY * n + obs.longitude_deg - alpha_deg).to_radians();
+    let (sp, cp) = obs.latitude_deg.to_radians().sin_cos();
+    (sp * sin_delta + cp * cos_delta * h.cos())
+        .clamp(-1.0, 1.0)
+        .asin()
+        .to_degrees()
+}
+
+/// Error allowance of [`low_precision_elevation_deg`] against SPA's topocentric geometric
+/// elevation (measured ≤ 0.02° over 1900–2100, see tests), degrees.
+const LOW_PRECISION_ERROR_DEG: f64 = 0.1;
+
+/// Unix-time range in which the low-precision screen is trusted: 1900–2100.
+const LOW_PRECISION_RANGE_S: (f64, f64) = (-2_208_988_800.0, 4_102_444_800.0);
+
+/// Linear interpolation of [`GeoCore`] between two instants (ν is advanced at the sidereal
+/// rate and its small remaining drift interpolated; angles are unwrapped first).
 struct GeoLine {
     t0: f64,
     t1: f64,
-    nu0: f64,
+    g0: GeoCore,
     nu_drift: f64,
-    alpha0: f64,
     d_alpha: f64,
-    delta0: f64,
     d_delta: f64,
-    r0: f64,
     d_r: f64,
 }
 
 impl GeoLine {
-    fn new(t0: f64, g0: &Geocentric, t1: f64, g1: &Geocentric) -> Self {
+    fn new(t0: f64, g0: &GeoCore, t1: f64, g1: &GeoCore) -> Self {
         let span_days = (t1 - t0) / 86400.0;
         GeoLine {
             t0,
             t1,
-            nu0: g0.nu_deg,
+            g0: *g0,
             nu_drift: wrap180(g1.nu_deg - g0.nu_deg - SIDEREAL_DEG_PER_DAY * span_days),
-            alpha0: g0.alpha_deg,
             d_alpha: wrap180(g1.alpha_deg - g0.alpha_deg),
-            delta0: g0.delta_deg,
             d_delta: g1.delta_deg - g0.delta_deg,
-            r0: g0.r_au,
             d_r: g1.r_au - g0.r_au,
         }
     }
 
-    fn elevation_deg(&self, t: f64, obs: &Observer, atm: &Atmosphere, apparent: bool) -> f64 {
+    fn at(&self, t: f64) -> GeoCore {
         let f = (t - self.t0) / (self.t1 - self.t0);
-        let nu = self.nu0 + SIDEREAL_DEG_PER_DAY * (t - self.t0) / 86400.0 + self.nu_drift * f;
-        let topo = spa_topocentric(
-            nu,
-            self.alpha0 + self.d_alpha * f,
-            self.delta0 + self.d_delta * f,
-            self.r0 + self.d_r * f,
-            obs,
-            atm,
-        );
-        if apparent {
-            topo.e_deg
-        } else {
-            topo.e0_deg
+        GeoCore {
+            nu_deg: self.g0.nu_deg
+                + SIDEREAL_DEG_PER_DAY * (t - self.t0) / 86400.0
+                + self.nu_drift * f,
+            alpha_deg: self.g0.alpha_deg + self.d_alpha * f,
+            delta_deg: self.g0.delta_deg + self.d_delta * f,
+            r_au: self.g0.r_au + self.d_r * f,
+            eot_min: self.g0.eot_min,
         }
     }
 }
 
-/// Longest bracket over which the geocentric quantities are interpolated instead of
-/// recomputed, seconds. Over 2 h the interpolation error in α and δ is below 1e-5°.
+/// Longest bracket over which the geocentric quantities are interpolated linearly instead
+/// of recomputed, seconds. Over 2 h the interpolation error in α and δ is below 1e-5°.
 const MAX_INTERPOLATION_SPAN_S: f64 = 7200.0;
 
 /// Time resolution of the sunrise/sunset search, seconds.
 const CROSSING_TOLERANCE_S: f64 = 1.0;
 
+fn elevation_of(g: &GeoCore, site: &Site, atm: &Atmosphere, apparent: bool) -> f64 {
+    let topo = g.topocentric(site, atm);
+    if apparent {
+        topo.e_deg
+    } else {
+        topo.e0_deg
+    }
+}
+
 /// Instant at which the elevation of the sun's centre (apparent, or geometric when
 /// `apparent` is false) crosses `threshold_deg` between `t_lo` and `t_hi`, by bisection to
 /// [`CROSSING_TOLERANCE_S`]. The sign of (elevation − threshold) must differ at the two
-/// ends; the answer is the midpoint of the final bracket.
+/// ends; the answer is the midpoint of the final bracket. `geo` gives the geocentric
+/// values at an instant; it is called only while the bracket is longer than
+/// [`MAX_INTERPOLATION_SPAN_S`].
 #[allow(clippy::too_many_arguments)]
 fn find_crossing(
     mut t_lo: f64,
-    mut g_lo: Geocentric,
+    mut g_lo: GeoCore,
     mut t_hi: f64,
-    mut g_hi: Geocentric,
-    obs: &Observer,
+    mut g_hi: GeoCore,
+    site: &Site,
     atm: &Atmosphere,
-    delta_t_s: f64,
+    geo: &impl Fn(f64) -> GeoCore,
     threshold_deg: f64,
     apparent: bool,
 ) -> f64 {
-    let elev = |g: &Geocentric| {
-        let topo = spa_topocentric(g.nu_deg, g.alpha_deg, g.delta_deg, g.r_au, obs, atm);
-        if apparent {
-            topo.e_deg
-        } else {
-            topo.e0_deg
-        }
-    };
-    let up_at_lo = elev(&g_lo) > threshold_deg;
-    // Coarse phase for long brackets: full SPA at each midpoint.
+    let up_at_lo = elevation_of(&g_lo, site, atm, apparent) > threshold_deg;
     while t_hi - t_lo > MAX_INTERPOLATION_SPAN_S {
         let t_mid = 0.5 * (t_lo + t_hi);
-        let g = spa_geocentric(t_mid, delta_t_s);
-        let up = elev(&g) > threshold_deg;
-        if up == up_at_lo {
+        let g = geo(t_mid);
+        if (elevation_of(&g, site, atm, apparent) > threshold_deg) == up_at_lo {
             t_lo = t_mid;
             g_lo = g;
         } else {
@@ -891,12 +1116,10 @@ fn find_crossing(
             g_hi = g;
         }
     }
-    // Fine phase: only the topocentric step, on interpolated geocentric values.
     let line = GeoLine::new(t_lo, &g_lo, t_hi, &g_hi);
     while t_hi - t_lo > CROSSING_TOLERANCE_S {
         let t_mid = 0.5 * (t_lo + t_hi);
-        let up = line.elevation_deg(t_mid, obs, atm, apparent) > threshold_deg;
-        if up == up_at_lo {
+        if (elevation_of(&line.at(t_mid), site, atm, apparent) > threshold_deg) == up_at_lo {
             t_lo = t_mid;
         } else {
             t_hi = t_mid;
@@ -905,7 +1128,8 @@ fn find_crossing(
     0.5 * (t_lo + t_hi)
 }
 
-/// When the sun's centre crosses an elevation between two instants (see [`find_crossing`]).
+/// When the sun's centre crosses an elevation between two instants (full SPA).
+#[cfg_attr(not(test), allow(dead_code))]
 pub(crate) fn find_sun_crossing(
     t_lo: f64,
     t_hi: f64,
@@ -915,19 +1139,116 @@ pub(crate) fn find_sun_crossing(
     threshold_deg: f64,
     apparent: bool,
 ) -> f64 {
-    let g_lo = spa_geocentric(t_lo, delta_t_s);
-    let g_hi = spa_geocentric(t_hi, delta_t_s);
+    let geo = |t: f64| spa_geocentric(t, delta_t_s).core();
     find_crossing(
         t_lo,
-        g_lo,
+        geo(t_lo),
         t_hi,
-        g_hi,
-        obs,
+        geo(t_hi),
+        &Site::new(obs),
         atm,
-        delta_t_s,
+        &geo,
         threshold_deg,
         apparent,
     )
+}
+
+/// The interval rule of [`interval_sun`], with the geocentric values taken from `geo`.
+fn interval_sun_from(
+    start: f64,
+    end: f64,
+    obs: &Observer,
+    atm: &Atmosphere,
+    geo: &impl Fn(f64) -> GeoCore,
+) -> Option<IntervalSun> {
+    let site = &Site::new(obs);
+    if end <= start || end.is_nan() || start.is_nan() {
+        let g = geo(start);
+        let position = g.position(site, atm);
+        return (position.elevation_deg() > 0.0).then_some(IntervalSun {
+            eval_unix_s: start,
+            sunlit_frac: 1.0,
+            position,
+        });
+    }
+    let len = end - start;
+    let t_mid = 0.5 * (start + end);
+    let g_mid = geo(t_mid);
+    // Cheap verdict from the geocentric elevation (parallax ≤ 0.0025° is the error).
+    match screen(
+        g_mid.geocentric_elevation_deg(site),
+        0.003,
+        obs.latitude_deg,
+        len,
+    ) {
+        Screen::DarkThroughout => return None,
+        Screen::LitThroughout => {
+            return Some(IntervalSun {
+                eval_unix_s: t_mid,
+                sunlit_frac: 1.0,
+                position: g_mid.position(site, atm),
+            })
+        }
+        Screen::Undecided => {}
+    }
+
+    let g_start = geo(start);
+    let g_end = geo(end);
+    let up = |g: &GeoCore| elevation_of(g, site, atm, true) > 0.0;
+    let crossing = |t0: f64, g0: &GeoCore, t1: f64, g1: &GeoCore| {
+        find_crossing(t0, *g0, t1, *g1, site, atm, geo, 0.0, true)
+    };
+    let (lit_from, lit_to, lit_total) = match (up(&g_start), up(&g_mid), up(&g_end)) {
+        (false, false, false) => return None,
+        (true, true, true) => {
+            return Some(IntervalSun {
+                eval_unix_s: t_mid,
+                sunlit_frac: 1.0,
+                position: g_mid.position(site, atm),
+            })
+        }
+        // Sunrise inside.
+        (false, true, true) => {
+            let t = crossing(start, &g_start, t_mid, &g_mid);
+            (t, end, end - t)
+        }
+        (false, false, true) => {
+            let t = crossing(t_mid, &g_mid, end, &g_end);
+            (t, end, end - t)
+        }
+        // Sunset inside.
+        (true, true, false) => {
+            let t = crossing(t_mid, &g_mid, end, &g_end);
+            (start, t, t - start)
+        }
+        (true, false, false) => {
+            let t = crossing(start, &g_start, t_mid, &g_mid);
+            (start, t, t - start)
+        }
+        // Rise and set inside.
+        (false, true, false) => {
+            let rise = crossing(start, &g_start, t_mid, &g_mid);
+            let set = crossing(t_mid, &g_mid, end, &g_end);
+            (rise, set, set - rise)
+        }
+        // Set, then rise again inside: evaluate in the longer sunlit piece.
+        (true, false, true) => {
+            let set = crossing(start, &g_start, t_mid, &g_mid);
+            let rise = crossing(t_mid, &g_mid, end, &g_end);
+            let (first, second) = (set - start, end - rise);
+            if first >= second {
+                (start, set, first + second)
+            } else {
+                (rise, end, first + second)
+            }
+        }
+    };
+    let eval = 0.5 * (lit_from + lit_to);
+    Some(IntervalSun {
+        eval_unix_s: eval,
+        sunlit_frac: (lit_total / len).clamp(0.0, 1.0),
+        position: geo(eval).position(site, atm),
+    })
 }
 
 /// The sun for one weather interval [start, end): where to evaluate it and how much of the
@@ -935,33 +1256,36 @@ pub(crate) fn find_sun_crossing(
 ///
 /// # Formula
 /// "Sunlit" means the apparent topocentric elevation of the sun's centre is above 0°
-/// (refraction included, so the sun counts as up about 0.5° of geometric elevation before
-/// the geometric centre clears the horizon; the upper-limb definition of sunrise is a
-/// further 0.27° earlier). Then:
+/// (SPA refraction included: at 1010 hPa and 10 °C the sun counts as up once its geometric
+/// centre is 0.57° below the horizon; the upper-limb sunrise of almanacs, at −0.8333°, comes
+/// earlier, by 2.1 min in Denver in October). Then:
 /// - sunlit throughout: evaluate at the midpoint, `sunlit_frac` = 1;
 /// - sunrise (or sunset) inside: find the crossing t_c by bisection on the apparent
 ///   elevation to ~1 s; evaluate at the midpoint of [t_c, end) (or [start, t_c));
-/// - both inside (polar day edges, long intervals): midpoint of [t_rise, t_set);
+/// - rise and set inside (polar day edges, long intervals): midpoint of [t_rise, t_set);
 /// - set then rise inside (sun grazing the horizon near midnight at high latitude): the
-///   midpoint of the longer sunlit piece, `sunlit_frac` = the sum of both pieces;
+///   midpoint of the longer sunlit piece, `sunlit_frac` = both pieces together;
 /// - dark throughout: `None`.
 ///
-/// The state at start, midpoint and end decides the case. One full SPA call suffices when
-/// the midpoint elevation is far enough from the horizon that the sun cannot cross it
-/// within half an interval (bound: 15.1°/h · |cos φ| + 0.02°/h); otherwise both ends are
-/// evaluated too, and the bisection interpolates the geocentric values linearly between
-/// full SPA calls (error < 1e-5° over 2 h) so that only its cheap topocentric step repeats.
-/// The evaluation point itself always gets a full SPA call.
+/// The apparent elevation at start, midpoint and end decides the case. Cheaper paths reach
+/// the same verdict where the sun cannot cross the horizon within half an interval of the
+/// midpoint (elevation bound: 15.1°/h · |cos φ| + 0.02°/h): a low-precision almanac
+/// formula (error allowance 0.1°, 1900–2100 only) settles "dark throughout" without SPA,
+/// and one SPA call at the midpoint settles "sunlit throughout". Otherwise both ends get a
+/// full SPA call too, and the bisection interpolates the geocentric values linearly between
+/// full SPA calls (error < 1e-5° over 2 h), so that only the topocentric step repeats. The
+/// evaluation point always gets a full SPA call.
 ///
 /// # Source
-/// MODEL.md §2 (midpoint, or midpoint of the sunlit part at sunrise/sunset — common practice
-/// for hourly data); SPA for every position.
+/// MODEL.md §2 (midpoint, or midpoint of the sunlit part at sunrise/sunset — common
+/// practice for hourly data); SPA ([`solar_position`]) for every reported position.
 ///
 /// # Validity
 /// Intervals from seconds to a day. A rise-and-set pair that fits entirely between the
-/// three sampled instants is not seen (it needs the sun to graze the horizon for less than
-/// half an interval, only possible within a few days of polar day/night). An empty or
-/// reversed interval (`end_unix_s <= start_unix_s`) is treated as the instant `start`.
+/// three sampled instants is not seen (the sun would have to graze the horizon for less
+/// than half an interval, which happens only within a few days of the start or end of polar
+/// night). An empty or reversed interval (`end_unix_s <= start_unix_s`) is treated as the
+/// instant `start_unix_s`.
 pub fn interval_sun(
     start_unix_s: f64,
     end_unix_s: f64,
@@ -969,104 +1293,153 @@ pub fn interval_sun(
     atm: &Atmosphere,
     delta_t_s: f64,
 ) -> Option<IntervalSun> {
-    if !(end_unix_s > start_unix_s) {
-        let d = solar_position_detailed(start_unix_s, obs, atm, delta_t_s);
-        return (d.topo.e_deg > 0.0).then(|| IntervalSun {
-            eval_unix_s: start_unix_s,
-            sunlit_frac: 1.0,
-            position: d.position(),
-        });
-    }
-    let len = end_unix_s - start_unix_s;
     let t_mid = 0.5 * (start_unix_s + end_unix_s);
-    let mid = solar_position_detailed(t_mid, obs, atm, delta_t_s);
-
-    // Quick decision from the midpoint alone. The geometric elevation e0 changes at most
-    // `reach` degrees over the half interval. If e0 stays above 0 the apparent elevation
-    // (≥ e0) does too; if e0 stays below −0.8334° no refraction is added and the apparent
-    // elevation equals e0 < 0.
-    let reach = max_elevation_rate_deg_per_h(obs.latitude_deg) * (0.5 * len / 3600.0) + 0.01;
-    if mid.topo.e0_deg - reach > 0.0 {
-        return Some(IntervalSun {
-            eval_unix_s: t_mid,
-            sunlit_frac: 1.0,
-            position: mid.position(),
-        });
+    if end_unix_s > start_unix_s
+        && (LOW_PRECISION_RANGE_S.0..LOW_PRECISION_RANGE_S.1).contains(&t_mid)
+    {
+        let e = low_precision_elevation_deg(t_mid, obs);
+        let len = end_unix_s - start_unix_s;
+        if let Screen::DarkThroughout = screen(e, LOW_PRECISION_ERROR_DEG, obs.latitude_deg, len) {
+            return None;
+        }
     }
-    if mid.topo.e0_deg + reach < -(SUN_RADIUS_DEG + REFRACTION_AT_HORIZON_DEG) - 1e-4 {
-        return None;
-    }
-
-    let g_start = spa_geocentric(start_unix_s, delta_t_s);
-    let g_end = spa_geocentric(end_unix_s, delta_t_s);
-    let elev = |g: &Geocentric| {
-        spa_topocentric(g.nu_deg, g.alpha_deg, g.delta_deg, g.r_au, obs, atm).e_deg
-    };
-    let up_start = elev(&g_start) > 0.0;
-    let up_mid = mid.topo.e_deg > 0.0;
-    let up_end = elev(&g_end) > 0.0;
-    let crossing = |t0: f64, g0: &Geocentric, t1: f64, g1: &Geocentric| {
-        find_crossing(t0, *g0, t1, *g1, obs, atm, delta_t_s, 0.0, true)
-    };
-
-    let (lit_from, lit_to, lit_total) = match (up_start, up_mid, up_end) {
-        (false, false, false) => return None,
-        (true, true, true) => {
-            return Some(IntervalSun {
-                eval_unix_s: t_mid,
-                sunlit_frac: 1.0,
-                position: mid.position(),
-            })
-        }
-        // Sunrise inside.
-        (false, true, true) => {
-            let t = crossing(start_unix_s, &g_start, t_mid, &mid.geo);
-            (t, end_unix_s, end_unix_s - t)
-        }
-        (false, false, true) => {
-            let t = crossing(t_mid, &mid.geo, end_unix_s, &g_end);
-            (t, end_unix_s, end_unix_s - t)
-        }
-        // Sunset inside.
-        (true, true, false) => {
-            let t = crossing(t_mid, &mid.geo, end_unix_s, &g_end);
-            (start_unix_s, t, t - start_unix_s)
-        }
-        (true, false, false) => {
-            let t = crossing(start_unix_s, &g_start, t_mid, &mid.geo);
-            (start_unix_s, t, t - start_unix_s)
-        }
-        // Rise and set inside.
-        (false, true, false) => {
-            let rise = crossing(start_unix_s, &g_start, t_mid, &mid.geo);
-            let set = crossing(t_mid, &mid.geo, end_unix_s, &g_end);
-            (rise, set, set - rise)
-        }
-        // Set, then rise again inside: keep the longer sunlit piece for the evaluation.
-        (true, false, true) => {
-            let set = crossing(start_unix_s, &g_start, t_mid, &mid.geo);
-            let rise = crossing(t_mid, &mid.geo, end_unix_s, &g_end);
-            let (first, second) = (set - start_unix_s, end_unix_s - rise);
-            if first >= second {
-                (start_unix_s, set, first + second)
-            } else {
-                (rise, end_unix_s, first + second)
-            }
-        }
-    };
-    let eval = 0.5 * (lit_from + lit_to);
-    let pos = solar_position(eval, obs, atm, delta_t_s);
-    Some(IntervalSun {
-        eval_unix_s: eval,
-        sunlit_frac: (lit_total / len).clamp(0.0, 1.0),
-        position: pos,
-    })
+    let geo = |t: f64| spa_geocentric(t, delta_t_s).core();
+    interval_sun_from(start_unix_s, end_unix_s, obs, atm, &geo)
 }
+
+// =======================================================================================
+// Precomputed geocentric ephemeris (many positions over one span)
+// =======================================================================================
+
+/// The sun's geocentric SPA quantities at 00:00 UTC of every day of a time span, for fast
+/// positions anywhere inside it.
+///
+/// A year of hourly weather needs ~9 000 positions; the observer-independent part of SPA
+/// (the 195 periodic terms and the nutation series) is over 90 % of each one, and it varies
+/// smoothly over days. This table runs the full SPA once per day and interpolates α, δ, R,
+/// the nutation term of the sidereal time and the equation of time with a four-point
+/// (cubic) Lagrange formula; the mean sidereal time is computed exactly, and the
+/// topocentric step (parallax, refraction, azimuth) runs in full for each position.
+///
+/// # Source
+/// SPA (Reda & Andreas 2008) for the nodes; interpolating α and δ between daily values is
+/// SPA's own method for sunrise/transit/sunset (its section A.2, three-point form).
+///
+/// # Validity
+/// Within 1e-5° of [`solar_position`] (tested; the interpolation error of the cubic over a
+/// day is ~1e-7° for the annual motion and ~1e-6° for the shortest nutation terms). Outside
+/// the span given to [`SunEphemeris::new`] the methods fall back to full SPA.
+#[derive(Clone, Debug)]
+pub struct SunEphemeris {
+    /// Unix time of node 0 (00:00 UTC).
+    first_node_unix_s: f64,
+    delta_t_s: f64,
+    nodes: Vec<EphemerisNode>,
+}
+
+/// One daily node: α unwrapped so that it is continuous across nodes.
+#[derive(Clone, Copy, Debug)]
+struct EphemerisNode {
+    alpha_deg: f64,
+    delta_deg: f64,
+    r_au: f64,
+    /// Nutation in right ascension Δψ·cos ε (ν − ν0), degrees.
+    nu_nutation_deg: f64,
+    eot_min: f64,
+}
+
+/// Mean sidereal time ν0 at Greenwich (SPA step 3.8), degrees, not reduced.
+fn mean_sidereal_time_deg(unix_s: f64) -> f64 {
+    let days = (unix_s - UNIX_J2000_S) / 86400.0;
+    let jc = days / 36525.0;
+    280.46061837 + SIDEREAL_DEG_PER_DAY * days + 0.000387933 * jc * jc - jc * jc * jc / 38_710_000.0
+}
+
+impl SunEphemeris {
+    /// Run SPA at 00:00 UTC of each day covering [start, end] plus one day either side.
+    ///
+    /// # Validity
+    /// Any span; memory is 40 bytes per day. `delta_t_s` as for [`solar_position`].
+    pub fn new(start_unix_s: f64, end_unix_s: f64, delta_t_s: f64) -> Self {
+        let first_day = (start_unix_s.min(end_unix_s) / 86400.0).floor() - 1.0;
+        let last_day = (start_unix_s.max(end_unix_s) / 86400.0).floor() + 2.0;
+        let first_node_unix_s = first_day * 86400.0;
+        let count = (last_day - first_day) as usize + 1;
+        let mut nodes: Vec<EphemerisNode> = Vec::with_capacity(count);
+        for i in 0..count {
+            let t = first_node_unix_s + 86400.0 * i as f64;
+            let g = spa_geocentric(t, delta_t_s);
+            let mut alpha_deg = g.alpha_deg;
+            if let Some(prev) = nodes.last() {
+                alpha_deg = prev.alpha_deg + wrap180(g.alpha_deg - prev.alpha_deg);
+            }
+            nodes.push(EphemerisNode {
+                alpha_deg,
+                delta_deg: g.delta_deg,
+                r_au: g.r_au,
+                nu_nutation_deg: g.nu_deg - g.nu0_deg,
+                eot_min: g.eot_min,
+            });
+        }
+        SunEphemeris {
+            first_node_unix_s,
+            delta_t_s,
+            nodes,
+        }
+    }
+
+    /// Geocentric values at an instant: interpolated inside the span, full SPA outside.
+    pub(crate) fn geo_core(&self, unix_s: f64) -> GeoCore {
+        let d = (unix_s - self.first_node_unix_s) / 86400.0;
+        let i = d.floor();
+        if !(i >= 1.0 && i + 2.0 < self.nodes.len() as f64) {
+            return spa_geocentric(unix_s, self.delta_t_s).core();
+        }
+        let f = d - i;
+        let i = i as usize;
+        // Lagrange weights on nodes i−1, i, i+1, i+2 at offset f from node i.
+        let w = [
+            -f * (f - 1.0) * (f - 2.0) / 6.0,
+            (f + 1.0) * (f - 1.0) * (f - 2.0) / 2.0,
+            -(f + 1.0) * f * (f - 2.0) / 2.0,
+            (f + 1.0) * f * (f - 1.0) / 6.0,
+        ];
+        let n = &self.nodes[i - 1..i + 3];
+        let mix = |get: fn(&EphemerisNode) -> f64| {
+            w[0] * get(&n[0]) + w[1] * get(&n[1]) + w[2] * get(&n[2]) + w[3] * get(&n[3])
+        };
+        GeoCore {
+            nu_deg: limit_deg(mean_sidereal_time_deg(unix_s)) + mix(|e| e.nu_nutation_deg),
+            alpha_deg: limit_deg(mix(|e| e.alpha_deg)),
+            delta_deg: mix(|e| e.delta_deg),
+            r_au: mix(|e| e.r_au),
+            eot_min: mix(|e| e.eot_min),
+        }
+    }
+
+    /// Topocentric position at an instant, as [`solar_position`] (to 1e-5°).
+    pub fn position(&self, unix_s: f64, obs: &Observer, atm: &Atmosphere) -> SunPosition {
+        self.geo_core(unix_s).position(&Site::new(obs), atm)
+    }
+
+    /// The interval rule of [`interval_sun`] on this ephemeris (to 1e-5° and ~1 s).
+    pub fn interval_sun(
+        &self,
+        start_unix_s: f64,
+        end_unix_s: f64,
+        obs: &Observer,
+        atm: &Atmosphere,
+    ) -> Option<IntervalSun> {
+        interval_sun_from(start_unix_s, end_unix_s, obs, atm, &|t| self.geo_core(t))
+    }
+}
+
 // ---------------------------------------------------------------------------------------
 // Periodic terms of the SPA report, Table A4.2 (Earth heliocentric longitude L, latitude B,
 // radius vector R; each row A, B, C for A·cos(B + C·JME)), and Table A4.3 (nutation in
 // longitude and obliquity). The SPA report takes them from Meeus, Astronomical Algorithms
-// (1998), which abridges VSOP87 and the IAU 1980 nutation series.
+// (1998), which abridges VSOP87 and the IAU 1980 nutation series. (Phases such as 3.142
+// and 3.14 are the tables' values, not approximations of π.)
 // ---------------------------------------------------------------------------------------
 
 const L0: [[f64; 3]; 64] = [
@@ -1206,12 +1579,14 @@ const L3: [[f64; 3]; 7] = [
     [1.0, 5.97, 242.73],
 ];
 
+#[allow(clippy::approx_constant)]
 const L4: [[f64; 3]; 3] = [
     [114.0, 3.142, 0.0],
     [8.0, 4.13, 6283.08],
     [1.0, 3.84, 12566.15],
 ];
 
+#[allow(clippy::approx_constant)]
 const L5: [[f64; 3]; 1] = [[1.0, 3.14, 0.0]];
 
 const B0: [[f64; 3]; 5] = [
@@ -1267,6 +1642,7 @@ const R0: [[f64; 3]; 40] = [
     [26.0, 4.59, 10447.39],
 ];
 
+#[allow(clippy::approx_constant)]
 const R1: [[f64; 3]; 10] = [
     [103019.0, 1.10749, 6283.07585],
     [1721.0, 1.0644, 12566.1517],
@@ -1280,6 +1656,7 @@ const R1: [[f64; 3]; 10] = [
     [9.0, 0.27, 5486.78],
 ];
 
+#[allow(clippy::approx_constant)]
 const R2: [[f64; 3]; 6] = [
     [4359.0, 5.7846, 6283.0758],
     [124.0, 5.579, 12566.152],
@@ -1292,6 +1669,20 @@ const R2: [[f64; 3]; 6] = [
 const R3: [[f64; 3]; 2] = [[145.0, 4.273, 6283.076], [7.0, 3.92, 12566.15]];
 
 const R4: [[f64; 3]; 1] = [[4.0, 2.56, 6283.08]];
+
+const L0S: Series<64> = by_column(&L0);
+const L1S: Series<34> = by_column(&L1);
+const L2S: Series<20> = by_column(&L2);
+const L3S: Series<7> = by_column(&L3);
+const L4S: Series<3> = by_column(&L4);
+const L5S: Series<1> = by_column(&L5);
+const B0S: Series<5> = by_column(&B0);
+const B1S: Series<2> = by_column(&B1);
+const R0S: Series<40> = by_column(&R0);
+const R1S: Series<10> = by_column(&R1);
+const R2S: Series<6> = by_column(&R2);
+const R3S: Series<2> = by_column(&R3);
+const R4S: Series<1> = by_column(&R4);
 
 /// Nutation arguments: multipliers of X0 (D), X1 (M), X2 (M'), X3 (F), X4 (Ω) per row.
 const NUT_Y: [[i8; 5]; 63] = [
@@ -1431,6 +1822,7 @@ const NUT_ABCD: [[f64; 4]; 63] = [
 #[cfg(test)]
 mod tests {
     use super::*;
+    use std::f64::consts::PI;
 
     // Source: SPA report (Reda & Andreas, NREL/TP-560-34302), worked example inputs:
     // 2003-10-17 12:30:30 MST (UTC−7) = 19:30:30 UTC, ΔUT1 0, ΔT 67 s.
@@ -1502,6 +1894,13 @@ mod tests {
         check("X3", g.x_deg[3], 18420.071012, 5e-7);
         check("X4", g.x_deg[4], 51.686951, 5e-7);
         check("ε0 (arcsec)", g.eps0_arcsec, 84379.672625, 5e-7);
+        check("JDE", g.jde, 2452930.313623, 5e-7);
+        check("JC", g.jc, 0.037928, 5e-7);
+        check("JCE", g.jce, 0.037928, 5e-7);
+        check("JME", g.jme, 0.003793, 5e-7);
+        check("Θ", g.theta_deg, 204.0182616917, 5e-10);
+        check("β", g.beta_deg, 0.0001011219, 5e-11);
+        check("Δτ", g.delta_tau_deg, -0.005711, 5e-7);
         check("λ", g.lambda_deg, 204.0085519281, 5e-10);
         check("α", g.alpha_deg, 202.22741, 5e-6);
         check("δ", g.delta_deg, -9.31434, 5e-6);
@@ -1602,7 +2001,7 @@ mod tests {
 
     #[test]
     fn nutation_products_match_direct_sums() {
-        // Source: SPA report eq. 20–21 summed directly (the closed form we replace).
+        // Source: SPA report step 3.4 sums evaluated directly (the closed form we replace).
         for &jce in &[-0.1, 0.0, 0.0379, 0.25] {
             let t: f64 = jce;
             let x = [
@@ -1625,6 +2024,26 @@ mod tests {
             check("Δψ", p, psi / 36e6, 1e-12);
             check("Δε", e, eps / 36e6, 1e-12);
         }
+    }
+
+    #[test]
+    fn periodic_cosine_matches_std() {
+        // Source: f64::cos (the platform libm) as the reference; the reduction constants
+        // must add up to π/2.
+        let split = f64::from_bits(0x3FF9_21FB_5440_0000) + f64::from_bits(0x3DD0_B461_1A62_6331);
+        check("π/2 split", split, std::f64::consts::FRAC_PI_2, 0.0);
+        let mut worst = 0.0f64;
+        let mut x = -7000.0f64;
+        while x < 170_000.0 {
+            worst = worst.max((cos_periodic(x) - x.cos()).abs());
+            x += 0.123_456_789;
+        }
+        for k in -8..=8 {
+            let x = f64::from(k) * std::f64::consts::FRAC_PI_4;
+            worst = worst.max((cos_periodic(x) - x.cos()).abs());
+        }
+        assert_eq!(cos_periodic(0.0), 1.0);
+        assert!(worst <= 2e-16, "worst {worst:e}");
     }
 
     // ------------------------------------------------------------- Duffie & Beckman
@@ -1670,7 +2089,7 @@ mod tests {
 
     #[test]
     fn textbook_geometry_agrees_with_spa_hour_angle_form() {
-        // Source: SPA report eq. 40 and 45–46 with geocentric δ and H and no parallax are the
+        // Source: SPA report steps 3.14–3.15 with geocentric δ and H and no parallax are the
         // same spherical triangle as D&B eq. 1.6.5–1.6.6; both hemispheres, poles, noon.
         for &(lat, decl, h) in &[
             (39.7, -9.3, 11.1),
@@ -2095,7 +2514,7 @@ mod tests {
     fn interval_sunrise_hour_uses_sunlit_part() {
         // Source: MODEL.md §2 (midpoint of the sunlit part). Denver sunrise (upper limb) is
         // 06:12:43 MST = 13:12:43 UTC (SPA report); the centre clears the apparent horizon
-        // about 1.6 min later.
+        // about 2 min later (at 820 hPa that is at −0.45° geometric instead of −0.83°).
         let (a, b) = (unix(2003, 10, 17, 13, 0, 0), unix(2003, 10, 17, 14, 0, 0));
         let s = interval_sun(a, b, &DENVER, &DENVER_AIR, DELTA_T_DEFAULT_S).unwrap();
         assert!(
@@ -2122,7 +2541,7 @@ mod tests {
     #[test]
     fn interval_sunset_hour_uses_sunlit_part() {
         // Source: MODEL.md §2. Denver sunset (upper limb) on 17 October is about 17:18:51 MST
-        // = 00:18:51 UTC (see spa_example_sunrise_and_sunset); the centre sets ~1.6 min later.
+        // = 00:18:51 UTC (see spa_example_sunrise_and_sunset); the centre sets ~2 min earlier.
         let (a, b) = (unix(2003, 10, 18, 0, 0, 0), unix(2003, 10, 18, 1, 0, 0));
         let s = interval_sun(a, b, &DENVER, &DENVER_AIR, DELTA_T_DEFAULT_S).unwrap();
         let set = a + s.sunlit_frac * (b - a);
@@ -2188,12 +2607,12 @@ mod tests {
         check("sunlit fraction", s.sunlit_frac, frac, 2.0 * 30.0 / 86400.0);
         check("eval", s.eval_unix_s, 0.5 * (first + last), 30.0);
         // Upper-limb day (SPA: rise 06:12:43, set ≈ 17:18:51 MST) = 11.102 h; the centre
-        // with refraction is up about 2 × 1.6 min less.
+        // with refraction is up about 2 × 2.1 min less (2.1 min measured at sunrise).
         check(
             "day length (h)",
             s.sunlit_frac * 24.0,
-            11.102 - 2.0 * 1.6 / 60.0,
-            0.02,
+            11.102 - 2.0 * 2.1 / 60.0,
+            0.01,
         );
         // Evaluated near solar noon (about 11:46 MST = 18:46 UTC).
         check(
@@ -2299,6 +2718,128 @@ mod tests {
         assert!(interval_sun(t + 43200.0, t, &DENVER, &DENVER_AIR, DELTA_T_DEFAULT_S).is_none());
     }
 
+    fn lcg(seed: u64) -> impl FnMut() -> f64 {
+        let mut state = seed;
+        move || {
+            state = state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (state >> 11) as f64 / (1u64 << 53) as f64
+        }
+    }
+
+    #[test]
+    fn low_precision_screen_is_within_its_allowance() {
+        // Source: SPA (this module) as the reference for the Astronomical Almanac's
+        // low-precision formulas (stated 0.01° in α, δ over 1950–2050; from memory), over
+        // 1900–2100, any place: must stay well inside the 0.1° allowance used by the screen.
+        let mut rnd = lcg(7);
+        let air = Atmosphere {
+            pressure_hpa: 1013.25,
+            temperature_c: 12.0,
+        };
+        let mut worst = 0.0f64;
+        for _ in 0..4000 {
+            let t = LOW_PRECISION_RANGE_S.0
+                + rnd() * (LOW_PRECISION_RANGE_S.1 - LOW_PRECISION_RANGE_S.0);
+            let obs = Observer {
+                latitude_deg: (2.0 * rnd() - 1.0).asin().to_degrees(),
+                longitude_deg: -180.0 + 360.0 * rnd(),
+                elevation_m: 2000.0 * rnd(),
+            };
+            let spa = 90.0 - solar_position(t, &obs, &air, DELTA_T_DEFAULT_S).zenith_geometric_deg;
+            worst = worst.max((low_precision_elevation_deg(t, &obs) - spa).abs());
+        }
+        eprintln!("low-precision elevation vs SPA, 1900–2100: max {worst:.4}°");
+        assert!(worst <= 0.05, "worst {worst}");
+    }
+
+    #[test]
+    fn ephemeris_matches_full_spa() {
+        // Source: SPA (this module); the documented accuracy of SunEphemeris is 1e-5°.
+        let (a, b) = (unix(2031, 1, 1, 0, 0, 0), unix(2032, 12, 31, 23, 0, 0));
+        let eph = SunEphemeris::new(a, b, DELTA_T_DEFAULT_S);
+        let mut rnd = lcg(11);
+        let (mut wz, mut wa, mut wd, mut we) = (0.0f64, 0.0f64, 0.0f64, 0.0f64);
+        for _ in 0..3000 {
+            let t = a + rnd() * (b - a);
+            let obs = Observer {
+                latitude_deg: -89.0 + 178.0 * rnd(),
+                longitude_deg: -180.0 + 360.0 * rnd(),
+                elevation_m: 3000.0 * rnd(),
+            };
+            let air = Atmosphere {
+                pressure_hpa: 700.0 + 330.0 * rnd(),
+                temperature_c: -30.0 + 60.0 * rnd(),
+            };
+            let p = solar_position(t, &obs, &air, DELTA_T_DEFAULT_S);
+            let q = eph.position(t, &obs, &air);
+            wz = wz
+                .max((p.zenith_deg - q.zenith_deg).abs())
+                .max((p.zenith_geometric_deg - q.zenith_geometric_deg).abs());
+            if p.zenith_geometric_deg > 1.0 {
+                wa = wa.max(
+                    wrap180(p.azimuth_deg - q.azimuth_deg).abs()
+                        * p.zenith_geometric_deg.to_radians().sin(),
+                );
+            }
+            wd = wd.max((p.declination_deg - q.declination_deg).abs());
+            we = we.max((p.equation_of_time_min - q.equation_of_time_min).abs());
+        }
+        eprintln!("ephemeris vs SPA: zenith {wz:.1e}°, azimuth·sin z {wa:.1e}°, δ′ {wd:.1e}°, E {we:.1e} min");
+        assert!(wz <= 1e-5 && wa <= 1e-5 && wd <= 1e-5 && we <= 1e-5 / 0.25);
+        // Outside the span: the full SPA itself.
+        let obs = DENVER;
+        let t = unix(2040, 6, 1, 18, 0, 0);
+        assert_eq!(
+            eph.position(t, &obs, &DENVER_AIR).zenith_deg,
+            solar_position(t, &obs, &DENVER_AIR, DELTA_T_DEFAULT_S).zenith_deg
+        );
+    }
+
+    #[test]
+    fn ephemeris_interval_sun_matches_exact() {
+        // Source: interval_sun (exact path) as the reference; crossing times agree to the
+        // 1 s search tolerance, positions to 1e-4°.
+        let (a, b) = (unix(2022, 1, 1, 0, 0, 0), unix(2023, 1, 1, 0, 0, 0));
+        let eph = SunEphemeris::new(a, b, DELTA_T_DEFAULT_S);
+        for obs in [
+            DENVER,
+            Observer {
+                latitude_deg: -33.9,
+                longitude_deg: 18.4,
+                elevation_m: 10.0,
+            },
+            Observer {
+                latitude_deg: 78.2,
+                longitude_deg: 15.6,
+                elevation_m: 10.0,
+            },
+        ] {
+            let mut t = a;
+            while t < b {
+                let x = interval_sun(t, t + 3600.0, &obs, &DENVER_AIR, DELTA_T_DEFAULT_S);
+                let y = eph.interval_sun(t, t + 3600.0, &obs, &DENVER_AIR);
+                match (x, y) {
+                    (None, None) => {}
+                    (Some(x), Some(y)) => {
+                        check("eval", y.eval_unix_s, x.eval_unix_s, 1.0);
+                        check("frac", y.sunlit_frac, x.sunlit_frac, 2.0 / 3600.0);
+                        // Up to 1 s apart: the sun moves at most 0.0042°/s.
+                        check(
+                            "zenith",
+                            y.position.zenith_deg,
+                            x.position.zenith_deg,
+                            1e-4 + 0.0042 * (y.eval_unix_s - x.eval_unix_s).abs(),
+                        );
+                    }
+                    (x, y) => panic!("{obs:?} at {t}: exact {x:?}, ephemeris {y:?}"),
+                }
+                t += 3600.0;
+            }
+        }
+    }
+
     // ------------------------------------------------------------------- performance
 
     #[test]
@@ -2315,33 +2856,56 @@ mod tests {
         };
         let t0 = unix(2021, 1, 1, 0, 0, 0);
         let n = 8760;
-        let start = std::time::Instant::now();
         let mut acc = 0.0;
-        for i in 0..n {
-            acc += solar_position(
-                t0 + 3600.0 * i as f64 + 1800.0,
-                &obs,
-                &air,
-                DELTA_T_DEFAULT_S,
-            )
-            .zenith_deg;
-        }
-        let spa = start.elapsed();
-        let start = std::time::Instant::now();
         let mut lit = 0;
-        for i in 0..n {
-            let a = t0 + 3600.0 * i as f64;
-            if let Some(s) = interval_sun(a, a + 3600.0, &obs, &air, DELTA_T_DEFAULT_S) {
-                acc += s.position.zenith_deg;
-                lit += 1;
+        // Best of five runs: the shortest time is the least disturbed by other processes.
+        let best = |f: &mut dyn FnMut()| {
+            (0..5)
+                .map(|_| {
+                    let start = std::time::Instant::now();
+                    f();
+                    start.elapsed()
+                })
+                .min()
+                .unwrap()
+        };
+        let spa = best(&mut || {
+            for i in 0..n {
+                acc += solar_position(
+                    t0 + 3600.0 * i as f64 + 1800.0,
+                    &obs,
+                    &air,
+                    DELTA_T_DEFAULT_S,
+                )
+                .zenith_deg;
             }
-        }
-        let intervals = start.elapsed();
+        });
+        let intervals = best(&mut || {
+            lit = 0;
+            for i in 0..n {
+                let a = t0 + 3600.0 * i as f64;
+                if let Some(s) = interval_sun(a, a + 3600.0, &obs, &air, DELTA_T_DEFAULT_S) {
+                    acc += s.position.zenith_deg;
+                    lit += 1;
+                }
+            }
+        });
+        let with_eph = best(&mut || {
+            let eph = SunEphemeris::new(t0, t0 + 3600.0 * n as f64, DELTA_T_DEFAULT_S);
+            for i in 0..n {
+                let a = t0 + 3600.0 * i as f64;
+                if let Some(s) = eph.interval_sun(a, a + 3600.0, &obs, &air) {
+                    acc += s.position.zenith_deg;
+                }
+            }
+        });
         eprintln!(
-            "solar_position: {:.2} µs/call ({:.1} ms per 8760); interval_sun: {:.1} ms per hourly year ({lit} sunlit) [{acc:.0}]",
+            "solar_position: {:.2} µs/call ({:.1} ms per 8760); interval_sun: {:.1} ms per hourly year \
+             ({lit} sunlit); SunEphemeris (incl. building it): {:.1} ms [{acc:.0}]",
             spa.as_secs_f64() * 1e6 / n as f64,
             spa.as_secs_f64() * 1e3,
-            intervals.as_secs_f64() * 1e3
+            intervals.as_secs_f64() * 1e3,
+            with_eph.as_secs_f64() * 1e3
         );
     }
 }
