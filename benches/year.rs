@@ -31,15 +31,19 @@ fn one_orientation_year(c: &mut Criterion) {
     c.bench_function("sun+sky+temperature, one orientation, hourly year", |b| {
         b.iter(|| {
             let mut acc = 0.0;
+            let off = site.utc_offset_h * 3600.0;
+            let eph = sun::SunEphemeris::new(
+                w.local_start_s[0] as f64 - off,
+                w.local_start_s[w.len() - 1] as f64 - off + 3600.0,
+                sun::DELTA_T_DEFAULT_S,
+            );
             for k in 0..w.len() {
                 let start = w.local_start_s[k] as f64 - site.utc_offset_h * 3600.0;
                 let atm = Atmosphere {
                     pressure_hpa: p,
                     temperature_c: w.air_temp_c[k],
                 };
-                let Some(s) =
-                    sun::interval_sun(start, start + 3600.0, &obs, &atm, sun::DELTA_T_DEFAULT_S)
-                else {
+                let Some(s) = eph.interval_sun(start, start + 3600.0, &obs, &atm) else {
                     continue;
                 };
                 let ghi = w.ghi_w_m2[k];

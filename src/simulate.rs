@@ -141,6 +141,10 @@ pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
     let offset_s = site.utc_offset_h * 3600.0;
     let dt_s = weather.interval_s as f64;
 
+    // The observer-independent part of SPA, once per day of the file (SunEphemeris).
+    let span = |k: usize| weather.local_start_s[k] as f64 - offset_s;
+    let ephemeris =
+        (n > 0).then(|| sun::SunEphemeris::new(span(0), span(n - 1) + dt_s, plan.model.delta_t_s));
     let mut intervals = Vec::with_capacity(n);
     let mut skies: Vec<Option<SkyState>> = Vec::with_capacity(n);
     for k in 0..n {
@@ -153,13 +157,16 @@ pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
                 .map_or(default_pressure, |p| p[k]),
             temperature_c: air,
         };
-        let sun_now = sun::interval_sun(
-            start,
-            start + dt_s,
-            &observer,
-            &atmosphere,
-            plan.model.delta_t_s,
-        );
+        let sun_now = match &ephemeris {
+            Some(e) => e.interval_sun(start, start + dt_s, &observer, &atmosphere),
+            None => sun::interval_sun(
+                start,
+                start + dt_s,
+                &observer,
+                &atmosphere,
+                plan.model.delta_t_s,
+            ),
+        };
         let ghi = weather.ghi_w_m2[k];
         let mut info = IntervalInfo {
             start_unix_s: start,
