@@ -2,10 +2,15 @@
 //! array curve that a charge controller works on, with cable drops on the way; plus the DC
 //! resistance of copper and aluminium cables.
 //!
-//! Built for speed: every curve of one interval is sampled on one shared current grid,
-//! a substring curve is computed once per distinct (irradiance, temperature, module type)
+//! Built for speed: every curve of one interval is sampled on one shared current grid
+//! (a few dozen base points plus extra points at each distinct substring's knee), a
+//! substring curve is computed once per distinct (irradiance, temperature, module type)
 //! and reused by every module and layout, a string is one vector addition per substring,
-//! and the parallel combination writes into caller-owned buffers. This module does not
+//! identical strings are combined once, and the parallel combination writes into
+//! caller-owned buffers. Typical use per interval: [`CurrentGrid::reset_for_substrings`],
+//! [`substring_curve_into`] per distinct substring, then per layout [`string_curve`] per
+//! string, [`array_curve`] per controller input and [`ArrayCurve::local_maxima_into`].
+//! This module does not
 //! decide operating points (the controller does), does not know which modules are shaded
 //! (the caller passes the substring curves), and does not check limits.
 //!
