@@ -1340,8 +1340,8 @@ mod tests {
 
     #[test]
     fn fast_clamped_voltages_match_the_plain_solution() {
-        // Source: general mathematics (the same equation solved two ways: warm-started
-        // Newton vs the cold Lambert-W solution); 1e-9 V.
+        // Source: general mathematics (the same equation solved two ways: the curve loop
+        // with its stepped logarithm and clamp shortcut vs voltage_at point by point); 1e-9 V.
         let p = fit_de_soto(&ds72()).unwrap().substring(3);
         for (s, t, step) in [
             (1000.0, 25.0, 0.035),
