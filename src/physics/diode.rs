@@ -59,8 +59,9 @@ pub const DARK_IRRADIANCE_FLOOR_W_M2: f64 = 1.0;
 /// factors of about 0.60–0.82; below 0.50 the values are almost surely a typing error
 /// (for example Vmp and Imp of another module) and a single-diode fit would need absurd
 /// series resistance. Upper end 0.86: the ideal-diode limit of a silicon cell
-/// (Green 1982's empirical FF₀ formula gives about 0.83–0.85 for 0.6–0.75 V per cell at
-/// 25 °C); a datasheet above it cannot be met with non-negative series resistance.
+/// (Green 1982's empirical FF₀ = (v − ln(v + 0.72))/(v + 1), v = Voc per cell over kT/q,
+/// from memory, gives about 0.83–0.85 for 0.6–0.75 V per cell at 25 °C); a datasheet above
+/// it cannot be met with non-negative series resistance.
 pub const FILL_FACTOR_RANGE: (f64, f64) = (0.50, 0.86);
 
 /// Accepted range of the Voc temperature coefficient relative to Voc, 1/K.
@@ -210,7 +211,8 @@ impl Mpp {
 /// w ≈ −1 + p − p²/3 + 11p³/72 (p = √(2(e·x + 1))) near x = −1/e and from ln(1 + x)
 /// elsewhere; for x > e, Newton iteration on the logarithmic form w + ln w = ln x,
 /// started from the asymptotic series w ≈ L − ln L + ln L / L (L = ln x), so that huge
-/// arguments never overflow (from L = 50 up: exactly two Newton steps, which suffice).
+/// arguments never overflow (from L = 50 up: the series to five terms and exactly one
+/// Newton step, which suffices; see `w0_log_form_fast`).
 ///
 /// # Source
 /// Corless, Gonnet, Hare, Jeffrey & Knuth 1996, "On the Lambert W function", Adv. Comput.
@@ -297,7 +299,7 @@ const W_FAST_MIN_L: f64 = 50.0;
 /// w₀ = L₁ − L₂ + L₂/L₁ + L₂(L₂ − 2)/(2L₁²) + L₂(6 − 9L₂ + 2L₂²)/(6L₁³),
 /// whose error (the next term, L₂(−12 + 36L₂ − 22L₂² + 3L₂³)/(12L₁⁴)) is below 2e-6 at
 /// l = 50 and falls as l⁻⁴; one Newton step on w + ln w = l leaves about e²/(2w²), below
-/// 1e-16 relative. Two logarithms and one division in all.
+/// 1e-16 relative. Two logarithms and two divisions in all.
 ///
 /// # Source
 /// Corless, Gonnet, Hare, Jeffrey & Knuth 1996, eq. 4.19 (asymptotic series).
@@ -333,8 +335,7 @@ fn w0_log_form(l: f64) -> f64 {
 /// Stop rule of the Newton iteration on f(w) = w + ln w − l after a step dw.
 ///
 /// Newton's error after a step of size e is about e²·|f''|/(2f') = e²/(2w(w + 1)), so the
-/// error left after this step is below 1e-16·w once dw² ≤ 2e-16·w²(w + 1). For the large w
-/// of a lit substring (thousands) one step from a warm start already satisfies this.
+/// error left after this step is below 1e-16·w once dw² ≤ 2e-16·w²(w + 1).
 fn newton_converged(dw: f64, w: f64) -> bool {
     dw * dw <= 2e-16 * w * w * (w + 1.0)
 }
@@ -777,7 +778,8 @@ impl OperatingParams {
     /// cells using Lambert W-function", Sol. Energy Mater. Sol. Cells 81, 269–277.
     ///
     /// # Validity
-    /// Any finite V, forward or reverse; current below −IL… for V beyond Voc.
+    /// Any finite V: V < 0 gives the reverse-biased branch (current above Isc), V > Voc a
+    /// negative current (the diode driven forward from outside).
     pub fn current_at(&self, v: f64) -> f64 {
         let (il, io, rs, rsh, a) = (self.il_a, self.io_a, self.rs_ohm, self.rsh_ohm, self.a_v);
         if rs <= 0.0 {
@@ -1338,8 +1340,8 @@ mod tests {
 
     #[test]
     fn fast_clamped_voltages_match_the_plain_solution() {
-        // Source: general mathematics (the same equation solved two ways: warm-started
-        // Newton vs the cold Lambert-W solution); 1e-9 V.
+        // Source: general mathematics (the same equation solved two ways: the curve loop
+        // with its stepped logarithm and clamp shortcut vs voltage_at point by point); 1e-9 V.
         let p = fit_de_soto(&ds72()).unwrap().substring(3);
         for (s, t, step) in [
             (1000.0, 25.0, 0.035),
