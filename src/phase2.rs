@@ -19,7 +19,7 @@ use crate::plan::Plan;
 use crate::simulate::Conditions;
 
 /// Points on each interval's shared current grid.
-pub const GRID_POINTS: usize = 64;
+pub const GRID_POINTS: usize = crate::physics::wiring::GRID_POINTS_DEFAULT;
 
 /// The loss steps of MODEL.md §10, in order.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
