@@ -136,6 +136,9 @@ pub struct EnumerateOptions {
     pub allow_mixed_orientation: bool,
 }
 
+/// Input choices skipped by enumeration, counted per broken rule.
+pub type PrunedCounts = Vec<(&'static str, usize)>;
+
 /// Largest number of candidates enumeration will produce before giving up.
 pub const MAX_CANDIDATES: usize = 20_000;
 
@@ -188,7 +191,7 @@ pub fn enumerate_pruned(
     plan: &Plan,
     opts: EnumerateOptions,
     reject: &dyn Fn(&Plan, &InputDraft) -> Option<&'static str>,
-) -> Result<(Vec<Layout>, Vec<(&'static str, usize)>), TooManyLayouts> {
+) -> Result<(Vec<Layout>, PrunedCounts), TooManyLayouts> {
     let counts: Vec<usize> = plan.groups.iter().map(|g| g.count).collect();
     let mut out = Vec::new();
     let mut chosen: Vec<Option<InputChoice>> = Vec::new();

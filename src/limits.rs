@@ -83,16 +83,16 @@ pub fn table_ampacity_a(run: &CableRun) -> f64 {
     let copper = match run.awg {
         Some(g) => AWG
             .iter()
-            .filter(|(a, _)| *a >= g)
+            .rev()
+            .find(|(a, _)| *a >= g)
             .map(|(_, amp)| *amp)
-            .last()
             // Thinner than 14 AWG: scale 14 AWG by area (no table row).
             .unwrap_or(20.0 * run.cross_section_mm2 / 2.08),
         None => MM2
             .iter()
-            .filter(|(mm2, _)| *mm2 <= run.cross_section_mm2 + 1e-9)
+            .rev()
+            .find(|(mm2, _)| *mm2 <= run.cross_section_mm2 + 1e-9)
             .map(|(_, amp)| *amp)
-            .last()
             .unwrap_or(30.0 * run.cross_section_mm2 / 1.5),
     };
     match run.conductor {

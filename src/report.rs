@@ -101,16 +101,8 @@ pub fn ranking(r: &RankResult) -> String {
         .clamp(6, 60);
     let _ = writeln!(
         out,
-        "{:>4}  {:<name_w$}  {:>9} {:>8} {:>10} {:>6} {:>9} {:>7}  {}",
-        "rank",
-        "layout",
-        "score kWh",
-        "vs best",
-        "annual kWh",
-        "worst",
-        "low-sun",
-        "awake h",
-        "notes"
+        "{:>4}  {:<name_w$}  {:>9} {:>8} {:>10} {:>6} {:>9} {:>7}  notes",
+        "rank", "layout", "score kWh", "vs best", "annual kWh", "worst", "low-sun", "awake h"
     );
     let best = ranked.first().and_then(|o| o.score_kwh).unwrap_or(0.0);
     for o in &ranked {

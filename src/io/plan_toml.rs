@@ -577,7 +577,7 @@ fn validate_module_type(
     let gamma_pct = ctx.range(&r.gamma_pmax_pct_k, &k("gamma_pmax_pct_k"), -1.5, 0.0)?;
     let cells = ctx.int_range(&r.cells_in_series, &k("cells_in_series"), 1, 300)? as u32;
     let bypass = ctx.int_range(&r.bypass_diodes, &k("bypass_diodes"), 1, 12)? as u32;
-    if cells % bypass != 0 {
+    if !cells.is_multiple_of(bypass) {
         return Err(ctx.err(
             r.bypass_diodes.span(),
             &k("bypass_diodes"),
@@ -1032,7 +1032,7 @@ fn efficiency_curve(
             ));
         }
         let (f, eta) = (p[0], p[1]);
-        if !(0.0..=1.0).contains(&f) || !(eta > 0.0 && eta <= 1.0) {
+        if !((0.0..=1.0).contains(&f) && eta > 0.0 && eta <= 1.0) {
             return Err(ctx.err(e.span(), key, format!("{key} point {} = [{f}, {eta}]: output fraction must be in 0..=1 and efficiency in (0, 1]", n + 1)));
         }
         if let Some(&(last, _)) = pts.last() {
