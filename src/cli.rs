@@ -7,7 +7,9 @@ use std::path::PathBuf;
 use clap::{Args, Parser, Subcommand, ValueEnum};
 
 use wirerank::rank::Criterion;
-use wirerank::{OutputFormat, PlanSource, RankRequest, Request, SunpathRequest};
+use wirerank::{
+    CurveRequest, CurveTarget, OutputFormat, PlanSource, RankRequest, Request, SunpathRequest,
+};
 
 /// Ranks the ways to wire a small solar array into battery charge controllers.
 ///
@@ -27,6 +29,10 @@ pub enum Command {
     Rank(RankArgs),
     /// Check every layout against the electrical limits only (no simulation).
     Check(CheckArgs),
+    /// Print current–voltage points and maximum power points: of one module type at a given
+    /// irradiance and cell temperature, or of a layout's array as each controller sees it in
+    /// one interval of the weather file.
+    Curve(CurveArgs),
     /// Print a commented starter plan to copy and edit.
     Template,
     /// Print the sun's elevation and azimuth for a site over a date or a range of dates.
@@ -39,6 +45,33 @@ pub struct RankArgs {
     pub plan: PathBuf,
     #[command(flatten)]
     pub output: OutputArgs,
+}
+
+#[derive(Debug, Args)]
+pub struct CurveArgs {
+    /// The plan file (TOML); `demo` uses the bundled demo plan.
+    pub plan: PathBuf,
+    /// A module type of the plan (with --irradiance-w-m2 and --cell-temp-c).
+    #[arg(long, conflicts_with_all = ["layout", "at"])]
+    pub module_type: Option<String>,
+    /// Effective irradiance on the module, W/m².
+    #[arg(long, default_value_t = 1000.0)]
+    pub irradiance_w_m2: f64,
+    /// Cell temperature, °C.
+    #[arg(long, default_value_t = 25.0, allow_hyphen_values = true)]
+    pub cell_temp_c: f64,
+    /// A layout: its number in the ranking's candidate list (1 = first), its code or its name.
+    #[arg(long, requires = "at")]
+    pub layout: Option<String>,
+    /// The weather interval, as its stamp in the file (YYYY-MM-DDTHH:MM, local).
+    #[arg(long, requires = "layout")]
+    pub at: Option<String>,
+    /// Points to print per curve.
+    #[arg(long, default_value_t = 25)]
+    pub points: usize,
+    /// CSV on stdout: curve,voltage_v,current_a,power_w.
+    #[arg(long)]
+    pub csv: bool,
 }
 
 #[derive(Debug, Args)]
@@ -158,6 +191,23 @@ impl Cli {
                 PlanSource::Demo
             } else {
                 PlanSource::File(a.plan)
+            }),
+            Some(Command::Curve(a)) => Request::Curve(CurveRequest {
+                plan: if a.plan.as_os_str() == "demo" {
+                    PlanSource::Demo
+                } else {
+                    PlanSource::File(a.plan)
+                },
+                target: match (a.module_type, a.layout, a.at) {
+                    (_, Some(layout), Some(at)) => CurveTarget::Layout { layout, at },
+                    (module_type, _, _) => CurveTarget::Module {
+                        module_type,
+                        irradiance_w_m2: a.irradiance_w_m2,
+                        cell_temp_c: a.cell_temp_c,
+                    },
+                },
+                points: a.points,
+                csv: a.csv,
             }),
             Some(Command::Template) => Request::Template,
             Some(Command::Sunpath(a)) => Request::Sunpath(SunpathRequest {

@@ -82,10 +82,34 @@ pub struct SunpathRequest {
     pub csv: bool,
 }
 
+/// What `wirerank curve` draws.
+#[derive(Clone, Debug)]
+pub enum CurveTarget {
+    /// One module type (the plan's first when `None`) at an irradiance and cell temperature.
+    Module {
+        module_type: Option<String>,
+        irradiance_w_m2: f64,
+        cell_temp_c: f64,
+    },
+    /// A layout's array at one weather interval (its stamp as written in the file).
+    Layout { layout: String, at: String },
+}
+
+/// `wirerank curve`.
+#[derive(Clone, Debug)]
+pub struct CurveRequest {
+    pub plan: PlanSource,
+    pub target: CurveTarget,
+    pub points: usize,
+    pub csv: bool,
+}
+
 /// One command, as the binary asks for it.
 #[derive(Clone, Debug)]
 pub enum Request {
     Rank(RankRequest),
+    /// `wirerank curve`.
+    Curve(CurveRequest),
     /// `wirerank check`: limits only.
     Check(PlanSource),
     Template,
@@ -109,6 +133,7 @@ pub fn run(request: Request) -> Result<Outcome, Error> {
     match request {
         Request::Rank(r) => rank(&r),
         Request::Check(source) => check(&source),
+        Request::Curve(r) => report::curve(&r),
         Request::Template => Ok(Outcome {
             stdout: TEMPLATE_PLAN.to_string(),
             ..Outcome::default()

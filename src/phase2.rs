@@ -417,6 +417,30 @@ fn build_input_curves(
     array_curve(&bare, &ic.grid, 0.0, &mut s.array_bare);
 }
 
+/// The array curve each of a layout's controller inputs sees at its terminals in interval
+/// `k` (cables included), with the input's controller index; `None` at night.
+pub fn layout_curves_at(
+    plan: &Plan,
+    cond: &Conditions,
+    layout: &Layout,
+    k: usize,
+) -> Option<Vec<(usize, ArrayCurve)>> {
+    let ic = interval_curves(plan, cond, k)?;
+    let (r_lead, r_main) = cable_resistances(plan, layout, cond.intervals[k].air_temp_c);
+    let mut scratch = Scratch::default();
+    Some(
+        layout
+            .inputs
+            .iter()
+            .enumerate()
+            .map(|(wi, w)| {
+                build_input_curves(plan, &ic, w, r_lead, r_main[wi], &mut scratch);
+                (w.controller, scratch.array.clone())
+            })
+            .collect(),
+    )
+}
+
 /// Every interval's distinct substring curves (the curve-solving half of phase 2).
 pub fn all_interval_curves(
     plan: &Plan,

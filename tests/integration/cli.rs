@@ -192,3 +192,64 @@ fn a_missing_plan_file_is_an_error_not_a_panic() {
     assert_eq!(out.status.code(), Some(2));
     assert!(text(&out.stderr).contains("no-such-plan.toml"));
 }
+
+#[test]
+fn curve_of_a_module_at_stc_reproduces_the_datasheet() {
+    let out = wirerank(&["curve", "demo", "--points", "5"]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let s = text(&out.stdout);
+    // Source: the demo datasheet (invented): Vmp 18.2 V × Imp 6.60 A = 120.1 W; the fit must
+    // reproduce Pmax within 0.5 % (MODEL.md §7).
+    let p: f64 = s
+        .split(" W ")
+        .next()
+        .and_then(|head| head.rsplit("= ").next())
+        .and_then(|x| x.trim().parse().ok())
+        .expect("MPP power printed");
+    assert!((p / 120.12 - 1.0).abs() < 0.005, "{p}");
+}
+
+#[test]
+fn curve_of_a_shaded_string_shows_two_maxima() {
+    // The demo shades the lower substring of roof-1 on winter mornings (08–10 h): the 2s4p
+    // layout's array then has a second, lower hump (bypass diode conducting).
+    let out = wirerank(&["curve", "demo", "--layout", "1", "--at", "2025-01-15T09:00"]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let s = text(&out.stdout);
+    assert!(s.contains("2 local power maxima"), "{s}");
+}
+
+#[test]
+fn curve_rejects_an_unknown_stamp_naming_it() {
+    let out = wirerank(&["curve", "demo", "--layout", "1", "--at", "2025-13-01T09:00"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(text(&out.stderr).contains("2025-13-01T09:00"));
+}
+
+#[test]
+fn a_plan_whose_weather_file_is_malformed_exits_2_naming_the_line() {
+    let out = wirerank(&[
+        "rank",
+        fixture("plan_bad_weather.toml").to_str().expect("utf-8"),
+    ]);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("bad_weather_not_number.csv"), "{err}");
+    assert!(err.contains("line"), "{err}");
+}
+
+#[test]
+fn check_lists_every_layout_and_exits_1_when_none_passes() {
+    let out = wirerank(&["check", "demo"]);
+    assert_eq!(out.status.code(), Some(0));
+    let s = text(&out.stdout);
+    assert!(
+        s.contains("reject  mppt:4s2p") && s.contains("4 of 6 layouts pass"),
+        "{s}"
+    );
+    let out = wirerank(&[
+        "check",
+        fixture("plan_nothing_passes.toml").to_str().expect("utf-8"),
+    ]);
+    assert_eq!(out.status.code(), Some(1), "{}", text(&out.stderr));
+}
