@@ -1,5 +1,6 @@
 //! Integration tests, compiled into one binary and grouped by topic.
 mod cli;
 mod electrical;
+mod export;
 mod invariants;
 mod weather;
