@@ -258,6 +258,15 @@ fn shorten(s: &str, max_chars: usize) -> String {
     }
 }
 
+/// "best 4 of 9 ranked layouts", "all 3 ranked layouts" or "the one ranked layout".
+fn which_layouts(shown: usize, ranked: usize) -> String {
+    match (shown, ranked) {
+        (_, 1) => "the one ranked layout".to_string(),
+        (s, r) if s == r => format!("all {r} ranked layouts"),
+        (s, r) => format!("best {s} of {r} ranked layouts"),
+    }
+}
+
 /// CIELAB (D65) to 8-bit sRGB, and whether the colour was inside the gamut before clamping.
 ///
 /// # Formula
@@ -373,10 +382,8 @@ fn draw_monthly<DB: DrawingBackend>(
         .fold(0.0, f64::max);
     let y_max = if y_max > 0.0 { y_max * 1.08 } else { 1.0 };
     let title = format!(
-        "Monthly energy into the battery, best {} of {} ranked layout{}",
-        c.layouts.len(),
-        c.ranked,
-        if c.ranked == 1 { "" } else { "s" }
+        "Monthly energy into the battery, {}",
+        which_layouts(c.layouts.len(), c.ranked)
     );
     let mut chart = ChartBuilder::on(&top)
         .caption(title, bold(26.0))
@@ -570,10 +577,8 @@ fn draw_losses<DB: DrawingBackend>(root: &DrawingArea<DB, Shift>, c: &Losses) ->
     let x_lo = if lo < 0.0 { lo - pad } else { 0.0 };
     let x_hi = if hi > 0.0 { hi + pad } else { 1.0 };
     let title = format!(
-        "Where the energy goes: loss steps of the best {} of {} ranked layout{}",
-        c.layouts.len(),
-        c.ranked,
-        if c.ranked == 1 { "" } else { "s" }
+        "Where the energy goes: loss steps of {}",
+        which_layouts(c.layouts.len(), c.ranked)
     );
     let mut chart = ChartBuilder::on(&top)
         .caption(title, bold(26.0))
@@ -691,6 +696,13 @@ mod tests {
         for w in l.windows(2) {
             assert!(w[1] - w[0] >= 40.0, "{l:?}");
         }
+    }
+
+    #[test]
+    fn titles_say_which_layouts_are_shown() {
+        assert_eq!(which_layouts(1, 1), "the one ranked layout");
+        assert_eq!(which_layouts(3, 3), "all 3 ranked layouts");
+        assert_eq!(which_layouts(4, 9), "best 4 of 9 ranked layouts");
     }
 
     #[test]
