@@ -34,7 +34,7 @@ const MONTHS: [&str; 12] = [
 /// Layout colours, best first. Our own picks: dark blue, burnt orange, sky blue, pale gold.
 /// Blue against orange/gold survives the common colour-vision deficiencies (no red–green
 /// pair), and the greyscale values (Rec. 601 luma 58, 106, 171, 221 of 255) are at least
-/// 48 apart, so the bars stay apart on a black-and-white print too.
+/// 47 apart, so the bars stay apart on a black-and-white print too.
 pub const LAYOUT_COLOURS: [RGBColor; MAX_LAYOUTS] = [
     RGBColor(0x1d, 0x3f, 0x6e),
     RGBColor(0xb5, 0x53, 0x1a),
