@@ -3,8 +3,10 @@
 //! Each submodule owns one file format and turns it into (or out of) the validated types
 //! of the library. Nothing here simulates anything; nothing outside here opens a file.
 
+pub mod export;
 pub mod json;
 pub mod plan_toml;
+pub mod plots;
 pub mod weather_csv;
 
 /// SHA-256 of some bytes, lower-case hex (provenance records).

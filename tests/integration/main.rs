@@ -2,5 +2,6 @@
 mod cli;
 mod electrical;
 mod enumerate;
+mod export;
 mod invariants;
 mod weather;

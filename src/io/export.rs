@@ -1,0 +1,746 @@
+//! The `--out DIR` files of a ranking run: CSV tables (written with polars), a provenance
+//! record and the charts, replaced atomically.
+//!
+//! Every file is first produced whole (CSV and SVG in memory, PNG into a temporary file),
+//! then written as `<name>.tmp` beside its final name and renamed into place only when all
+//! of them exist, so a reader never sees a half-written file. On failure the temporaries
+//! (and any folder this call created) are removed. The files' columns are documented in
+//! notebooks-free-docs/output-files.md and listed here as constants that the tests share.
+//!
+//! This module formats numbers that arrive computed; it does not simulate, rank or decide
+//! what a chart shows (see [`crate::io::plots`]). It never writes over the plan or the
+//! weather file that produced the run.
+
+use std::fmt::Write as _;
+use std::fs;
+use std::io::{self, Write as _};
+use std::path::{Path, PathBuf};
+
+use polars::prelude::{Column, CsvWriter, DataFrame, PolarsError, SerWriter};
+
+use crate::error::Error;
+use crate::io::plots::{self, Chart};
+use crate::limits::Severity;
+use crate::phase2::Step;
+use crate::physics::controller::{ControllerModel, TrackerMode};
+use crate::physics::thermal::CellTemperatureModel;
+use crate::rank::{Criterion, LayoutOutcome};
+use crate::report::CAUTIONS;
+use crate::RankResult;
+
+pub const MONTHLY_CSV: &str = "monthly.csv";
+pub const SUMMARY_CSV: &str = "summary.csv";
+pub const LOSSES_CSV: &str = "losses.csv";
+pub const HOURLY_CSV: &str = "hourly.csv";
+pub const PROVENANCE_TXT: &str = "provenance.txt";
+
+/// Columns of monthly.csv, in order.
+pub const MONTHLY_COLUMNS: [&str; 7] = [
+    "layout",
+    "rank",
+    "month",
+    "energy_kwh",
+    "low_sun_kwh",
+    "awake_h",
+    "clipped_kwh",
+];
+/// Columns of summary.csv, in order.
+pub const SUMMARY_COLUMNS: [&str; 15] = [
+    "rank",
+    "layout",
+    "code",
+    "status",
+    "score_kwh",
+    "annual_kwh",
+    "worst_month",
+    "worst_month_kwh",
+    "low_sun_kwh",
+    "awake_h",
+    "modules_used",
+    "mixed_orientation",
+    "reasons",
+    "warnings",
+    "cautions",
+];
+/// Columns of losses.csv, in order.
+pub const LOSSES_COLUMNS: [&str; 4] = ["layout", "step", "energy_kwh", "share_pct"];
+/// Columns of hourly.csv, in order.
+pub const HOURLY_COLUMNS: [&str; 7] = [
+    "layout",
+    "time_local",
+    "potential_w",
+    "available_w",
+    "delivered_w",
+    "clipped_w",
+    "awake",
+];
+/// Decimals of every floating-point cell (kWh to the Wh, W to the mW).
+pub const FLOAT_DECIMALS: usize = 3;
+/// The `step` value of the first and last rows of each layout in losses.csv.
+pub const POTENTIAL_STEP: &str = "potential";
+pub const DELIVERED_STEP: &str = "delivered";
+/// Separator of several reasons or warnings in one summary.csv cell.
+pub const LIST_SEPARATOR: &str = " | ";
+
+/// What to write besides the files that are always written.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct ExportOptions {
+    /// Also write hourly.csv (needs a run made with interval rows kept).
+    pub hourly: bool,
+}
+
+/// Writes monthly.csv, summary.csv, losses.csv (and hourly.csv when asked) plus
+/// provenance.txt and the charts into `dir` (created if missing). Returns the paths written,
+/// in the order they were renamed into place.
+///
+/// The gain map needs the run's interval rows (`simulate_and_rank(.., hourly = true)`);
+/// without them it is skipped and provenance.txt says why.
+///
+/// # Errors
+/// - [`Error::Usage`] when `opts.hourly` is set but the run kept no interval rows.
+/// - [`Error::Output`] naming the path when the folder cannot be created, a file cannot be
+///   written or renamed, or an output name would replace the run's plan or weather file.
+///   Nothing is left behind in that case (no temporary, no folder this call created).
+pub fn write_outputs(
+    r: &RankResult,
+    dir: &Path,
+    opts: &ExportOptions,
+) -> Result<Vec<PathBuf>, Error> {
+    let ranked = ranked(r);
+    if opts.hourly {
+        let n = r.loaded.weather.len();
+        if let Some(o) = ranked
+            .iter()
+            .find(|o| o.energy.as_ref().is_none_or(|e| e.hourly.len() != n))
+        {
+            return Err(Error::Usage(format!(
+                "hourly.csv needs the interval rows of every ranked layout, and the run kept none for {}; simulate with hourly rows kept",
+                o.layout.display_name()
+            )));
+        }
+    }
+
+    // Everything is produced in memory first, so that a failure here leaves no trace.
+    let polars_error = |name: &str| {
+        let path = dir.join(name);
+        move |e: PolarsError| output_error(&path, io::Error::other(e.to_string()))
+    };
+    let mut files: Vec<(String, Vec<u8>)> = vec![
+        (
+            MONTHLY_CSV.into(),
+            monthly_frame(r)
+                .and_then(csv_bytes)
+                .map_err(polars_error(MONTHLY_CSV))?,
+        ),
+        (
+            SUMMARY_CSV.into(),
+            summary_frame(r)
+                .and_then(csv_bytes)
+                .map_err(polars_error(SUMMARY_CSV))?,
+        ),
+        (
+            LOSSES_CSV.into(),
+            losses_frame(r)
+                .and_then(csv_bytes)
+                .map_err(polars_error(LOSSES_CSV))?,
+        ),
+    ];
+    if opts.hourly {
+        files.push((
+            HOURLY_CSV.into(),
+            hourly_frame(r)
+                .and_then(csv_bytes)
+                .map_err(polars_error(HOURLY_CSV))?,
+        ));
+    }
+    let planned = plots::plan_charts(r);
+    for chart in &planned.charts {
+        let name = format!("{}.svg", chart.stem());
+        let svg = chart
+            .to_svg()
+            .map_err(|m| output_error(&dir.join(&name), io::Error::other(m)))?;
+        files.push((name, svg.into_bytes()));
+    }
+    let mut names: Vec<String> = files.iter().map(|(n, _)| n.clone()).collect();
+    names.extend(planned.charts.iter().map(|c| format!("{}.png", c.stem())));
+    files.push((
+        PROVENANCE_TXT.into(),
+        provenance(r, &names, &planned.skipped).into_bytes(),
+    ));
+    names.push(PROVENANCE_TXT.into());
+
+    let mut every_path: Vec<String> = Vec::new();
+    for n in &names {
+        every_path.push(n.clone());
+        every_path.push(temp_name(n));
+    }
+    refuse_inputs(r, dir, &every_path)?;
+
+    let mut stage = Staging::create(dir)?;
+    for (name, bytes) in &files {
+        stage.write(name, bytes)?;
+    }
+    for chart in &planned.charts {
+        stage.png(chart)?;
+    }
+    stage.commit()
+}
+
+/// The temporary name of an output file: `<name>.tmp`, except PNG, which is encoded by a
+/// library that chooses the format from the extension, so its temporary ends in `.tmp.png`.
+pub fn temp_name(name: &str) -> String {
+    match name.strip_suffix(".png") {
+        Some(stem) => format!("{stem}.tmp.png"),
+        None => format!("{name}.tmp"),
+    }
+}
+
+fn output_error(path: &Path, source: io::Error) -> Error {
+    Error::Output {
+        path: path.display().to_string(),
+        source,
+    }
+}
+
+fn ranked(r: &RankResult) -> Vec<&LayoutOutcome> {
+    r.outcomes
+        .iter()
+        .filter(|o| o.rank.is_some() && o.energy.is_some())
+        .collect()
+}
+
+fn csv_bytes(mut df: DataFrame) -> Result<Vec<u8>, PolarsError> {
+    let mut buf = Vec::new();
+    CsvWriter::new(&mut buf)
+        .include_header(true)
+        .with_float_precision(Some(FLOAT_DECIMALS))
+        .finish(&mut df)?;
+    Ok(buf)
+}
+
+fn frame(names: &[&str], columns: Vec<Column>) -> Result<DataFrame, PolarsError> {
+    debug_assert_eq!(
+        names,
+        columns
+            .iter()
+            .map(|c| c.name().as_str())
+            .collect::<Vec<_>>()
+    );
+    DataFrame::new_infer_height(columns)
+}
+
+fn col<T, P: ?Sized>(name: &str, values: T) -> Column
+where
+    polars::prelude::Series: polars::prelude::NamedFrom<T, P>,
+{
+    Column::new(name.into(), values)
+}
+
+/// Index of a step in `Step::ALL` (and in `LayoutEnergy::losses_wh`).
+fn step_index(step: Step) -> usize {
+    Step::ALL.iter().position(|&s| s == step).unwrap_or(0)
+}
+
+fn monthly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
+    let clip = step_index(Step::Clipping);
+    let (mut layout, mut rank, mut month) = (Vec::new(), Vec::new(), Vec::new());
+    let (mut energy, mut low_sun, mut awake, mut clipped) =
+        (Vec::new(), Vec::new(), Vec::new(), Vec::new());
+    for o in ranked(r) {
+        let Some(e) = &o.energy else { continue };
+        for m in 0..12 {
+            layout.push(o.layout.display_name());
+            rank.push(o.rank.map_or(0, |k| k as i64));
+            month.push(m as i64 + 1);
+            energy.push(e.delivered_wh[m] / 1000.0);
+            low_sun.push(e.low_sun_wh[m] / 1000.0);
+            awake.push(e.awake_h[m]);
+            clipped.push(e.losses_wh[clip][m] / 1000.0);
+        }
+    }
+    let c = &MONTHLY_COLUMNS;
+    frame(
+        c,
+        vec![
+            col(c[0], layout),
+            col(c[1], rank),
+            col(c[2], month),
+            col(c[3], energy),
+            col(c[4], low_sun),
+            col(c[5], awake),
+            col(c[6], clipped),
+        ],
+    )
+}
+
+/// Findings of one severity as `rule: message` joined by [`LIST_SEPARATOR`].
+fn findings(o: &LayoutOutcome, severity: Severity) -> String {
+    o.findings
+        .iter()
+        .filter(|f| f.severity == severity)
+        .map(|f| format!("{}: {}", f.rule, f.message))
+        .collect::<Vec<_>>()
+        .join(LIST_SEPARATOR)
+}
+
+/// The cautions as one line (a CSV cell reads better without line breaks).
+pub fn cautions_one_line() -> String {
+    CAUTIONS.split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
+fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
+    let n = r.outcomes.len();
+    let mut rank: Vec<Option<i64>> = Vec::with_capacity(n);
+    let (mut layout, mut code, mut status) = (Vec::new(), Vec::new(), Vec::new());
+    // Optional cells: empty for a rejected layout.
+    let mut score: Vec<Option<f64>> = Vec::with_capacity(n);
+    let mut annual: Vec<Option<f64>> = Vec::with_capacity(n);
+    let mut worst: Vec<Option<i64>> = Vec::with_capacity(n);
+    let mut worst_kwh: Vec<Option<f64>> = Vec::with_capacity(n);
+    let mut low_sun: Vec<Option<f64>> = Vec::with_capacity(n);
+    let mut awake: Vec<Option<f64>> = Vec::with_capacity(n);
+    let (mut modules, mut mixed, mut reasons, mut warnings) =
+        (Vec::new(), Vec::new(), Vec::new(), Vec::new());
+    let mut cautions: Vec<Option<String>> = Vec::with_capacity(n);
+    for (i, o) in r.outcomes.iter().enumerate() {
+        rank.push(o.rank.map(|k| k as i64));
+        layout.push(o.layout.display_name());
+        code.push(o.layout.code.clone());
+        status.push(if o.rank.is_some() {
+            "ranked"
+        } else {
+            "rejected"
+        });
+        score.push(o.score_kwh);
+        let e = o.energy.as_ref().filter(|_| o.rank.is_some());
+        annual.push(e.map(|e| e.annual_delivered_kwh()));
+        // The worst of the months the weather covers, as the ranking sees it; the first
+        // such month on a tie.
+        let w = e.and_then(|e| {
+            let kwh = e.monthly_kwh();
+            (0..12)
+                .filter(|&m| r.months_present[m])
+                .min_by(|&a, &b| kwh[a].total_cmp(&kwh[b]).then(a.cmp(&b)))
+                .map(|m| (m, kwh[m]))
+        });
+        worst.push(w.map(|(m, _)| m as i64 + 1));
+        worst_kwh.push(w.map(|(_, v)| v));
+        low_sun.push(e.map(|e| e.low_sun_wh.iter().sum::<f64>() / 1000.0));
+        awake.push(e.map(|e| e.awake_h.iter().sum::<f64>()));
+        modules.push(o.layout.modules_used as i64);
+        mixed.push(o.layout.mixed_orientation);
+        reasons.push(findings(o, Severity::Reject));
+        warnings.push(findings(o, Severity::Warn));
+        cautions.push((i == 0).then(cautions_one_line));
+    }
+    let c = &SUMMARY_COLUMNS;
+    frame(
+        c,
+        vec![
+            col(c[0], rank),
+            col(c[1], layout),
+            col(c[2], code),
+            col(c[3], status),
+            col(c[4], score),
+            col(c[5], annual),
+            col(c[6], worst),
+            col(c[7], worst_kwh),
+            col(c[8], low_sun),
+            col(c[9], awake),
+            col(c[10], modules),
+            col(c[11], mixed),
+            col(c[12], reasons),
+            col(c[13], warnings),
+            col(c[14], cautions),
+        ],
+    )
+}
+
+fn losses_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
+    let (mut layout, mut step, mut energy) = (Vec::new(), Vec::new(), Vec::new());
+    let mut share: Vec<Option<f64>> = Vec::new();
+    for o in ranked(r) {
+        let Some(e) = &o.energy else { continue };
+        let potential_kwh = e.potential_wh.iter().sum::<f64>() / 1000.0;
+        let mut rows: Vec<(&str, f64)> = vec![(POTENTIAL_STEP, potential_kwh)];
+        rows.extend(
+            Step::ALL
+                .iter()
+                .enumerate()
+                .map(|(k, s)| (s.key(), e.step_total_wh(k) / 1000.0)),
+        );
+        rows.push((DELIVERED_STEP, e.annual_delivered_kwh()));
+        for (s, kwh) in rows {
+            layout.push(o.layout.display_name());
+            step.push(s);
+            energy.push(kwh);
+            // No share of nothing: a layout whose modules saw no light gets empty cells.
+            share.push((potential_kwh > 0.0).then(|| 100.0 * kwh / potential_kwh));
+        }
+    }
+    let c = &LOSSES_COLUMNS;
+    frame(
+        c,
+        vec![
+            col(c[0], layout),
+            col(c[1], step),
+            col(c[2], energy),
+            col(c[3], share),
+        ],
+    )
+}
+
+fn hourly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
+    let w = &r.loaded.weather;
+    let stamps: Vec<String> = (0..w.len()).map(|k| w.stamp_text(k)).collect();
+    let (mut layout, mut time) = (Vec::new(), Vec::new());
+    let (mut potential, mut available, mut delivered, mut clipped) =
+        (Vec::new(), Vec::new(), Vec::new(), Vec::new());
+    let mut awake = Vec::new();
+    for o in ranked(r) {
+        let Some(e) = &o.energy else { continue };
+        let name = o.layout.display_name();
+        for (row, stamp) in e.hourly.iter().zip(&stamps) {
+            layout.push(name.clone());
+            time.push(stamp.clone());
+            potential.push(row.potential_w as f64);
+            available.push(row.available_w as f64);
+            delivered.push(row.delivered_w as f64);
+            clipped.push(row.clipped_w as f64);
+            awake.push(row.awake);
+        }
+    }
+    let c = &HOURLY_COLUMNS;
+    frame(
+        c,
+        vec![
+            col(c[0], layout),
+            col(c[1], time),
+            col(c[2], potential),
+            col(c[3], available),
+            col(c[4], delivered),
+            col(c[5], clipped),
+            col(c[6], awake),
+        ],
+    )
+}
+
+fn thermal_text(m: &CellTemperatureModel) -> String {
+    match *m {
+        CellTemperatureModel::Sandia { a, b, delta_t_dk } => {
+            format!("Sandia (King et al. 2004), a = {a}, b = {b} s/m, ΔT = {delta_t_dk} K")
+        }
+        CellTemperatureModel::Faiman { u0, u1 } => {
+            format!("Faiman 2008, U0 = {u0} W/(m²·K), U1 = {u1} W·s/(m³·K)")
+        }
+        CellTemperatureModel::Noct { noct_c } => {
+            format!("linear rise from NOCT = {noct_c} °C (wind ignored)")
+        }
+    }
+}
+
+fn controller_text(m: &ControllerModel) -> String {
+    match m {
+        ControllerModel::Mppt {
+            mppt_min_v,
+            mppt_max_v,
+            tracking,
+            ..
+        } => format!(
+            "MPPT, {} tracking, window {mppt_min_v}..{mppt_max_v} V",
+            match tracking {
+                TrackerMode::Global => "global",
+                TrackerMode::Local => "local (first maximum from open circuit)",
+            }
+        ),
+        ControllerModel::Pwm { .. } => "PWM (array clamped to the battery)".to_string(),
+    }
+}
+
+const MONTH_NAMES: [&str; 12] = [
+    "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec",
+];
+
+/// provenance.txt: what produced these files, and with which models. No clock time is
+/// recorded, so the same inputs give the same bytes.
+fn provenance(r: &RankResult, files: &[String], skipped: &[String]) -> String {
+    let l = &r.loaded;
+    let plan = &l.plan;
+    let w = &l.weather;
+    let s = &l.site;
+    let mut out = String::new();
+    let _ = writeln!(
+        out,
+        "wirerank {}: provenance of the files written beside this one",
+        env!("CARGO_PKG_VERSION")
+    );
+    let _ = writeln!(out);
+    let _ = writeln!(out, "plan:    {}", plan.source.display());
+    let _ = writeln!(out, "         sha256 {}", l.plan_sha256);
+    let _ = writeln!(
+        out,
+        "weather: {} ({} intervals of {} min)",
+        plan.weather_path.display(),
+        w.len(),
+        w.interval_s / 60
+    );
+    let _ = writeln!(out, "         sha256 {}", l.weather_sha256);
+    let _ = writeln!(
+        out,
+        "site:    {} ({:.4}°, {:.4}°, {:.0} m, UTC{:+})",
+        s.name, s.latitude_deg, s.longitude_deg, s.elevation_m, s.utc_offset_h
+    );
+    let _ = writeln!(out);
+    let _ = writeln!(out, "models");
+    let _ = writeln!(out, "  sun position:    NREL SPA");
+    let _ = writeln!(out, "  sky:             {}", plan.model.sky.name());
+    let g = &plan.model.glass;
+    let _ = writeln!(
+        out,
+        "  incidence:       glass cover n = {}, K = {} 1/m, L = {} m",
+        g.refractive_index, g.extinction_per_m, g.thickness_m
+    );
+    for grp in &plan.groups {
+        let _ = writeln!(
+            out,
+            "  cell temperature, group {}: {}",
+            grp.id,
+            thermal_text(&grp.thermal)
+        );
+    }
+    let _ = writeln!(
+        out,
+        "  module curves:   De Soto 2006 single-diode, fitted per module type"
+    );
+    for c in &plan.controllers {
+        let _ = writeln!(out, "  controller {}: {}", c.id, controller_text(&c.model));
+    }
+    let _ = writeln!(out);
+    let criterion = match r.criterion {
+        Criterion::Winter => format!(
+            "{} ({})",
+            r.criterion.describe(),
+            r.winter_months
+                .iter()
+                .map(|&m| MONTH_NAMES[m])
+                .collect::<Vec<_>>()
+                .join(", ")
+        ),
+        c => c.describe().to_string(),
+    };
+    let _ = writeln!(out, "ranking criterion: {criterion}");
+    let _ = writeln!(
+        out,
+        "low-sun hours:     sun above 0° and below {}°",
+        plan.model.low_sun_elevation_deg
+    );
+    let _ = writeln!(
+        out,
+        "limit temperatures: coldest air {:.1} °C, hottest air {:.1} °C",
+        r.temps.min_air_c, r.temps.max_air_c
+    );
+    let n_ranked = r.outcomes.iter().filter(|o| o.rank.is_some()).count();
+    let _ = writeln!(
+        out,
+        "layouts: {} ({} ranked, {} rejected)",
+        r.outcomes.len(),
+        n_ranked,
+        r.outcomes.len() - n_ranked
+    );
+    let _ = writeln!(out);
+    let _ = writeln!(
+        out,
+        "files (columns: see the wirerank docs, output-files.md)"
+    );
+    for f in files {
+        let _ = writeln!(out, "  {f}");
+    }
+    for line in skipped {
+        let _ = writeln!(out, "  {line}");
+    }
+    let _ = writeln!(out);
+    let _ = writeln!(out, "{CAUTIONS}");
+    out
+}
+
+/// True when `a` and `b` name the same existing file (same canonical path or, on Unix, the
+/// same inode: a hard link), or the same path text when either cannot be resolved.
+fn same_file(a: &Path, b: &Path) -> bool {
+    if b.as_os_str().is_empty() {
+        return false;
+    }
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::MetadataExt;
+        if let (Ok(x), Ok(y)) = (fs::metadata(a), fs::metadata(b)) {
+            if x.dev() == y.dev() && x.ino() == y.ino() {
+                return true;
+            }
+        }
+    }
+    match (fs::canonicalize(a), fs::canonicalize(b)) {
+        (Ok(x), Ok(y)) => x == y,
+        _ => a == b,
+    }
+}
+
+/// Refuses any output (or temporary) name that is the run's plan or weather file.
+fn refuse_inputs(r: &RankResult, dir: &Path, names: &[String]) -> Result<(), Error> {
+    let inputs = [
+        (r.loaded.plan.source.as_path(), "plan"),
+        (r.loaded.plan.weather_path.as_path(), "weather"),
+    ];
+    for name in names {
+        let path = dir.join(name);
+        for (input, what) in inputs {
+            if same_file(&path, input) {
+                return Err(output_error(
+                    &path,
+                    io::Error::new(
+                        io::ErrorKind::InvalidInput,
+                        format!(
+                            "it is the {what} file of this run and would be replaced; choose another output folder"
+                        ),
+                    ),
+                ));
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Temporaries written so far and folders created, removed again unless committed.
+struct Staging<'a> {
+    dir: &'a Path,
+    /// (temporary, final), in writing order.
+    pending: Vec<(PathBuf, PathBuf)>,
+    /// Folders this call created, the outermost first.
+    created_dirs: Vec<PathBuf>,
+}
+
+impl<'a> Staging<'a> {
+    fn create(dir: &'a Path) -> Result<Self, Error> {
+        let mut created_dirs: Vec<PathBuf> = dir
+            .ancestors()
+            .take_while(|a| !a.as_os_str().is_empty() && fs::symlink_metadata(a).is_err())
+            .map(Path::to_path_buf)
+            .collect();
+        created_dirs.reverse();
+        // Built before creating, so that a half-made chain of folders is removed on failure.
+        let stage = Staging {
+            dir,
+            pending: Vec::new(),
+            created_dirs,
+        };
+        fs::create_dir_all(dir).map_err(|e| output_error(dir, e))?;
+        if !dir.is_dir() {
+            return Err(output_error(
+                dir,
+                io::Error::new(io::ErrorKind::NotADirectory, "not a folder"),
+            ));
+        }
+        Ok(stage)
+    }
+
+    fn write(&mut self, name: &str, bytes: &[u8]) -> Result<(), Error> {
+        let fin = self.dir.join(name);
+        let tmp = self.dir.join(temp_name(name));
+        // Registered before it exists: a failure half-way through still removes it.
+        self.pending.push((tmp.clone(), fin.clone()));
+        let written = fs::File::create(&tmp).and_then(|mut f| {
+            f.write_all(bytes)?;
+            f.sync_all()
+        });
+        written.map_err(|e| output_error(&fin, e))
+    }
+
+    fn png(&mut self, chart: &Chart) -> Result<(), Error> {
+        let name = format!("{}.png", chart.stem());
+        let fin = self.dir.join(&name);
+        let tmp = self.dir.join(temp_name(&name));
+        self.pending.push((tmp.clone(), fin.clone()));
+        chart
+            .to_png(&tmp)
+            .map_err(|m| output_error(&fin, io::Error::other(m)))
+    }
+
+    /// Renames every temporary into place. A rename that fails stops the commit: the
+    /// files already renamed stay (each one whole), the rest are removed.
+    fn commit(mut self) -> Result<Vec<PathBuf>, Error> {
+        let mut written = Vec::with_capacity(self.pending.len());
+        let pending = std::mem::take(&mut self.pending);
+        let mut rest = pending.into_iter();
+        while let Some((tmp, fin)) = rest.next() {
+            if let Err(e) = fs::rename(&tmp, &fin) {
+                self.pending = std::iter::once((tmp, fin)).chain(rest).collect();
+                // The folder now holds finished files: keep it.
+                if !written.is_empty() {
+                    self.created_dirs.clear();
+                }
+                let (_, fin) = &self.pending[0];
+                return Err(output_error(fin, e));
+            }
+            written.push(fin);
+        }
+        self.created_dirs.clear();
+        Ok(written)
+    }
+}
+
+impl Drop for Staging<'_> {
+    fn drop(&mut self) {
+        for (tmp, _) in &self.pending {
+            let _ = fs::remove_file(tmp);
+        }
+        // Only empty folders go (remove_dir refuses others), innermost first.
+        for d in self.created_dirs.iter().rev() {
+            let _ = fs::remove_dir(d);
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn temporary_names_keep_png_last_and_end_others_in_tmp() {
+        assert_eq!(temp_name("monthly.csv"), "monthly.csv.tmp");
+        assert_eq!(temp_name("provenance.txt"), "provenance.txt.tmp");
+        assert_eq!(temp_name("gain_map.svg"), "gain_map.svg.tmp");
+        assert_eq!(temp_name("gain_map.png"), "gain_map.tmp.png");
+    }
+
+    #[test]
+    fn cautions_fit_on_one_line() {
+        let c = cautions_one_line();
+        assert!(!c.contains('\n'));
+        assert!(c.contains("licensed professional"));
+    }
+
+    #[test]
+    fn staging_removes_its_temporaries_and_folders_when_dropped() {
+        let tmp = tempfile::tempdir().expect("temporary folder");
+        let base = tmp.path().join("new");
+        let dir = base.join("a").join("b");
+        {
+            let mut s = Staging::create(&dir).expect("creates");
+            s.write("x.csv", b"1,2\n").expect("writes");
+            assert!(dir.join("x.csv.tmp").exists());
+        }
+        assert!(!base.exists(), "{} left behind", base.display());
+        assert!(tmp.path().is_dir(), "a folder that existed before stays");
+    }
+
+    #[test]
+    fn staging_commit_renames_and_keeps_the_folder() {
+        let tmp = tempfile::tempdir().expect("temporary folder");
+        let base = tmp.path().join("new");
+        let mut s = Staging::create(&base).expect("creates");
+        s.write("x.csv", b"1,2\n").expect("writes");
+        let written = s.commit().expect("commits");
+        assert_eq!(written, vec![base.join("x.csv")]);
+        assert_eq!(fs::read(base.join("x.csv")).expect("reads"), b"1,2\n");
+        assert!(!base.join("x.csv.tmp").exists());
+    }
+}
