@@ -88,6 +88,13 @@ pub struct OutputArgs {
     /// What the ranking maximises.
     #[arg(long, value_enum, default_value_t = ByArg::Annual)]
     pub by: ByArg,
+    /// Write monthly.csv, summary.csv, losses.csv, provenance.txt and the plots (PNG and SVG)
+    /// into this folder (created if missing).
+    #[arg(long)]
+    pub out: Option<PathBuf>,
+    /// With --out, also write hourly.csv (one row per layout and weather interval).
+    #[arg(long, requires = "out")]
+    pub hourly: bool,
     /// Print nothing on stderr (no progress, no warnings).
     #[arg(long, short)]
     pub quiet: bool,
@@ -175,6 +182,8 @@ impl Cli {
                 plan: PlanSource::Demo,
                 format: self.demo.format.into(),
                 criterion: self.demo.by.into(),
+                out: self.demo.out,
+                hourly: self.demo.hourly,
                 quiet: self.demo.quiet,
             }),
             Some(Command::Rank(a)) => Request::Rank(RankRequest {
@@ -185,6 +194,8 @@ impl Cli {
                 },
                 format: a.output.format.into(),
                 criterion: a.output.by.into(),
+                out: a.output.out,
+                hourly: a.output.hourly,
                 quiet: a.output.quiet,
             }),
             Some(Command::Check(a)) => Request::Check(if a.plan.as_os_str() == "demo" {

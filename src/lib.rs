@@ -64,6 +64,10 @@ pub struct RankRequest {
     pub plan: PlanSource,
     pub format: OutputFormat,
     pub criterion: rank::Criterion,
+    /// Folder for the CSV files and plots.
+    pub out: Option<PathBuf>,
+    /// Also write hourly.csv.
+    pub hourly: bool,
     pub quiet: bool,
 }
 
@@ -328,12 +332,34 @@ pub fn simulate_and_rank(
 }
 
 fn rank(r: &RankRequest) -> Result<Outcome, Error> {
-    let result = simulate_and_rank(&r.plan, r.criterion, true, false)?;
+    // The month × hour gain picture needs the per-interval rows, so any export keeps them.
+    let result = simulate_and_rank(&r.plan, r.criterion, true, r.out.is_some())?;
     let nothing_passed = result.outcomes.iter().all(|o| o.rank.is_none());
-    let stdout = match r.format {
+    let mut stdout = match r.format {
         OutputFormat::Table => report::ranking(&result),
         OutputFormat::Json => io::json::ranking_json(&result)?,
     };
+    if let Some(dir) = &r.out {
+        let written = io::export::write_outputs(
+            &result,
+            dir,
+            &io::export::ExportOptions { hourly: r.hourly },
+        )?;
+        if r.format == OutputFormat::Table {
+            stdout.push_str(&format!(
+                "\nWrote {} files to {}:\n",
+                written.len(),
+                dir.display()
+            ));
+            for p in &written {
+                let name = p.file_name().map_or_else(
+                    || p.display().to_string(),
+                    |n| n.to_string_lossy().into_owned(),
+                );
+                stdout.push_str(&format!("  {name}\n"));
+            }
+        }
+    }
     Ok(Outcome {
         stdout,
         warnings: result
