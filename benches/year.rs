@@ -99,14 +99,23 @@ fn demo_year(c: &mut Criterion) {
     g.bench_function("phase 2: combination and controllers", |b| {
         b.iter(|| {
             black_box(phase2::simulate_layouts(
-                plan, &cond, &curves, &passing, false, false,
+                plan,
+                &cond,
+                &curves,
+                &passing,
+                phase2::RunOptions::default(),
             ))
         })
     });
     g.bench_function("whole run: phase 1 + phase 2", |b| {
         b.iter(|| {
             let cond = simulate::phase1(plan, &loaded.weather, &loaded.site);
-            black_box(phase2::run(plan, &cond, &passing, false, false))
+            black_box(phase2::run(
+                plan,
+                &cond,
+                &passing,
+                phase2::RunOptions::default(),
+            ))
         })
     });
     g.finish();

@@ -282,8 +282,7 @@ pub fn candidate_layouts(
 pub fn simulate_and_rank(
     source: &PlanSource,
     criterion: rank::Criterion,
-    parallel: bool,
-    hourly: bool,
+    opts: phase2::RunOptions,
 ) -> Result<RankResult, Error> {
     let loaded = load(source)?;
     let plan = &loaded.plan;
@@ -306,7 +305,7 @@ pub fn simulate_and_rank(
         .filter(|o| !o.rejected())
         .map(|o| &o.layout)
         .collect();
-    let energies = phase2::run(plan, &conditions, &passing, parallel, hourly);
+    let energies = phase2::run(plan, &conditions, &passing, opts);
     let mut energies = energies.into_iter();
     for o in outcomes.iter_mut().filter(|o| !o.rejected()) {
         o.energy = energies.next();
@@ -333,7 +332,18 @@ pub fn simulate_and_rank(
 
 fn rank(r: &RankRequest) -> Result<Outcome, Error> {
     // The month × hour gain picture needs the per-interval rows, so any export keeps them.
-    let result = simulate_and_rank(&r.plan, r.criterion, true, r.out.is_some())?;
+    let progress = Progress::new(r.quiet);
+    let tick = || progress.tick();
+    let result = simulate_and_rank(
+        &r.plan,
+        r.criterion,
+        phase2::RunOptions {
+            parallel: true,
+            hourly: r.out.is_some(),
+            on_layout_done: Some(&tick),
+        },
+    )?;
+    progress.finish();
     let nothing_passed = result.outcomes.iter().all(|o| o.rank.is_none());
     let mut stdout = match r.format {
         OutputFormat::Table => report::ranking(&result),
@@ -422,4 +432,50 @@ fn check(source: &PlanSource) -> Result<Outcome, Error> {
             .collect(),
         nothing_passed: passed == 0,
     })
+}
+
+/// A progress bar on stderr for runs longer than about a second: it stays hidden until a
+/// second has passed, and always when stderr is not a terminal or with `--quiet`.
+struct Progress {
+    bar: Option<indicatif::ProgressBar>,
+    started: std::time::Instant,
+    done: std::sync::atomic::AtomicU64,
+}
+
+impl Progress {
+    fn new(quiet: bool) -> Self {
+        use std::io::IsTerminal;
+        let bar = (!quiet && std::io::stderr().is_terminal()).then(|| {
+            let b = indicatif::ProgressBar::with_draw_target(
+                None,
+                indicatif::ProgressDrawTarget::hidden(),
+            );
+            b.set_style(
+                indicatif::ProgressStyle::with_template("simulating layouts: {pos} done {elapsed}")
+                    .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+            );
+            b
+        });
+        Progress {
+            bar,
+            started: std::time::Instant::now(),
+            done: std::sync::atomic::AtomicU64::new(0),
+        }
+    }
+
+    fn tick(&self) {
+        let n = self.done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+        if let Some(b) = &self.bar {
+            if b.is_hidden() && self.started.elapsed() > std::time::Duration::from_secs(1) {
+                b.set_draw_target(indicatif::ProgressDrawTarget::stderr());
+            }
+            b.set_position(n);
+        }
+    }
+
+    fn finish(&self) {
+        if let Some(b) = &self.bar {
+            b.finish_and_clear();
+        }
+    }
 }

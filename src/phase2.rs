@@ -459,25 +459,36 @@ pub fn all_interval_curves(
     }
 }
 
+/// How phase 2 runs.
+#[derive(Clone, Copy, Default)]
+pub struct RunOptions<'a> {
+    /// Layouts on all cores (rayon); results are identical either way.
+    pub parallel: bool,
+    /// Keep one row per interval per layout (`LayoutEnergy::hourly`).
+    pub hourly: bool,
+    /// Called once per finished layout (progress display); must not affect results.
+    pub on_layout_done: Option<&'a (dyn Fn() + Sync)>,
+}
+
 /// Every layout over every interval from shared curves (the combination half of phase 2).
 pub fn simulate_layouts(
     plan: &Plan,
     cond: &Conditions,
     curves: &[Option<IntervalCurves>],
     layouts: &[&Layout],
-    parallel: bool,
-    hourly: bool,
+    opts: RunOptions,
 ) -> Vec<LayoutEnergy> {
-    if parallel {
-        layouts
-            .par_iter()
-            .map(|l| simulate_layout(plan, cond, curves, l, hourly))
-            .collect()
+    let one = |l: &&Layout| {
+        let e = simulate_layout(plan, cond, curves, l, opts.hourly);
+        if let Some(done) = opts.on_layout_done {
+            done();
+        }
+        e
+    };
+    if opts.parallel {
+        layouts.par_iter().map(one).collect()
     } else {
-        layouts
-            .iter()
-            .map(|l| simulate_layout(plan, cond, curves, l, hourly))
-            .collect()
+        layouts.iter().map(one).collect()
     }
 }
 
@@ -487,9 +498,8 @@ pub fn run(
     plan: &Plan,
     cond: &Conditions,
     layouts: &[&Layout],
-    parallel: bool,
-    hourly: bool,
+    opts: RunOptions,
 ) -> Vec<LayoutEnergy> {
-    let curves = all_interval_curves(plan, cond, parallel);
-    simulate_layouts(plan, cond, &curves, layouts, parallel, hourly)
+    let curves = all_interval_curves(plan, cond, opts.parallel);
+    simulate_layouts(plan, cond, &curves, layouts, opts)
 }

@@ -17,8 +17,10 @@ fn run(name: &str, parallel: bool) -> RankResult {
     simulate_and_rank(
         &PlanSource::File(fixture(name)),
         Criterion::Annual,
-        parallel,
-        false,
+        wirerank::phase2::RunOptions {
+            parallel,
+            ..Default::default()
+        },
     )
     .expect("fixture plan runs")
 }

@@ -26,8 +26,16 @@ const HALF_LAST_DIGIT: f64 = 0.0005;
 fn demo() -> &'static RankResult {
     static DEMO: OnceLock<RankResult> = OnceLock::new();
     DEMO.get_or_init(|| {
-        wirerank::simulate_and_rank(&PlanSource::Demo, Criterion::Annual, true, true)
-            .expect("the demo runs")
+        wirerank::simulate_and_rank(
+            &PlanSource::Demo,
+            Criterion::Annual,
+            wirerank::phase2::RunOptions {
+                parallel: true,
+                hourly: true,
+                on_layout_done: None,
+            },
+        )
+        .expect("the demo runs")
     })
 }
 
