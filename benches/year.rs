@@ -1,6 +1,7 @@
 //! Speed targets (criterion): one orientation's sun + sky + temperature over an hourly year
 //! (target ≤ 5 ms), and the demo plan's whole year single-threaded (target ≤ 0.25 s), split
-//! into curve solving and combination.
+//! into curve solving and combination; and a 24-module plan with every layout enumerated
+//! (target ≤ 1 s on both cores).
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::hint::black_box;
@@ -121,5 +122,37 @@ fn demo_year(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, one_orientation_year, demo_year);
+fn every_layout_24_modules(c: &mut Criterion) {
+    let plan =
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("benches/data/plan_24_modules.toml");
+    let source = PlanSource::File(plan);
+    let mut g = c.benchmark_group("24 modules, 2 orientations, 2 inputs, every layout");
+    g.sample_size(10);
+    for parallel in [true, false] {
+        let name = if parallel { "both cores" } else { "one thread" };
+        g.bench_function(name, |b| {
+            b.iter(|| {
+                black_box(
+                    wirerank::simulate_and_rank(
+                        &source,
+                        wirerank::rank::Criterion::Annual,
+                        phase2::RunOptions {
+                            parallel,
+                            ..Default::default()
+                        },
+                    )
+                    .expect("bench plan runs"),
+                )
+            })
+        });
+    }
+    g.finish();
+}
+
+criterion_group!(
+    benches,
+    one_orientation_year,
+    demo_year,
+    every_layout_24_modules
+);
 criterion_main!(benches);

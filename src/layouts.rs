@@ -78,7 +78,10 @@ pub fn layout_code(plan: &Plan, inputs: &[InputWiring]) -> String {
     inputs
         .iter()
         .map(|w| {
-            let sp = format!("{}s{}p", w.series(), w.parallel());
+            let mut sp = format!("{}s{}p", w.series(), w.parallel());
+            if plan.groups.len() > 1 {
+                sp.push_str(&group_mix(plan, w));
+            }
             if many {
                 format!("{}:{sp}", plan.controllers[w.controller].id)
             } else {
@@ -87,6 +90,28 @@ pub fn layout_code(plan: &Plan, inputs: &[InputWiring]) -> String {
         })
         .collect::<Vec<_>>()
         .join(" + ")
+}
+
+/// Which orientation groups an input's strings come from, e.g. `[south×2 west×1]`, or
+/// `[south+west×2]` for strings that mix groups.
+fn group_mix(plan: &Plan, w: &InputWiring) -> String {
+    let mut kinds: Vec<(String, usize)> = Vec::new();
+    for s in &w.strings {
+        let mut groups: Vec<usize> = s.iter().map(|&m| plan.modules[m].group).collect();
+        groups.sort_unstable();
+        groups.dedup();
+        let name = groups
+            .iter()
+            .map(|&g| plan.groups[g].id.as_str())
+            .collect::<Vec<_>>()
+            .join("+");
+        match kinds.iter_mut().find(|(n, _)| *n == name) {
+            Some((_, k)) => *k += 1,
+            None => kinds.push((name, 1)),
+        }
+    }
+    let parts: Vec<String> = kinds.iter().map(|(n, k)| format!("{n}×{k}")).collect();
+    format!("[{}]", parts.join(" "))
 }
 
 /// Builds a layout from input wirings, naming it and noting mixed orientations.

@@ -99,7 +99,7 @@ pub fn ranking(r: &RankResult) -> String {
         .map(|o| o.layout.display_name().chars().count())
         .max()
         .unwrap_or(6)
-        .clamp(6, 60);
+        .clamp(6, 90);
     let _ = writeln!(
         out,
         "{:>4}  {:<name_w$}  {:>9} {:>8} {:>10} {:>6} {:>9} {:>7}  notes",
@@ -119,12 +119,12 @@ pub fn ranking(r: &RankResult) -> String {
             .filter(|&m| r.months_present[m])
             .map(|m| (m, kwh[m]))
             .fold((0, f64::INFINITY), |a, b| if b.1 < a.1 { b } else { a });
-        let mut notes: Vec<String> = o
-            .findings
-            .iter()
-            .filter(|f| f.severity == Severity::Warn)
-            .map(|f| f.rule.to_string())
-            .collect();
+        let mut notes: Vec<String> = Vec::new();
+        for f in o.findings.iter().filter(|f| f.severity == Severity::Warn) {
+            if !notes.iter().any(|n| n == f.rule) {
+                notes.push(f.rule.to_string());
+            }
+        }
         if o.layout.modules_used < plan.modules.len() {
             notes.insert(
                 0,
