@@ -237,12 +237,32 @@ fn cable_resistances(plan: &Plan, layout: &Layout, air_c: f64) -> (f64, Vec<f64>
     (r_lead, r_main)
 }
 
-/// The highest power anywhere on a curve, W.
-fn max_power_w(c: &ArrayCurve) -> f64 {
-    c.local_maxima(0.0, c.voc_v())
-        .iter()
-        .map(|m| m.p)
-        .fold(0.0, f64::max)
+/// Joule loss in the cables of one input at a terminal voltage, W: each string's current
+/// (read off its curve at the combiner voltage) through its lead, and the array current
+/// through the main run.
+fn joule_loss_w(s: &Scratch, grid: &CurrentGrid, v_terminal: f64, r_lead: f64, r_main: f64) -> f64 {
+    if v_terminal <= 0.0 {
+        return 0.0;
+    }
+    let i = s.array.current_at(v_terminal);
+    let v_comb = v_terminal + i * r_main;
+    let currents = grid.currents();
+    let mut leads = 0.0;
+    for &j in &s.slot {
+        let sv = &s.strings[j];
+        // String voltage falls as its current rises: find the current at v_comb.
+        let k = sv.partition_point(|&v| v > v_comb);
+        let i_s = if k == 0 {
+            0.0
+        } else if k >= sv.len() {
+            currents[sv.len() - 1]
+        } else {
+            let t = (sv[k - 1] - v_comb) / (sv[k - 1] - sv[k]);
+            currents[k - 1] + t * (currents[k] - currents[k - 1])
+        };
+        leads += i_s * i_s * r_lead;
+    }
+    leads + i * i * r_main
 }
 
 /// Scratch buffers reused across intervals for one layout.
@@ -253,9 +273,7 @@ struct Scratch {
     /// Per string of the input: which distinct string it is.
     slot: Vec<usize>,
     strings: Vec<Vec<f64>>,
-    strings_bare: Vec<Vec<f64>>,
     array: ArrayCurve,
-    array_bare: ArrayCurve,
 }
 
 /// Simulates one layout over all intervals given the shared curves.
@@ -316,7 +334,9 @@ fn simulate_layout(
             sub_mpp_sum += mpp;
         }
         let (r_lead, r_main) = cable_resistances(plan, layout, info.air_temp_c);
-        let mut bare_total = 0.0;
+        // Cables: Joule loss in the string leads and the main run at the array's best terminal
+        // point; the array maximum before cables is that best power plus this loss.
+        let mut cable_w = 0.0;
         let mut powers = ControllerPowers::default();
         let mut any_awake = false;
         let sum = |a: &mut ControllerPowers, b: &ControllerPowers| {
@@ -329,13 +349,13 @@ fn simulate_layout(
         for (wi, w) in layout.inputs.iter().enumerate() {
             let c = &plan.controllers[w.controller];
             build_input_curves(plan, ic, w, r_lead, r_main[wi], &mut scratch);
-            bare_total += max_power_w(&scratch.array_bare);
             let p = c.model.operate(&scratch.array, battery_v, &mut awake[wi]);
+            cable_w += joule_loss_w(&scratch, &ic.grid, p.available_v, r_lead, r_main[wi]);
             any_awake |= p.awake;
             sum(&mut powers, &p);
         }
-        e.losses_wh[4][m] += (sub_mpp_sum - bare_total) * wh;
-        e.losses_wh[5][m] += (bare_total - powers.available_w) * wh;
+        e.losses_wh[4][m] += (sub_mpp_sum - powers.available_w - cable_w) * wh;
+        e.losses_wh[5][m] += cable_w * wh;
         e.losses_wh[6][m] += (powers.available_w - powers.after_window_w) * wh;
         e.losses_wh[7][m] += (powers.after_window_w - powers.after_input_limit_w) * wh;
         e.losses_wh[8][m] += (powers.after_input_limit_w - powers.input_w) * wh;
@@ -362,7 +382,8 @@ fn simulate_layout(
     e
 }
 
-/// String and array curves of one input, with cables (`array`) and without (`array_bare`).
+/// String curves (string leads included) and the array curve at the terminals (main run
+/// included) of one input.
 fn build_input_curves(
     plan: &Plan,
     ic: &IntervalCurves,
@@ -397,7 +418,6 @@ fn build_input_curves(
         s.slot.push(slot);
     }
     s.strings.resize_with(distinct, Vec::new);
-    s.strings_bare.resize_with(distinct, Vec::new);
     let blocking = plan.cables.blocking_diode_v;
     for j in 0..distinct {
         let subs: Vec<&SubstringCurve> = s.keys[j]
@@ -405,16 +425,9 @@ fn build_input_curves(
             .map(|&c| &ic.curves[c as usize].curve)
             .collect();
         string_curve(&subs, r_lead, blocking, &ic.grid, &mut s.strings[j]);
-        string_curve(&subs, 0.0, blocking, &ic.grid, &mut s.strings_bare[j]);
     }
     let with: Vec<&[f64]> = s.slot.iter().map(|&j| s.strings[j].as_slice()).collect();
     array_curve(&with, &ic.grid, r_main, &mut s.array);
-    let bare: Vec<&[f64]> = s
-        .slot
-        .iter()
-        .map(|&j| s.strings_bare[j].as_slice())
-        .collect();
-    array_curve(&bare, &ic.grid, 0.0, &mut s.array_bare);
 }
 
 /// The array curve each of a layout's controller inputs sees at its terminals in interval

@@ -45,6 +45,8 @@ pub enum ControllerModel {
 pub struct ControllerPowers {
     /// Best power the terminal curve offers anywhere (after cables).
     pub available_w: f64,
+    /// Terminal voltage of that best point (0 when the curve offers nothing).
+    pub available_v: f64,
     /// After the wake-up threshold, the voltage window and the tracker (PWM: the battery clamp).
     pub after_window_w: f64,
     /// After the input current limit.
@@ -213,13 +215,14 @@ impl ControllerModel {
         awake: &mut bool,
     ) -> ControllerPowers {
         let voc = curve.voc_v();
-        let available = if voc > 0.0 {
-            best_in(curve, 0.0, voc).0
+        let (available, available_v) = if voc > 0.0 {
+            best_in(curve, 0.0, voc)
         } else {
-            0.0
+            (0.0, 0.0)
         };
         let mut out = ControllerPowers {
             available_w: available,
+            available_v,
             ..ControllerPowers::default()
         };
         match self {
