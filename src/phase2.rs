@@ -81,6 +81,9 @@ pub struct LayoutEnergy {
     pub low_sun_wh: [f64; 12],
     /// Hours with at least one controller input awake.
     pub awake_h: [f64; 12],
+    /// Delivered with the other MPPT tracking behaviour on every MPPT input (local instead of
+    /// global, or global instead of local); PWM inputs count as they are.
+    pub other_tracking_wh: [f64; 12],
     /// One row per weather interval, when asked for (`--hourly`); empty otherwise.
     pub hourly: Vec<HourRow>,
 }
@@ -289,6 +292,12 @@ fn simulate_layout(
         e.hourly.reserve(cond.intervals.len());
     }
     let mut awake = vec![false; layout.inputs.len()];
+    let mut other_awake = vec![false; layout.inputs.len()];
+    let other_models: Vec<_> = layout
+        .inputs
+        .iter()
+        .map(|w| plan.controllers[w.controller].model.with_other_tracking())
+        .collect();
     let mut scratch = Scratch::default();
     let used: Vec<usize> = layout
         .inputs
@@ -300,6 +309,7 @@ fn simulate_layout(
     for (k, info) in cond.intervals.iter().enumerate() {
         let Some(ic) = &curves[k] else {
             awake.iter_mut().for_each(|a| *a = false);
+            other_awake.iter_mut().for_each(|a| *a = false);
             if hourly {
                 e.hourly.push(HourRow::default());
             }
@@ -350,6 +360,8 @@ fn simulate_layout(
             let c = &plan.controllers[w.controller];
             build_input_curves(plan, ic, w, r_lead, r_main[wi], &mut scratch);
             let p = c.model.operate(&scratch.array, battery_v, &mut awake[wi]);
+            let alt = other_models[wi].operate(&scratch.array, battery_v, &mut other_awake[wi]);
+            e.other_tracking_wh[m] += alt.output_w * wh;
             cable_w += joule_loss_w(&scratch, &ic.grid, p.available_v, r_lead, r_main[wi]);
             any_awake |= p.awake;
             sum(&mut powers, &p);

@@ -191,6 +191,32 @@ pub fn ranking(r: &RankResult) -> String {
         }
     }
 
+    // What a different MPPT tracker would change (shade makes several maxima).
+    let differs: Vec<_> = ranked
+        .iter()
+        .filter_map(|o| {
+            let e = o.energy.as_ref()?;
+            let own = e.annual_delivered_kwh();
+            let other = e.other_tracking_wh.iter().sum::<f64>() / 1000.0;
+            ((own - other).abs() >= 0.05).then_some((o, own, other))
+        })
+        .collect();
+    if !differs.is_empty() {
+        let _ = writeln!(out);
+        let _ = writeln!(
+            out,
+            "Tracker comparison (MPPT inputs with the other tracking behaviour; partial shade gives the array several power maxima):"
+        );
+        for (o, own, other) in differs {
+            let _ = writeln!(
+                out,
+                "  {}: {own:.1} kWh as planned, {other:.1} kWh with the other tracker ({:+.1} kWh)",
+                o.layout.display_name(),
+                other - own
+            );
+        }
+    }
+
     if !ranked.is_empty() {
         let _ = writeln!(out);
         let _ = writeln!(out, "Monthly energy into the battery, kWh");

@@ -61,6 +61,7 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                 "low_sun_kwh": Value::Null,
                 "awake_hours": Value::Null,
                 "potential_kwh": Value::Null,
+                "other_tracking_kwh": Value::Null,
                 "losses_kwh": Value::Null,
             });
             if let Some(e) = &o.energy {
@@ -73,6 +74,7 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                 v["low_sun_kwh"] = json!(r3(e.low_sun_wh.iter().sum::<f64>() / 1000.0));
                 v["awake_hours"] = json!(r3(e.awake_h.iter().sum::<f64>()));
                 v["potential_kwh"] = json!(r3(e.potential_wh.iter().sum::<f64>() / 1000.0));
+                v["other_tracking_kwh"] = json!(r3(e.other_tracking_wh.iter().sum::<f64>() / 1000.0));
                 v["losses_kwh"] = Value::Object(losses);
             }
             v

@@ -150,6 +150,19 @@ fn voltage_at_current(curve: &ArrayCurve, i_a: f64) -> f64 {
 }
 
 impl ControllerModel {
+    /// The same controller with the other tracking behaviour (MPPT: global ↔ local; PWM has
+    /// no tracker and stays as it is).
+    pub fn with_other_tracking(&self) -> ControllerModel {
+        let mut other = self.clone();
+        if let ControllerModel::Mppt { tracking, .. } = &mut other {
+            *tracking = match tracking {
+                TrackerMode::Global => TrackerMode::Local,
+                TrackerMode::Local => TrackerMode::Global,
+            };
+        }
+        other
+    }
+
     /// Input current rating, A.
     pub fn max_input_a(&self) -> f64 {
         match self {

@@ -231,3 +231,25 @@ fn worst_month_ranking_can_pick_another_winner_than_annual() {
     assert_eq!(first(&annual), "flat roof pair of strings");
     assert_eq!(first(&worst), "steep wall pair of strings");
 }
+
+#[test]
+fn a_local_tracker_never_beats_the_global_one() {
+    // Source: MODEL.md §9 — global tracking takes the best point of the window; a tracker that
+    // stops at the first maximum from open circuit cannot do better (the demo shades one
+    // substring on winter mornings, giving two maxima).
+    let r = run("plan_larchwood.toml", true);
+    let mut some_differ = false;
+    for o in r.outcomes.iter().filter(|o| o.energy.is_some()) {
+        let e = o.energy.as_ref().expect("simulated");
+        for m in 0..12 {
+            assert!(
+                e.other_tracking_wh[m] <= e.delivered_wh[m] + 1e-6,
+                "{} month {}",
+                o.layout.display_name(),
+                m + 1
+            );
+            some_differ |= e.other_tracking_wh[m] < e.delivered_wh[m] - 1.0;
+        }
+    }
+    assert!(some_differ, "shade makes the local tracker lose somewhere");
+}
