@@ -11,6 +11,11 @@ use rayon::prelude::*;
 use crate::layouts::Layout;
 use crate::physics::controller::ControllerPowers;
 use crate::physics::diode::OperatingParams;
+use crate::physics::shade::{
+    obstacle_sky_view_loss, shaded_fractions_prepared, sky_view_ratio, HorizonProfile,
+    PreparedModule, PreparedObstacle, SunDirection,
+};
+use crate::plan::HorizonRef;
 use crate::physics::wiring::{
     array_curve, cable_resistance_ohm, string_curve, substring_curve, substring_knees_a,
     ArrayCurve, CurrentGrid, SubstringCurve,
@@ -131,6 +136,8 @@ pub struct IntervalCurves {
     module_subs: Vec<Vec<u16>>,
     /// For each module, for each substring: shaded (blocked) fraction of direct light.
     blocked: Vec<Vec<f64>>,
+    /// For each module: factor on its isotropic sky and horizon-band light.
+    diffuse_factor: Vec<f64>,
 }
 
 /// Beam and circumsolar fraction blocked by the plan's shade schedule for a module's
@@ -151,9 +158,14 @@ fn schedule_blocked(plan: &Plan, module: usize, sub: usize, month: u32, hour: u3
 
 /// Builds every distinct substring curve of one interval. `None` when no light reaches any
 /// module (night).
-fn interval_curves(plan: &Plan, cond: &Conditions, k: usize) -> Option<IntervalCurves> {
+fn interval_curves(
+    plan: &Plan,
+    cond: &Conditions,
+    scene: &ShadeScene,
+    k: usize,
+) -> Option<IntervalCurves> {
     let info = &cond.intervals[k];
-    info.sun?;
+    let sun = info.sun?;
     if cond
         .groups
         .iter()
@@ -161,26 +173,50 @@ fn interval_curves(plan: &Plan, cond: &Conditions, k: usize) -> Option<IntervalC
     {
         return None;
     }
-    // Distinct states: (group, blocked fraction bits).
-    let mut keys: Vec<(usize, u64)> = Vec::new();
+    let sun_dir = SunDirection::from_position(&sun.position);
+    let (sun_el, sun_az) = (sun.position.elevation_deg(), sun.position.azimuth_deg);
+    // Distinct states: (group, blocked fraction, diffuse factor), both rounded to 1e-4 so that
+    // modules in practically the same light share one curve.
+    let q = |x: f64| (x * 1e4).round() as i64;
+    let mut keys: Vec<(usize, i64, i64)> = Vec::new();
     let mut params: Vec<OperatingParams> = Vec::new();
     let mut module_subs = Vec::with_capacity(plan.modules.len());
     let mut blocked_all = Vec::with_capacity(plan.modules.len());
+    let mut near = [0.0; crate::physics::shade::MAX_SUBSTRINGS as usize];
     for (m, module) in plan.modules.iter().enumerate() {
         let t = &plan.module_types[module.module_type];
         let g = &cond.groups[module.group];
+        let ms = &scene.modules[m];
         let parts = &g.effective[k];
         let direct = parts.beam_w_m2 + parts.circumsolar_w_m2;
-        let diffuse = parts.total_w_m2() - direct;
-        let mut subs = Vec::with_capacity(t.bypass_diodes as usize);
-        let mut blocked = Vec::with_capacity(t.bypass_diodes as usize);
-        for j in 0..t.bypass_diodes as usize {
-            let f = schedule_blocked(plan, m, j, info.month, info.hour);
-            let key = (module.group, f.to_bits());
+        let sky = parts.isotropic_w_m2 + parts.horizon_w_m2;
+        let ground = parts.ground_w_m2;
+        let b = t.bypass_diodes as usize;
+        // Far shade: the sun below this module's horizon line blocks beam and circumsolar.
+        let far = ms
+            .horizon
+            .and_then(|h| plan.geometry_horizon(h))
+            .is_some_and(|h| h.blocks(sun_el, sun_az));
+        near[..b].iter_mut().for_each(|x| *x = 0.0);
+        if !far && direct > 0.0 {
+            if let Some(pm) = &ms.placed {
+                shaded_fractions_prepared(pm, &scene.obstacles, &sun_dir, &mut near[..b]);
+            }
+        }
+        let mut subs = Vec::with_capacity(b);
+        let mut blocked = Vec::with_capacity(b);
+        for (j, near_j) in near[..b].iter().enumerate() {
+            let sched = schedule_blocked(plan, m, j, info.month, info.hour);
+            let f = if far {
+                1.0
+            } else {
+                1.0 - (1.0 - near_j) * (1.0 - sched)
+            };
+            let key = (module.group, q(f), q(ms.diffuse_factor));
             let idx = match keys.iter().position(|x| *x == key) {
                 Some(i) => i,
                 None => {
-                    let e = (direct * (1.0 - f) + diffuse).max(0.0);
+                    let e = (direct * (1.0 - f) + sky * ms.diffuse_factor + ground).max(0.0);
                     params.push(t.substring.at(e, g.cell_temp_c[k]));
                     keys.push(key);
                     keys.len() - 1
@@ -199,7 +235,7 @@ fn interval_curves(plan: &Plan, cond: &Conditions, k: usize) -> Option<IntervalC
     let knees: Vec<f64> = params
         .iter()
         .zip(&keys)
-        .flat_map(|(p, (group, _))| {
+        .flat_map(|(p, (group, _, _))| {
             let drop = plan.module_types[plan.groups[*group].module_type].bypass_drop_v;
             substring_knees_a(p, drop)
         })
@@ -208,7 +244,7 @@ fn interval_curves(plan: &Plan, cond: &Conditions, k: usize) -> Option<IntervalC
     let curves = params
         .into_iter()
         .zip(&keys)
-        .map(|(p, (group, _))| {
+        .map(|(p, (group, _, _))| {
             let drop = plan.module_types[plan.groups[*group].module_type].bypass_drop_v;
             SubCurve {
                 curve: substring_curve(&p, drop, &grid),
@@ -221,7 +257,62 @@ fn interval_curves(plan: &Plan, cond: &Conditions, k: usize) -> Option<IntervalC
         curves,
         module_subs,
         blocked: blocked_all,
+        diffuse_factor: scene.modules.iter().map(|m| m.diffuse_factor).collect(),
     })
+}
+
+/// One module's fixed shading data, prepared once per run.
+struct ModuleShade {
+    /// Which horizon applies (see `Plan::geometry_horizon`).
+    horizon: Option<HorizonRef>,
+    /// The module's placement, when its group has one and there are obstacles.
+    placed: Option<PreparedModule>,
+    /// Factor on the isotropic sky and horizon-band light: the horizon's sky-view ratio less
+    /// the obstacles' share of the module's sky view (1 without either).
+    diffuse_factor: f64,
+}
+
+/// Horizon profiles and obstacles, prepared once per run and shared by every interval.
+pub struct ShadeScene {
+    modules: Vec<ModuleShade>,
+    obstacles: Vec<PreparedObstacle>,
+}
+
+impl ShadeScene {
+    /// Prepares the plan's geometry: horizon per module, placements, diffuse factors
+    /// (numerical sky-dome integrals, once per module).
+    pub fn new(plan: &Plan) -> ShadeScene {
+        let geo = &plan.geometry;
+        let obstacles_raw: Vec<_> = geo.obstacles.iter().map(|(_, o)| *o).collect();
+        let obstacles = obstacles_raw.iter().map(|o| o.prepare()).collect();
+        let modules = plan
+            .modules
+            .iter()
+            .enumerate()
+            .map(|(m, module)| {
+                let g = &plan.groups[module.group];
+                let horizon = plan.horizon_ref(m, module.group);
+                let profile = horizon.and_then(|h| plan.geometry_horizon(h));
+                let placement = geo.placements.get(m).copied().flatten();
+                let diffuse_factor = match (placement, obstacles_raw.is_empty()) {
+                    (Some(p), false) => {
+                        let flat = HorizonProfile::flat();
+                        obstacle_sky_view_loss(&p, &obstacles_raw, profile.unwrap_or(&flat))
+                            .map_or(1.0, |l| l.isotropic_factor())
+                    }
+                    _ => profile.map_or(1.0, |h| sky_view_ratio(g.tilt_deg, g.azimuth_deg, h)),
+                };
+                ModuleShade {
+                    horizon,
+                    placed: placement
+                        .filter(|_| !obstacles_raw.is_empty())
+                        .map(|p| p.prepare()),
+                    diffuse_factor,
+                }
+            })
+            .collect();
+        ShadeScene { modules, obstacles }
+    }
 }
 
 /// Conductor resistances of one layout at an air temperature, ohm.
@@ -330,7 +421,9 @@ fn simulate_layout(
             let eff = g.effective[k].total_w_m2();
             let direct = g.effective[k].beam_w_m2 + g.effective[k].circumsolar_w_m2;
             let b = t.bypass_diodes as f64;
-            let shaded: f64 = ic.blocked[mi].iter().map(|f| f * direct / b).sum();
+            let sky = g.effective[k].isotropic_w_m2 + g.effective[k].horizon_w_m2;
+            let shaded: f64 = ic.blocked[mi].iter().map(|f| f * direct / b).sum::<f64>()
+                + (1.0 - ic.diffuse_factor[mi]) * sky;
             e.potential_wh[m] += poa * scale;
             e.losses_wh[0][m] += (poa - after_iam) * scale;
             e.losses_wh[1][m] += (after_iam - eff) * scale;
@@ -450,7 +543,7 @@ pub fn layout_curves_at(
     layout: &Layout,
     k: usize,
 ) -> Option<Vec<(usize, ArrayCurve)>> {
-    let ic = interval_curves(plan, cond, k)?;
+    let ic = interval_curves(plan, cond, &ShadeScene::new(plan), k)?;
     let (r_lead, r_main) = cable_resistances(plan, layout, cond.intervals[k].air_temp_c);
     let mut scratch = Scratch::default();
     Some(
@@ -472,14 +565,15 @@ pub fn all_interval_curves(
     cond: &Conditions,
     parallel: bool,
 ) -> Vec<Option<IntervalCurves>> {
+    let scene = ShadeScene::new(plan);
     if parallel {
         (0..cond.intervals.len())
             .into_par_iter()
-            .map(|k| interval_curves(plan, cond, k))
+            .map(|k| interval_curves(plan, cond, &scene, k))
             .collect()
     } else {
         (0..cond.intervals.len())
-            .map(|k| interval_curves(plan, cond, k))
+            .map(|k| interval_curves(plan, cond, &scene, k))
             .collect()
     }
 }

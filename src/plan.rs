@@ -9,6 +9,7 @@ use std::path::PathBuf;
 
 use crate::physics::controller::ControllerModel;
 use crate::physics::diode::{Datasheet, ReferenceParams};
+use crate::physics::shade::{HorizonProfile, ModulePlacement, Obstacle};
 use crate::physics::sky::{GlassCover, SkyModel};
 use crate::physics::thermal::CellTemperatureModel;
 use crate::physics::wiring::Conductor;
@@ -179,6 +180,31 @@ pub struct LayoutSpec {
     pub inputs: Vec<(usize, Vec<Vec<usize>>)>,
 }
 
+/// The site's geometry for shading: horizon profiles and near obstacles (MODEL.md §5).
+#[derive(Clone, Debug, Default)]
+pub struct Geometry {
+    /// Horizon seen by every module without a more specific one.
+    pub site_horizon: Option<HorizonProfile>,
+    /// Per group (index = group), overriding the site's.
+    pub group_horizon: Vec<Option<HorizonProfile>>,
+    /// Per module (index = module), overriding the group's.
+    pub module_horizon: Vec<Option<HorizonProfile>>,
+    /// Where each module sits (index = module); `None` for groups without a placement.
+    pub placements: Vec<Option<ModulePlacement>>,
+    /// Near obstacles with their names (for reports).
+    pub obstacles: Vec<(String, Obstacle)>,
+}
+
+impl Geometry {
+    /// True when nothing shades anything geometrically.
+    pub fn is_empty(&self) -> bool {
+        self.site_horizon.is_none()
+            && self.group_horizon.iter().all(Option::is_none)
+            && self.module_horizon.iter().all(Option::is_none)
+            && self.obstacles.is_empty()
+    }
+}
+
 /// Everything wirerank needs from the plan file, validated.
 #[derive(Clone, Debug)]
 pub struct Plan {
@@ -195,6 +221,8 @@ pub struct Plan {
     pub battery: Battery,
     pub cables: Cables,
     pub shade: Vec<ShadeRule>,
+    /// Horizon profiles, obstacles and module placements.
+    pub geometry: Geometry,
     pub layouts: Vec<LayoutSpec>,
     /// `layouts = "all"`: also enumerate every regular wiring.
     pub enumerate_all: bool,
@@ -212,7 +240,37 @@ impl ControllerInput {
     }
 }
 
+/// Which of the plan's horizon profiles applies to a module.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum HorizonRef {
+    Site,
+    Group(usize),
+    Module(usize),
+}
+
 impl Plan {
+    /// The most specific horizon for a module: its own, its group's, or the site's.
+    pub fn horizon_ref(&self, module: usize, group: usize) -> Option<HorizonRef> {
+        let g = &self.geometry;
+        if g.module_horizon.get(module).is_some_and(Option::is_some) {
+            Some(HorizonRef::Module(module))
+        } else if g.group_horizon.get(group).is_some_and(Option::is_some) {
+            Some(HorizonRef::Group(group))
+        } else {
+            g.site_horizon.as_ref().map(|_| HorizonRef::Site)
+        }
+    }
+
+    /// The profile a [`HorizonRef`] points at.
+    pub fn geometry_horizon(&self, r: HorizonRef) -> Option<&HorizonProfile> {
+        let g = &self.geometry;
+        match r {
+            HorizonRef::Site => g.site_horizon.as_ref(),
+            HorizonRef::Group(i) => g.group_horizon.get(i).and_then(Option::as_ref),
+            HorizonRef::Module(i) => g.module_horizon.get(i).and_then(Option::as_ref),
+        }
+    }
+
     /// The index of a module by its id.
     pub fn module_index(&self, id: &str) -> Option<usize> {
         self.modules.iter().position(|m| m.id == id)

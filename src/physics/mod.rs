@@ -5,3 +5,4 @@ pub mod sky;
 pub mod sun;
 pub mod thermal;
 pub mod wiring;
+pub mod shade;
