@@ -33,6 +33,8 @@ pub enum Command {
     /// irradiance and cell temperature, or of a layout's array as each controller sees it in
     /// one interval of the weather file.
     Curve(CurveArgs),
+    /// Share of direct light each module loses to shade (horizon, obstacles, schedule), by month.
+    Shade(ShadeArgs),
     /// Print a commented starter plan to copy and edit.
     Template,
     /// Print the sun's elevation and azimuth for a site over a date or a range of dates.
@@ -72,6 +74,15 @@ pub struct CurveArgs {
     /// CSV on stdout: curve,voltage_v,current_a,power_w.
     #[arg(long)]
     pub csv: bool,
+}
+
+#[derive(Debug, Args)]
+pub struct ShadeArgs {
+    /// The plan file (TOML); `demo` uses the bundled demo plan.
+    pub plan: PathBuf,
+    /// Also write shade.csv into this folder.
+    #[arg(long)]
+    pub out: Option<PathBuf>,
 }
 
 #[derive(Debug, Args)]
@@ -220,6 +231,14 @@ impl Cli {
                 points: a.points,
                 csv: a.csv,
             }),
+            Some(Command::Shade(a)) => Request::Shade(
+                if a.plan.as_os_str() == "demo" {
+                    PlanSource::Demo
+                } else {
+                    PlanSource::File(a.plan)
+                },
+                a.out,
+            ),
             Some(Command::Template) => Request::Template,
             Some(Command::Sunpath(a)) => Request::Sunpath(SunpathRequest {
                 plan: a.plan,

@@ -116,6 +116,8 @@ pub enum Request {
     Curve(CurveRequest),
     /// `wirerank check`: limits only.
     Check(PlanSource),
+    /// `wirerank shade`: share of direct light lost per module and month.
+    Shade(PlanSource, Option<PathBuf>),
     Template,
     Sunpath(SunpathRequest),
 }
@@ -137,6 +139,7 @@ pub fn run(request: Request) -> Result<Outcome, Error> {
     match request {
         Request::Rank(r) => rank(&r),
         Request::Check(source) => check(&source),
+        Request::Shade(source, out) => shade(&source, out.as_deref()),
         Request::Curve(r) => report::curve(&r),
         Request::Template => Ok(Outcome {
             stdout: TEMPLATE_PLAN.to_string(),
@@ -478,4 +481,50 @@ impl Progress {
             b.finish_and_clear();
         }
     }
+}
+
+/// Direct light lost to shade, per module and month.
+#[derive(Clone, Debug)]
+pub struct ShadeResult {
+    pub loaded: Loaded,
+    /// Per module: per month (direct Wh/m², lost Wh/m²).
+    pub direct: Vec<[(f64, f64); 12]>,
+    pub months_present: [bool; 12],
+}
+
+/// Runs phase 1 and the shading of phase 2 for every module.
+///
+/// # Errors
+/// As [`load`].
+pub fn shade_losses(source: &PlanSource) -> Result<ShadeResult, Error> {
+    let loaded = load(source)?;
+    let cond = simulate::phase1(&loaded.plan, &loaded.weather, &loaded.site);
+    let curves = phase2::all_interval_curves(&loaded.plan, &cond, true);
+    let direct = phase2::direct_light_lost(&loaded.plan, &cond, &curves);
+    let months_present = tally::months_present(&cond);
+    Ok(ShadeResult {
+        loaded,
+        direct,
+        months_present,
+    })
+}
+
+fn shade(source: &PlanSource, out: Option<&Path>) -> Result<Outcome, Error> {
+    let r = shade_losses(source)?;
+    let mut stdout = report::shade(&r);
+    if let Some(dir) = out {
+        let path = io::export::write_shade_csv(&r, dir)?;
+        stdout.push_str(&format!("\nWrote {}\n", path.display()));
+    }
+    Ok(Outcome {
+        stdout,
+        warnings: r
+            .loaded
+            .weather
+            .warnings
+            .iter()
+            .map(|w| w.to_string())
+            .collect(),
+        nothing_passed: false,
+    })
 }

@@ -15,11 +15,11 @@ use crate::physics::shade::{
     obstacle_sky_view_loss, shaded_fractions_prepared, sky_view_ratio, HorizonProfile,
     PreparedModule, PreparedObstacle, SunDirection,
 };
-use crate::plan::HorizonRef;
 use crate::physics::wiring::{
     array_curve, cable_resistance_ohm, string_curve, substring_curve, substring_knees_a,
     ArrayCurve, CurrentGrid, SubstringCurve,
 };
+use crate::plan::HorizonRef;
 use crate::plan::Plan;
 use crate::simulate::Conditions;
 
@@ -557,6 +557,29 @@ pub fn layout_curves_at(
             })
             .collect(),
     )
+}
+
+/// Per module and month (January first): direct light (beam and circumsolar, after incidence
+/// losses and soiling) reaching the module, and the part of it that shade blocks, Wh/m².
+pub fn direct_light_lost(
+    plan: &Plan,
+    cond: &Conditions,
+    curves: &[Option<IntervalCurves>],
+) -> Vec<[(f64, f64); 12]> {
+    let mut out = vec![[(0.0, 0.0); 12]; plan.modules.len()];
+    for (k, info) in cond.intervals.iter().enumerate() {
+        let Some(ic) = &curves[k] else { continue };
+        let m = (info.month - 1) as usize;
+        for (mi, module) in plan.modules.iter().enumerate() {
+            let parts = &cond.groups[module.group].effective[k];
+            let direct = (parts.beam_w_m2 + parts.circumsolar_w_m2) * info.hours;
+            let b = ic.blocked[mi].len().max(1) as f64;
+            let lost: f64 = ic.blocked[mi].iter().map(|f| f * direct / b).sum();
+            out[mi][m].0 += direct;
+            out[mi][m].1 += lost;
+        }
+    }
+    out
 }
 
 /// Every interval's distinct substring curves (the curve-solving half of phase 2).

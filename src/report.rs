@@ -13,7 +13,10 @@ use crate::phase2::Step;
 use crate::physics::sun::{self, Atmosphere, Observer};
 use crate::physics::wiring::ArrayCurve;
 use crate::tally::GroupMonthly;
-use crate::{CheckResult, CurveRequest, CurveTarget, Loaded, Outcome, RankResult, SunpathRequest};
+use crate::{
+    CheckResult, CurveRequest, CurveTarget, Loaded, Outcome, RankResult, ShadeResult,
+    SunpathRequest,
+};
 
 const MONTHS: [&str; 12] = [
     "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec",
@@ -752,4 +755,58 @@ fn print_array(out: &mut String, label: &str, curve: &ArrayCurve, points: usize,
         let _ = writeln!(out, "  {:>9} {:>9} {:>10}", "V", "A", "W");
     }
     print_points(out, label, &pts, csv);
+}
+
+/// `wirerank shade`: the share of direct light lost to shade per module and month.
+pub fn shade(r: &ShadeResult) -> String {
+    let mut out = String::new();
+    site_header(&mut out, &r.loaded);
+    let g = &r.loaded.plan.geometry;
+    let _ = writeln!(
+        out,
+        "Shade: {} near obstacles{}, {} horizon profiles, {} schedule rules",
+        g.obstacles.len(),
+        if g.obstacles.is_empty() {
+            String::new()
+        } else {
+            format!(
+                " ({})",
+                g.obstacles
+                    .iter()
+                    .map(|(n, _)| n.as_str())
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            )
+        },
+        usize::from(g.site_horizon.is_some())
+            + g.group_horizon.iter().flatten().count()
+            + g.module_horizon.iter().flatten().count(),
+        r.loaded.plan.shade.len()
+    );
+    let _ = writeln!(out);
+    let _ = writeln!(
+        out,
+        "Share of the direct (beam and circumsolar) light lost to shade, % (diffuse losses are in the ranking's shading step)"
+    );
+    let _ = write!(out, "{:<12}", "module");
+    for m in MONTHS {
+        let _ = write!(out, "{m:>6}");
+    }
+    let _ = writeln!(out, "{:>7}", "Year");
+    for (module, months) in r.loaded.plan.modules.iter().zip(&r.direct) {
+        let _ = write!(out, "{:<12}", module.id);
+        let (mut d, mut l) = (0.0, 0.0);
+        for (m, (direct, lost)) in months.iter().enumerate() {
+            d += direct;
+            l += lost;
+            if r.months_present[m] && *direct > 0.0 {
+                let _ = write!(out, "{:>6.1}", lost / direct * 100.0);
+            } else {
+                let _ = write!(out, "{:>6}", "-");
+            }
+        }
+        let year = if d > 0.0 { l / d * 100.0 } else { 0.0 };
+        let _ = writeln!(out, "{year:>7.1}");
+    }
+    out
 }

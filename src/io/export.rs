@@ -586,9 +586,13 @@ fn same_file(a: &Path, b: &Path) -> bool {
 
 /// Refuses any output (or temporary) name that is the run's plan or weather file.
 fn refuse_inputs(r: &RankResult, dir: &Path, names: &[String]) -> Result<(), Error> {
+    refuse_loaded_inputs(&r.loaded, dir, names)
+}
+
+fn refuse_loaded_inputs(loaded: &crate::Loaded, dir: &Path, names: &[String]) -> Result<(), Error> {
     let inputs = [
-        (r.loaded.plan.source.as_path(), "plan"),
-        (r.loaded.plan.weather_path.as_path(), "weather"),
+        (loaded.plan.source.as_path(), "plan"),
+        (loaded.plan.weather_path.as_path(), "weather"),
     ];
     for name in names {
         let path = dir.join(name);
@@ -743,4 +747,58 @@ mod tests {
         assert_eq!(fs::read(base.join("x.csv")).expect("reads"), b"1,2\n");
         assert!(!base.join("x.csv.tmp").exists());
     }
+}
+
+/// File name of the shade report's CSV.
+pub const SHADE_CSV: &str = "shade.csv";
+/// Columns of shade.csv.
+pub const SHADE_COLUMNS: [&str; 5] = [
+    "module",
+    "month",
+    "direct_kwh_m2",
+    "direct_lost_kwh_m2",
+    "direct_lost_pct",
+];
+
+/// Writes `shade.csv` (one row per module and month) into `dir`, atomically.
+///
+/// # Errors
+/// [`Error::Output`] naming the path; nothing is left behind.
+pub fn write_shade_csv(r: &crate::ShadeResult, dir: &Path) -> Result<PathBuf, Error> {
+    let mut module = Vec::new();
+    let mut month = Vec::new();
+    let mut direct = Vec::new();
+    let mut lost = Vec::new();
+    let mut pct: Vec<Option<f64>> = Vec::new();
+    for (m, months) in r.loaded.plan.modules.iter().zip(&r.direct) {
+        for (k, (d, l)) in months.iter().enumerate() {
+            if !r.months_present[k] {
+                continue;
+            }
+            module.push(m.id.clone());
+            month.push((k + 1) as i32);
+            direct.push(d / 1000.0);
+            lost.push(l / 1000.0);
+            pct.push((*d > 0.0).then(|| l / d * 100.0));
+        }
+    }
+    let path = dir.join(SHADE_CSV);
+    let df = DataFrame::new_infer_height(vec![
+        Column::new(SHADE_COLUMNS[0].into(), module),
+        Column::new(SHADE_COLUMNS[1].into(), month),
+        Column::new(SHADE_COLUMNS[2].into(), direct),
+        Column::new(SHADE_COLUMNS[3].into(), lost),
+        Column::new(SHADE_COLUMNS[4].into(), pct),
+    ])
+    .and_then(csv_bytes)
+    .map_err(|e| output_error(&path, io::Error::other(e.to_string())))?;
+    refuse_loaded_inputs(
+        &r.loaded,
+        dir,
+        &[SHADE_CSV.to_string(), temp_name(SHADE_CSV)],
+    )?;
+    let mut stage = Staging::create(dir)?;
+    stage.write(SHADE_CSV, &df)?;
+    stage.commit()?;
+    Ok(path)
 }

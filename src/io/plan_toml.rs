@@ -1312,7 +1312,11 @@ fn horizon(ctx: &Ctx, v: &S<Vec<Vec<f64>>>, key: &str) -> Result<HorizonProfile,
             return Err(ctx.err(
                 v.span(),
                 key,
-                format!("{key} point {} has {} numbers; write [azimuth_deg, elevation_deg]", n + 1, p.len()),
+                format!(
+                    "{key} point {} has {} numbers; write [azimuth_deg, elevation_deg]",
+                    n + 1,
+                    p.len()
+                ),
             ));
         }
         pts.push((p[0], p[1]));
@@ -1347,18 +1351,34 @@ fn validate_geometry(
         let Some(centre) = &r.centre_m else {
             for (v, name) in [(&r.rows, "rows"), (&r.columns, "columns")] {
                 if let Some(v) = v {
-                    return Err(ctx.err(v.span(), &k(name), format!("{} needs {} (where the group sits)", k(name), k("centre_m"))));
+                    return Err(ctx.err(
+                        v.span(),
+                        &k(name),
+                        format!("{} needs {} (where the group sits)", k(name), k("centre_m")),
+                    ));
                 }
             }
             continue;
         };
         let c = centre.get_ref();
         if c.len() != 3 || c.iter().any(|x| !x.is_finite()) {
-            return Err(ctx.err(centre.span(), &k("centre_m"), format!("{} must be [east_m, north_m, up_m], three finite numbers", k("centre_m"))));
+            return Err(ctx.err(
+                centre.span(),
+                &k("centre_m"),
+                format!(
+                    "{} must be [east_m, north_m, up_m], three finite numbers",
+                    k("centre_m")
+                ),
+            ));
         }
         let group = &groups[gi];
         let t = &types[group.module_type];
-        let rows = r.rows.as_ref().map(|v| ctx.int_range(v, &k("rows"), 1, 200)).transpose()?.unwrap_or(1) as u32;
+        let rows = r
+            .rows
+            .as_ref()
+            .map(|v| ctx.int_range(v, &k("rows"), 1, 200))
+            .transpose()?
+            .unwrap_or(1) as u32;
         let columns = r
             .columns
             .as_ref()
@@ -1366,8 +1386,22 @@ fn validate_geometry(
             .transpose()?
             .unwrap_or(group.count as i64) as u32;
         if (rows * columns) as usize != group.count {
-            let span = r.rows.as_ref().or(r.columns.as_ref()).map_or(centre.span(), |v| v.span());
-            return Err(ctx.err(span, &k("rows"), format!("{} × {} = {} places, but the group has count = {}", k("rows"), k("columns"), rows * columns, group.count)));
+            let span = r
+                .rows
+                .as_ref()
+                .or(r.columns.as_ref())
+                .map_or(centre.span(), |v| v.span());
+            return Err(ctx.err(
+                span,
+                &k("rows"),
+                format!(
+                    "{} × {} = {} places, but the group has count = {}",
+                    k("rows"),
+                    k("columns"),
+                    rows * columns,
+                    group.count
+                ),
+            ));
         }
         let (length_m, width_m) = if r.landscape.unwrap_or(false) {
             (t.width_m.min(t.length_m), t.width_m.max(t.length_m))
@@ -1387,8 +1421,15 @@ fn validate_geometry(
         };
         let row_gap = ctx.opt_range(&r.row_gap_m, &k("row_gap_m"), 0.0, 50.0, 0.02)?;
         let column_gap = ctx.opt_range(&r.column_gap_m, &k("column_gap_m"), 0.0, 50.0, 0.02)?;
-        let grid = crate::physics::shade::layout_grid(&template, rows, columns, row_gap, column_gap)
-            .map_err(|e| ctx.err(centre.span(), &format!("group.{id}"), format!("group.{id}: {e}")))?;
+        let grid =
+            crate::physics::shade::layout_grid(&template, rows, columns, row_gap, column_gap)
+                .map_err(|e| {
+                    ctx.err(
+                        centre.span(),
+                        &format!("group.{id}"),
+                        format!("group.{id}: {e}"),
+                    )
+                })?;
         let mut n = 0;
         for (mi, m) in modules.iter().enumerate() {
             if m.group == gi {
@@ -1401,9 +1442,19 @@ fn validate_geometry(
     for (k, mh) in raw.module_horizon.iter().enumerate() {
         let r = mh.get_ref();
         let key = format!("module_horizon[{}]", k + 1);
-        let m = modules.iter().position(|m| &m.id == r.module.get_ref()).ok_or_else(|| {
-            ctx.err(r.module.span(), &format!("{key}.module"), format!("{key}.module = {:?} names no module (ids are <group>-<n>)", r.module.get_ref()))
-        })?;
+        let m = modules
+            .iter()
+            .position(|m| &m.id == r.module.get_ref())
+            .ok_or_else(|| {
+                ctx.err(
+                    r.module.span(),
+                    &format!("{key}.module"),
+                    format!(
+                        "{key}.module = {:?} names no module (ids are <group>-<n>)",
+                        r.module.get_ref()
+                    ),
+                )
+            })?;
         module_horizon[m] = Some(horizon(ctx, &r.points, &format!("{key}.points"))?);
     }
     let mut obstacles = Vec::new();
@@ -1413,8 +1464,16 @@ fn validate_geometry(
         let need = |v: &Option<S<f64>>, name: &str| -> Result<f64, PlanError> {
             match v {
                 Some(v) if v.get_ref().is_finite() => Ok(*v.get_ref()),
-                Some(v) => Err(ctx.err(v.span(), &key(name), format!("{} = {} is not a finite number", key(name), v.get_ref()))),
-                None => Err(ctx.err(o.span(), &key(name), format!("{} is missing for kind = {:?}", key(name), r.kind.get_ref()))),
+                Some(v) => Err(ctx.err(
+                    v.span(),
+                    &key(name),
+                    format!("{} = {} is not a finite number", key(name), v.get_ref()),
+                )),
+                None => Err(ctx.err(
+                    o.span(),
+                    &key(name),
+                    format!("{} is missing for kind = {:?}", key(name), r.kind.get_ref()),
+                )),
             }
         };
         let obstacle = match r.kind.get_ref().as_str() {
@@ -1426,26 +1485,59 @@ fn validate_geometry(
             },
             "box" => {
                 let Some(fp) = &r.footprint_m else {
-                    return Err(ctx.err(o.span(), &key("footprint_m"), format!("{} is missing for kind = \"box\" (four [east_m, north_m] corners)", key("footprint_m"))));
+                    return Err(ctx.err(
+                        o.span(),
+                        &key("footprint_m"),
+                        format!(
+                            "{} is missing for kind = \"box\" (four [east_m, north_m] corners)",
+                            key("footprint_m")
+                        ),
+                    ));
                 };
                 let pts = fp.get_ref();
                 if pts.len() != 4 || pts.iter().any(|p| p.len() != 2) {
-                    return Err(ctx.err(fp.span(), &key("footprint_m"), format!("{} must be four [east_m, north_m] corners", key("footprint_m"))));
+                    return Err(ctx.err(
+                        fp.span(),
+                        &key("footprint_m"),
+                        format!(
+                            "{} must be four [east_m, north_m] corners",
+                            key("footprint_m")
+                        ),
+                    ));
                 }
                 Obstacle::Box {
-                    footprint: [(pts[0][0], pts[0][1]), (pts[1][0], pts[1][1]), (pts[2][0], pts[2][1]), (pts[3][0], pts[3][1])],
+                    footprint: [
+                        (pts[0][0], pts[0][1]),
+                        (pts[1][0], pts[1][1]),
+                        (pts[2][0], pts[2][1]),
+                        (pts[3][0], pts[3][1]),
+                    ],
                     base_m: r.base_m.as_ref().map_or(0.0, |v| *v.get_ref()),
                     height_m: *r.height_m.get_ref(),
                 }
             }
             other => {
-                return Err(ctx.err(r.kind.span(), &key("kind"), format!("{} = {other:?} is not known; use \"pole\" or \"box\"", key("kind"))));
+                return Err(ctx.err(
+                    r.kind.span(),
+                    &key("kind"),
+                    format!(
+                        "{} = {other:?} is not known; use \"pole\" or \"box\"",
+                        key("kind")
+                    ),
+                ));
             }
         };
-        obstacle
-            .validate()
-            .map_err(|e| ctx.err(o.span(), &format!("obstacle[{}]", k + 1), format!("obstacle[{}]: {e}", k + 1)))?;
-        let name = r.name.clone().unwrap_or_else(|| format!("{} {}", obstacle.kind(), k + 1));
+        obstacle.validate().map_err(|e| {
+            ctx.err(
+                o.span(),
+                &format!("obstacle[{}]", k + 1),
+                format!("obstacle[{}]: {e}", k + 1),
+            )
+        })?;
+        let name = r
+            .name
+            .clone()
+            .unwrap_or_else(|| format!("{} {}", obstacle.kind(), k + 1));
         obstacles.push((name, obstacle));
     }
     if !obstacles.is_empty() {
@@ -1456,7 +1548,11 @@ fn validate_geometry(
                 hint: "obstacles need to know where the modules are: give centre_m (and rows/columns) for the groups they may shade".into(),
             });
         }
-        let placed: Vec<(usize, ModulePlacement)> = placements.iter().enumerate().filter_map(|(i, p)| p.map(|p| (i, p))).collect();
+        let placed: Vec<(usize, ModulePlacement)> = placements
+            .iter()
+            .enumerate()
+            .filter_map(|(i, p)| p.map(|p| (i, p)))
+            .collect();
         let just: Vec<ModulePlacement> = placed.iter().map(|(_, p)| *p).collect();
         let obs: Vec<Obstacle> = obstacles.iter().map(|(_, o)| *o).collect();
         crate::physics::shade::validate_scene(&just, &obs).map_err(|e| {
@@ -1485,7 +1581,10 @@ fn rename_scene_error(
 ) -> String {
     let mut s = e.to_string();
     for (i, (mi, _)) in placed.iter().enumerate().rev() {
-        s = s.replace(&format!("modules[{i}]"), &format!("module {}", modules[*mi].id));
+        s = s.replace(
+            &format!("modules[{i}]"),
+            &format!("module {}", modules[*mi].id),
+        );
     }
     for (j, (name, _)) in obstacles.iter().enumerate().rev() {
         s = s.replace(&format!("obstacles[{j}]"), &format!("obstacle {name:?}"));

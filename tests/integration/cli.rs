@@ -253,3 +253,32 @@ fn check_lists_every_layout_and_exits_1_when_none_passes() {
     ]);
     assert_eq!(out.status.code(), Some(1), "{}", text(&out.stderr));
 }
+
+#[test]
+fn shade_report_lists_every_module_and_writes_shade_csv() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let out = wirerank(&[
+        "shade",
+        "demo",
+        "--out",
+        dir.path().to_str().expect("utf-8"),
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let s = text(&out.stdout);
+    for id in ["roof-1", "roof-6", "shed-1", "shed-2"] {
+        assert!(s.contains(id), "{id} in {s}");
+    }
+    let csv = std::fs::read_to_string(dir.path().join("shade.csv")).expect("shade.csv");
+    assert!(csv.starts_with("module,month,direct_kwh_m2,direct_lost_kwh_m2,direct_lost_pct\n"));
+    // 8 modules × 12 months + the header.
+    assert_eq!(csv.lines().count(), 8 * 12 + 1);
+    for line in csv.lines().skip(1) {
+        let pct: f64 = line
+            .rsplit(',')
+            .next()
+            .and_then(|x| x.parse().ok())
+            .unwrap_or(0.0);
+        // Source: definition — a share of the direct light lies in 0..=100 %.
+        assert!((0.0..=100.0).contains(&pct), "{line}");
+    }
+}
