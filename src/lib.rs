@@ -25,6 +25,7 @@ pub mod plan;
 pub mod rank;
 pub mod report;
 pub mod sample_weather;
+pub mod shade_view;
 pub mod simulate;
 pub mod tally;
 pub mod weather;
@@ -490,6 +491,8 @@ pub struct ShadeResult {
     /// Per module: per month (direct Wh/m², lost Wh/m²).
     pub direct: Vec<[(f64, f64); 12]>,
     pub months_present: [bool; 12],
+    /// The sky seen from each placed group (sun-path pictures).
+    pub views: Vec<shade_view::SunPathView>,
 }
 
 /// Runs phase 1 and the shading of phase 2 for every module.
@@ -502,10 +505,23 @@ pub fn shade_losses(source: &PlanSource) -> Result<ShadeResult, Error> {
     let curves = phase2::all_interval_curves(&loaded.plan, &cond, true);
     let direct = phase2::direct_light_lost(&loaded.plan, &cond, &curves);
     let months_present = tally::months_present(&cond);
+    let year = loaded.weather.local_start_s.first().map_or(2025, |&s| {
+        chrono::DateTime::from_timestamp(s, 0).map_or(2025, |d| {
+            use chrono::Datelike;
+            d.year()
+        })
+    });
+    let views = shade_view::sun_path_views(
+        &loaded.plan,
+        &loaded.site,
+        year,
+        loaded.plan.model.delta_t_s,
+    );
     Ok(ShadeResult {
         loaded,
         direct,
         months_present,
+        views,
     })
 }
 
@@ -513,8 +529,10 @@ fn shade(source: &PlanSource, out: Option<&Path>) -> Result<Outcome, Error> {
     let r = shade_losses(source)?;
     let mut stdout = report::shade(&r);
     if let Some(dir) = out {
-        let path = io::export::write_shade_csv(&r, dir)?;
-        stdout.push_str(&format!("\nWrote {}\n", path.display()));
+        for path in io::export::write_shade_csv(&r, dir)? {
+            stdout.push_str(&format!("\nWrote {}", path.display()));
+        }
+        stdout.push('\n');
     }
     Ok(Outcome {
         stdout,

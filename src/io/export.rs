@@ -659,7 +659,12 @@ impl<'a> Staging<'a> {
     }
 
     fn png(&mut self, chart: &Chart) -> Result<(), Error> {
-        let name = format!("{}.png", chart.stem());
+        self.png_named(chart.stem(), chart)
+    }
+
+    /// As [`Self::png`], under a chosen file stem.
+    fn png_named(&mut self, stem: &str, chart: &Chart) -> Result<(), Error> {
+        let name = format!("{stem}.png");
         let fin = self.dir.join(&name);
         let tmp = self.dir.join(temp_name(&name));
         self.pending.push((tmp.clone(), fin.clone()));
@@ -760,11 +765,12 @@ pub const SHADE_COLUMNS: [&str; 5] = [
     "direct_lost_pct",
 ];
 
-/// Writes `shade.csv` (one row per module and month) into `dir`, atomically.
+/// Writes `shade.csv` (one row per module and month) and the sun-path pictures into `dir`,
+/// atomically.
 ///
 /// # Errors
 /// [`Error::Output`] naming the path; nothing is left behind.
-pub fn write_shade_csv(r: &crate::ShadeResult, dir: &Path) -> Result<PathBuf, Error> {
+pub fn write_shade_csv(r: &crate::ShadeResult, dir: &Path) -> Result<Vec<PathBuf>, Error> {
     let mut module = Vec::new();
     let mut month = Vec::new();
     let mut direct = Vec::new();
@@ -792,13 +798,42 @@ pub fn write_shade_csv(r: &crate::ShadeResult, dir: &Path) -> Result<PathBuf, Er
     ])
     .and_then(csv_bytes)
     .map_err(|e| output_error(&path, io::Error::other(e.to_string())))?;
-    refuse_loaded_inputs(
-        &r.loaded,
-        dir,
-        &[SHADE_CSV.to_string(), temp_name(SHADE_CSV)],
-    )?;
+    // One sun-path picture per placed group: sun_path_<group>.png / .svg.
+    let charts: Vec<(String, plots::Chart)> = r
+        .views
+        .iter()
+        .map(|v| {
+            (
+                format!("sun_path_{}", v.group),
+                plots::Chart::SunPath(Box::new(v.clone())),
+            )
+        })
+        .collect();
+    let mut names = vec![SHADE_CSV.to_string()];
+    let mut svgs = Vec::new();
+    for (stem, chart) in &charts {
+        let name = format!("{stem}.svg");
+        let svg = chart
+            .to_svg()
+            .map_err(|m| output_error(&dir.join(&name), io::Error::other(m)))?;
+        names.push(name.clone());
+        names.push(format!("{stem}.png"));
+        svgs.push((name, svg));
+    }
+    let mut every: Vec<String> = Vec::new();
+    for n in &names {
+        every.push(n.clone());
+        every.push(temp_name(n));
+    }
+    refuse_loaded_inputs(&r.loaded, dir, &every)?;
     let mut stage = Staging::create(dir)?;
     stage.write(SHADE_CSV, &df)?;
-    stage.commit()?;
-    Ok(path)
+    for (name, svg) in &svgs {
+        stage.write(name, svg.as_bytes())?;
+    }
+    for (stem, chart) in &charts {
+        stage.png_named(stem, chart)?;
+    }
+    let _ = path;
+    stage.commit()
 }

@@ -105,6 +105,8 @@ pub enum Chart {
     /// Boxed: its month × hour grid is far larger than the other charts' data.
     GainMap(Box<GainMap>),
     Losses(Losses),
+    /// Sun paths, horizon and obstacles seen from one group (the shade report).
+    SunPath(Box<crate::shade_view::SunPathView>),
 }
 
 /// The charts a run can draw, and a line for each one it cannot (for provenance.txt).
@@ -121,6 +123,7 @@ impl Chart {
             Chart::MonthlyEnergy(_) => "monthly_energy",
             Chart::GainMap(_) => "gain_map",
             Chart::Losses(_) => "losses",
+            Chart::SunPath(_) => "sun_path",
         }
     }
 
@@ -157,6 +160,7 @@ impl Chart {
             Chart::MonthlyEnergy(c) => draw_monthly(root, c),
             Chart::GainMap(c) => draw_gain_map(root, c),
             Chart::Losses(c) => draw_losses(root, c),
+            Chart::SunPath(v) => draw_sun_path(root, v),
         }
         .map_err(|e| e.to_string())
     }
@@ -711,4 +715,102 @@ mod tests {
         assert_eq!(shorten("abcdefghij", 5), "abcd…");
         assert_eq!(shorten("abcdefghij", 5).chars().count(), 5);
     }
+}
+
+/// The sun's paths over the year seen from a group, with the horizon and the obstacles.
+fn draw_sun_path<DB: DrawingBackend>(
+    root: &DrawingArea<DB, Shift>,
+    v: &crate::shade_view::SunPathView,
+) -> DrawResult<DB> {
+    let top = v
+        .days
+        .iter()
+        .flat_map(|(_, p)| p.iter().map(|x| x.1))
+        .fold(10.0_f64, f64::max)
+        .ceil()
+        + 5.0;
+    let mut chart = ChartBuilder::on(root)
+        .caption(
+            format!(
+                "Sun paths over the horizon and obstacles, seen from group {}",
+                v.group
+            ),
+            bold(22.0),
+        )
+        .margin(16)
+        .x_label_area_size(48)
+        .y_label_area_size(56)
+        .build_cartesian_2d(0.0..360.0, 0.0..top)?;
+    chart
+        .configure_mesh()
+        .x_desc("azimuth, degrees clockwise from north (90 E, 180 S, 270 W)")
+        .y_desc("elevation above the horizontal, degrees")
+        .x_labels(13)
+        .label_style(font(14.0))
+        .axis_desc_style(font(15.0))
+        .light_line_style(RGBColor(0xee, 0xee, 0xee))
+        .draw()?;
+    // Horizon: the ground and hills below the line, mid grey.
+    if !v.horizon.is_empty() {
+        let mut area: Vec<(f64, f64)> = vec![(0.0, 0.0)];
+        area.extend(v.horizon.iter().map(|&(a, e)| (a, e.max(0.0))));
+        area.push((360.0, 0.0));
+        chart
+            .draw_series(std::iter::once(Polygon::new(
+                area,
+                RGBColor(0xa8, 0xa8, 0xa8).filled(),
+            )))?
+            .label("horizon")
+            .legend(|(x, y)| {
+                Rectangle::new(
+                    [(x, y - 6), (x + 14, y + 6)],
+                    RGBColor(0xa8, 0xa8, 0xa8).filled(),
+                )
+            });
+    }
+    // Obstacles: dark, outlined.
+    for (name, poly) in &v.obstacles {
+        let pts: Vec<(f64, f64)> = poly.iter().map(|&(a, e)| (a, e.max(0.0))).collect();
+        if pts.len() < 3 {
+            continue;
+        }
+        chart.draw_series(std::iter::once(Polygon::new(
+            pts.clone(),
+            RGBColor(0x3a, 0x3a, 0x3a).filled(),
+        )))?;
+        let (ax, ay) = pts.iter().fold((0.0, f64::NEG_INFINITY), |acc, &(a, e)| {
+            if e > acc.1 {
+                (a, e)
+            } else {
+                acc
+            }
+        });
+        chart.draw_series(std::iter::once(Text::new(
+            name.clone(),
+            (ax, (ay + 1.0).min(top - 2.0)),
+            font(13.0),
+        )))?;
+    }
+    // Sun paths: a light-to-dark blue ramp from December to June, readable in greyscale.
+    let n = v.days.len().max(2) as f64;
+    for (k, (label, pts)) in v.days.iter().enumerate() {
+        let t = k as f64 / (n - 1.0);
+        let c = RGBColor(
+            (0xe0 as f64 * (1.0 - t) + 0x1d as f64 * t) as u8,
+            (0x9a as f64 * (1.0 - t) + 0x3f as f64 * t) as u8,
+            (0x2a as f64 * (1.0 - t) + 0x6e as f64 * t) as u8,
+        );
+        chart
+            .draw_series(LineSeries::new(pts.iter().copied(), c.stroke_width(2)))?
+            .label(label.clone())
+            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 16, y)], c.stroke_width(2)));
+    }
+    chart
+        .configure_series_labels()
+        .position(SeriesLabelPosition::UpperRight)
+        .label_font(font(13.0))
+        .background_style(WHITE.mix(0.85))
+        .border_style(BLACK)
+        .draw()?;
+    Ok(())
 }
