@@ -878,7 +878,8 @@ pub fn run_series(
     (flows, soc)
 }
 
-/// Unmet load over a series (second pass) for a capacity of `k` steps; k = 0 is no battery.
+/// Unmet load over a series (second pass of `run_series`) at a capacity; 0 Ah means no
+/// battery (each interval's load beyond its harvest goes unmet).
 fn unmet_for(
     template: &BatteryParams,
     load: &LoadProfile,
