@@ -1,4 +1,5 @@
 //! Pure physics: no file I/O, no polars, no clap, no plotters, no serde.
+pub mod battery;
 pub mod controller;
 pub mod diode;
 pub mod shade;
