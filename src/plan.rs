@@ -7,6 +7,7 @@
 
 use std::path::PathBuf;
 
+use crate::physics::battery::{BatterySpec, LoadProfile};
 use crate::physics::controller::ControllerModel;
 use crate::physics::diode::{Datasheet, ReferenceParams};
 use crate::physics::shade::{HorizonProfile, ModulePlacement, Obstacle};
@@ -124,12 +125,25 @@ pub struct ControllerInput {
     pub main_run: CableRun,
 }
 
-/// The battery as the controller sees it (a fuller model comes with the load simulation).
+/// The battery as the controller sees it.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Battery {
     pub nominal_v: f64,
-    /// Voltage the controller charges at, V.
+    /// Voltage the controller charges at when no battery model is given, V.
     pub charge_v: f64,
+    /// State of charge, stages and acceptance (when the plan gives `capacity_ah`): the
+    /// charging voltage then follows the battery (MODEL.md §11).
+    pub model: Option<BatterySpec>,
+}
+
+/// The owner's daily use and what the sizing helper aims for.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Consumption {
+    pub load: LoadProfile,
+    /// Battery sizes are searched in steps of this, Ah.
+    pub battery_step_ah: f64,
+    /// Unmet load the sizing helper accepts per year, Wh.
+    pub unmet_target_wh: f64,
 }
 
 /// A cable: one-way length, cross-section and conductor.
@@ -219,6 +233,8 @@ pub struct Plan {
     pub modules: Vec<Module>,
     pub controllers: Vec<ControllerInput>,
     pub battery: Battery,
+    /// The load, when the plan gives one (`[load]`).
+    pub consumption: Option<Consumption>,
     pub cables: Cables,
     pub shade: Vec<ShadeRule>,
     /// Horizon profiles, obstacles and module placements.
