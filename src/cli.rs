@@ -122,6 +122,8 @@ pub enum ByArg {
     Winter,
     /// Energy while the sun is low (below the plan's low-sun elevation).
     LowSun,
+    /// Least unmet load over the year (a plan with [load] and a battery model).
+    Unmet,
 }
 
 impl From<ByArg> for Criterion {
@@ -131,6 +133,7 @@ impl From<ByArg> for Criterion {
             ByArg::WorstMonth => Criterion::WorstMonth,
             ByArg::Winter => Criterion::Winter,
             ByArg::LowSun => Criterion::LowSun,
+            ByArg::Unmet => Criterion::Unmet,
         }
     }
 }

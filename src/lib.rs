@@ -215,6 +215,76 @@ pub struct RankResult {
     pub listed: usize,
     /// Enumerated input choices skipped for breaking a hard limit on their own, by rule.
     pub pruned: Vec<(&'static str, usize)>,
+    /// With a load and a battery: the smallest battery for the best layout.
+    pub sizing: Option<Sizing>,
+}
+
+/// The sizing helper's answer for the best layout.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Sizing {
+    pub layout: String,
+    /// Unmet load the search aimed at, kWh per year.
+    pub target_unmet_kwh: f64,
+    pub step_ah: f64,
+    /// `Some(0.0)`: no battery needed; `None`: not reached up to the search's limit.
+    pub battery_ah: Option<f64>,
+    pub limit_ah: f64,
+    /// The plan's battery, for comparison.
+    pub planned_ah: f64,
+}
+
+/// The smallest battery (in the plan's steps) that brings the best layout's unmet load to the
+/// plan's target, found by simulating the year (MODEL.md §11), with the harvest the layout
+/// offers at the plan's battery.
+fn size_battery(
+    plan: &Plan,
+    cond: &simulate::Conditions,
+    best: &layouts::Layout,
+) -> Option<Sizing> {
+    let consumption = plan.consumption.as_ref()?;
+    let spec = plan.battery.model.as_ref()?;
+    let curves = phase2::all_interval_curves(plan, cond, true);
+    let e = phase2::simulate_layouts(
+        plan,
+        cond,
+        &curves,
+        &[best],
+        phase2::RunOptions {
+            parallel: false,
+            hourly: true,
+            on_layout_done: None,
+        },
+    )
+    .pop()?;
+    let harvest: Vec<f64> = e
+        .hourly
+        .iter()
+        .zip(&cond.intervals)
+        .map(|(h, i)| (h.delivered_w as f64 * i.hours).max(0.0))
+        .collect();
+    let month: Vec<u32> = cond.intervals.iter().map(|i| i.month).collect();
+    let hour: Vec<u32> = cond.intervals.iter().map(|i| i.hour).collect();
+    let weekend: Vec<bool> = cond.intervals.iter().map(|i| i.weekend).collect();
+    let hours = cond.intervals.first().map_or(1.0, |i| i.hours);
+    let series = physics::battery::Series::new(&harvest, &month, &hour, &weekend, hours).ok()?;
+    let limit_ah = 100.0 * spec.params().capacity_ah.max(consumption.battery_step_ah);
+    let found = physics::battery::smallest_battery_ah(
+        spec.params(),
+        &consumption.load,
+        &series,
+        consumption.battery_step_ah,
+        consumption.unmet_target_wh,
+        limit_ah,
+    )
+    .ok()?;
+    Some(Sizing {
+        layout: best.display_name(),
+        target_unmet_kwh: consumption.unmet_target_wh / 1000.0,
+        step_ah: consumption.battery_step_ah,
+        battery_ah: found,
+        limit_ah,
+        planned_ah: spec.params().capacity_ah,
+    })
 }
 
 /// The temperatures the limit checks use: the weather's extremes widened by the plan's design
@@ -290,6 +360,12 @@ pub fn simulate_and_rank(
 ) -> Result<RankResult, Error> {
     let loaded = load(source)?;
     let plan = &loaded.plan;
+    if criterion == rank::Criterion::Unmet && plan.consumption.is_none() {
+        return Err(Error::Usage(format!(
+            "--by unmet needs a [load] table and a battery model (battery.capacity_ah) in {}",
+            plan.source.display()
+        )));
+    }
     let temps = design_temperatures(plan, &loaded.weather);
     let candidates = candidate_layouts(plan, &temps)?;
     let mut outcomes: Vec<rank::LayoutOutcome> = candidates
@@ -320,6 +396,10 @@ pub fn simulate_and_rank(
     let months_present = tally::months_present(&conditions);
     let winter_months = rank::winter_months(&horizontal_kwh_m2, &months_present);
     rank::rank(&mut outcomes, criterion, &months_present, &winter_months);
+    let sizing = outcomes
+        .iter()
+        .find(|o| o.rank == Some(1))
+        .and_then(|o| size_battery(plan, &conditions, &o.layout));
     Ok(RankResult {
         loaded,
         criterion,
@@ -331,6 +411,7 @@ pub fn simulate_and_rank(
         outcomes,
         listed: candidates.listed,
         pruned: candidates.pruned,
+        sizing,
     })
 }
 

@@ -9,6 +9,7 @@
 use rayon::prelude::*;
 
 use crate::layouts::Layout;
+use crate::physics::battery::{BatterySpec, BatteryState, LoadProfile};
 use crate::physics::controller::ControllerPowers;
 use crate::physics::diode::OperatingParams;
 use crate::physics::shade::{
@@ -39,10 +40,15 @@ pub enum Step {
     InputLimit,
     Clipping,
     Conversion,
+    /// Harvest the battery could not take (full) beyond what the load used.
+    Curtailed,
 }
 
+/// Number of loss steps.
+pub const STEPS: usize = 11;
+
 impl Step {
-    pub const ALL: [Step; 10] = [
+    pub const ALL: [Step; STEPS] = [
         Step::Incidence,
         Step::Soiling,
         Step::Shading,
@@ -53,6 +59,7 @@ impl Step {
         Step::InputLimit,
         Step::Clipping,
         Step::Conversion,
+        Step::Curtailed,
     ];
 
     /// Key used in JSON and CSV.
@@ -68,6 +75,7 @@ impl Step {
             Step::InputLimit => "input_limit",
             Step::Clipping => "clipping",
             Step::Conversion => "conversion",
+            Step::Curtailed => "curtailed",
         }
     }
 }
@@ -79,9 +87,22 @@ pub struct LayoutEnergy {
     pub potential_wh: [f64; 12],
     /// Energy lost at each step (index = `Step::ALL` order). A negative value is a gain
     /// (cells colder than 25 °C).
-    pub losses_wh: [[f64; 12]; 10],
-    /// Delivered to the battery.
+    pub losses_wh: [[f64; 12]; STEPS],
+    /// Delivered by the controllers to the battery and the load (without a battery model:
+    /// to the battery at its fixed charging voltage).
     pub delivered_wh: [f64; 12],
+    /// With a load: the load served (from harvest and battery), Wh.
+    pub load_served_wh: [f64; 12],
+    /// With a load: the part of it served straight from the harvest, Wh.
+    pub load_from_harvest_wh: [f64; 12],
+    /// With a load: load the battery could not serve (at its floor), Wh.
+    pub unmet_wh: [f64; 12],
+    /// With a load: days with some unmet load.
+    pub unmet_days: [u32; 12],
+    /// With a battery model: the lowest state of charge reached, fraction (NaN without).
+    pub min_soc_frac: [f64; 12],
+    /// With a battery model: state of charge at the end of each local day (for the plot).
+    pub daily_soc_frac: Vec<f64>,
     /// Delivered while the sun was low (above 0°, below the plan's threshold).
     pub low_sun_wh: [f64; 12],
     /// Hours with at least one controller input awake.
@@ -378,7 +399,10 @@ fn simulate_layout(
     layout: &Layout,
     hourly: bool,
 ) -> LayoutEnergy {
-    let mut e = LayoutEnergy::default();
+    let mut e = LayoutEnergy {
+        min_soc_frac: [f64::NAN; 12],
+        ..LayoutEnergy::default()
+    };
     if hourly {
         e.hourly.reserve(cond.intervals.len());
     }
@@ -395,96 +419,170 @@ fn simulate_layout(
         .iter()
         .flat_map(|w| w.strings.iter().flatten().copied())
         .collect();
-    let battery_v = plan.battery.charge_v;
     let low_sun = plan.model.low_sun_elevation_deg;
-    for (k, info) in cond.intervals.iter().enumerate() {
-        let Some(ic) = &curves[k] else {
-            awake.iter_mut().for_each(|a| *a = false);
-            other_awake.iter_mut().for_each(|a| *a = false);
+    // With a battery model the year runs twice and the second pass is reported, so that the
+    // result does not depend on the starting state of charge (MODEL.md §11).
+    let spec = plan.battery.model.as_ref();
+    let load = plan.consumption.as_ref().map(|c| &c.load);
+    let mut state = spec.map(|b| b.initial_state());
+    let passes = if spec.is_some() { 2 } else { 1 };
+    let mut day = DayTrack::default();
+    for pass in 0..passes {
+        if pass > 0 {
+            e = LayoutEnergy {
+                min_soc_frac: [f64::NAN; 12],
+                ..LayoutEnergy::default()
+            };
             if hourly {
-                e.hourly.push(HourRow::default());
+                e.hourly.reserve(cond.intervals.len());
             }
-            continue;
-        };
-        let m = (info.month - 1) as usize;
-        let wh = info.hours;
-        // Light bookkeeping over the wired modules (STC-efficiency DC equivalents).
-        let mut sub_mpp_sum = 0.0;
-        let potential_before = e.potential_wh[m];
-        for &mi in &used {
-            let module = &plan.modules[mi];
-            let t = &plan.module_types[module.module_type];
-            let g = &cond.groups[module.group];
-            let scale = t.area_m2() * t.stc_efficiency_frac() * wh;
-            let poa = g.poa[k].total_w_m2();
-            let after_iam = g.after_iam_w_m2[k] as f64;
-            let eff = g.effective[k].total_w_m2();
-            let direct = g.effective[k].beam_w_m2 + g.effective[k].circumsolar_w_m2;
-            let b = t.bypass_diodes as f64;
-            let sky = g.effective[k].isotropic_w_m2 + g.effective[k].horizon_w_m2;
-            let shaded: f64 = ic.blocked[mi].iter().map(|f| f * direct / b).sum::<f64>()
-                + (1.0 - ic.diffuse_factor[mi]) * sky;
-            e.potential_wh[m] += poa * scale;
-            e.losses_wh[0][m] += (poa - after_iam) * scale;
-            e.losses_wh[1][m] += (after_iam - eff) * scale;
-            e.losses_wh[2][m] += shaded * scale;
-            let light_after_shade = (eff - shaded) * scale;
-            let mpp: f64 = ic.module_subs[mi]
-                .iter()
-                .map(|&s| ic.curves[s as usize].mpp_w)
-                .sum();
-            e.losses_wh[3][m] += light_after_shade - mpp * wh;
-            sub_mpp_sum += mpp;
+            day = DayTrack::default();
         }
-        let (r_lead, r_main) = cable_resistances(plan, layout, info.air_temp_c);
-        // Cables: Joule loss in the string leads and the main run at the array's best terminal
-        // point; the array maximum before cables is that best power plus this loss.
-        let mut cable_w = 0.0;
-        let mut powers = ControllerPowers::default();
-        let mut any_awake = false;
-        let sum = |a: &mut ControllerPowers, b: &ControllerPowers| {
-            a.available_w += b.available_w;
-            a.after_window_w += b.after_window_w;
-            a.after_input_limit_w += b.after_input_limit_w;
-            a.input_w += b.input_w;
-            a.output_w += b.output_w;
-        };
-        for (wi, w) in layout.inputs.iter().enumerate() {
-            let c = &plan.controllers[w.controller];
-            build_input_curves(plan, ic, w, r_lead, r_main[wi], &mut scratch);
-            let p = c.model.operate(&scratch.array, battery_v, &mut awake[wi]);
-            let alt = other_models[wi].operate(&scratch.array, battery_v, &mut other_awake[wi]);
-            e.other_tracking_wh[m] += alt.output_w * wh;
-            cable_w += joule_loss_w(&scratch, &ic.grid, p.available_v, r_lead, r_main[wi]);
-            any_awake |= p.awake;
-            sum(&mut powers, &p);
-        }
-        e.losses_wh[4][m] += (sub_mpp_sum - powers.available_w - cable_w) * wh;
-        e.losses_wh[5][m] += cable_w * wh;
-        e.losses_wh[6][m] += (powers.available_w - powers.after_window_w) * wh;
-        e.losses_wh[7][m] += (powers.after_window_w - powers.after_input_limit_w) * wh;
-        e.losses_wh[8][m] += (powers.after_input_limit_w - powers.input_w) * wh;
-        e.losses_wh[9][m] += (powers.input_w - powers.output_w) * wh;
-        e.delivered_wh[m] += powers.output_w * wh;
-        if any_awake {
-            e.awake_h[m] += wh;
-        }
-        if hourly {
-            e.hourly.push(HourRow {
-                potential_w: ((e.potential_wh[m] - potential_before) / wh) as f32,
-                available_w: powers.available_w as f32,
-                delivered_w: powers.output_w as f32,
-                clipped_w: (powers.after_input_limit_w - powers.input_w) as f32,
-                awake: any_awake,
-            });
-        }
-        if let Some(el) = info.sun_elevation_deg() {
-            if el > 0.0 && el < low_sun {
-                e.low_sun_wh[m] += powers.output_w * wh;
+        for (k, info) in cond.intervals.iter().enumerate() {
+            let battery_v = match (spec, &state) {
+                (Some(b), Some(s)) => b.charge_voltage_v(s),
+                _ => plan.battery.charge_v,
+            };
+            let m = (info.month - 1) as usize;
+            let wh = info.hours;
+            let Some(ic) = &curves[k] else {
+                awake.iter_mut().for_each(|a| *a = false);
+                other_awake.iter_mut().for_each(|a| *a = false);
+                if hourly {
+                    e.hourly.push(HourRow::default());
+                }
+                if let (Some(b), Some(st)) = (spec, state.as_mut()) {
+                    settle(b, load, st, &mut e, &mut day, info, 0.0);
+                }
+                continue;
+            };
+            // Light bookkeeping over the wired modules (STC-efficiency DC equivalents).
+            let mut sub_mpp_sum = 0.0;
+            let potential_before = e.potential_wh[m];
+            for &mi in &used {
+                let module = &plan.modules[mi];
+                let t = &plan.module_types[module.module_type];
+                let g = &cond.groups[module.group];
+                let scale = t.area_m2() * t.stc_efficiency_frac() * wh;
+                let poa = g.poa[k].total_w_m2();
+                let after_iam = g.after_iam_w_m2[k] as f64;
+                let eff = g.effective[k].total_w_m2();
+                let direct = g.effective[k].beam_w_m2 + g.effective[k].circumsolar_w_m2;
+                let b = t.bypass_diodes as f64;
+                let sky = g.effective[k].isotropic_w_m2 + g.effective[k].horizon_w_m2;
+                let shaded: f64 = ic.blocked[mi].iter().map(|f| f * direct / b).sum::<f64>()
+                    + (1.0 - ic.diffuse_factor[mi]) * sky;
+                e.potential_wh[m] += poa * scale;
+                e.losses_wh[0][m] += (poa - after_iam) * scale;
+                e.losses_wh[1][m] += (after_iam - eff) * scale;
+                e.losses_wh[2][m] += shaded * scale;
+                let light_after_shade = (eff - shaded) * scale;
+                let mpp: f64 = ic.module_subs[mi]
+                    .iter()
+                    .map(|&s| ic.curves[s as usize].mpp_w)
+                    .sum();
+                e.losses_wh[3][m] += light_after_shade - mpp * wh;
+                sub_mpp_sum += mpp;
+            }
+            let (r_lead, r_main) = cable_resistances(plan, layout, info.air_temp_c);
+            // Cables: Joule loss in the string leads and the main run at the array's best terminal
+            // point; the array maximum before cables is that best power plus this loss.
+            let mut cable_w = 0.0;
+            let mut powers = ControllerPowers::default();
+            let mut any_awake = false;
+            let sum = |a: &mut ControllerPowers, b: &ControllerPowers| {
+                a.available_w += b.available_w;
+                a.after_window_w += b.after_window_w;
+                a.after_input_limit_w += b.after_input_limit_w;
+                a.input_w += b.input_w;
+                a.output_w += b.output_w;
+            };
+            for (wi, w) in layout.inputs.iter().enumerate() {
+                let c = &plan.controllers[w.controller];
+                build_input_curves(plan, ic, w, r_lead, r_main[wi], &mut scratch);
+                let p = c.model.operate(&scratch.array, battery_v, &mut awake[wi]);
+                let alt = other_models[wi].operate(&scratch.array, battery_v, &mut other_awake[wi]);
+                e.other_tracking_wh[m] += alt.output_w * wh;
+                cable_w += joule_loss_w(&scratch, &ic.grid, p.available_v, r_lead, r_main[wi]);
+                any_awake |= p.awake;
+                sum(&mut powers, &p);
+            }
+            e.losses_wh[4][m] += (sub_mpp_sum - powers.available_w - cable_w) * wh;
+            e.losses_wh[5][m] += cable_w * wh;
+            e.losses_wh[6][m] += (powers.available_w - powers.after_window_w) * wh;
+            e.losses_wh[7][m] += (powers.after_window_w - powers.after_input_limit_w) * wh;
+            e.losses_wh[8][m] += (powers.after_input_limit_w - powers.input_w) * wh;
+            e.losses_wh[9][m] += (powers.input_w - powers.output_w) * wh;
+            e.delivered_wh[m] += powers.output_w * wh;
+            if any_awake {
+                e.awake_h[m] += wh;
+            }
+            if hourly {
+                e.hourly.push(HourRow {
+                    potential_w: ((e.potential_wh[m] - potential_before) / wh) as f32,
+                    available_w: powers.available_w as f32,
+                    delivered_w: powers.output_w as f32,
+                    clipped_w: (powers.after_input_limit_w - powers.input_w) as f32,
+                    awake: any_awake,
+                });
+            }
+            if let Some(el) = info.sun_elevation_deg() {
+                if el > 0.0 && el < low_sun {
+                    e.low_sun_wh[m] += powers.output_w * wh;
+                }
+            }
+            if let (Some(b), Some(st)) = (spec, state.as_mut()) {
+                settle(b, load, st, &mut e, &mut day, info, powers.output_w * wh);
             }
         }
     }
     e
+}
+
+/// The day being tallied: its number, whether some load went unmet, the lowest state of charge.
+#[derive(Default)]
+struct DayTrack {
+    day: Option<u32>,
+    unmet: bool,
+}
+
+/// One interval of the battery: load from harvest first, then the battery; what the battery
+/// cannot take is curtailed (the controllers throttle), what it cannot give is unmet.
+fn settle(
+    spec: &BatterySpec,
+    load: Option<&LoadProfile>,
+    st: &mut BatteryState,
+    e: &mut LayoutEnergy,
+    day: &mut DayTrack,
+    info: &crate::simulate::IntervalInfo,
+    harvest_wh: f64,
+) {
+    let m = (info.month - 1) as usize;
+    if day.day != Some(info.day_of_year) {
+        if day.day.is_some() {
+            e.daily_soc_frac.push(st.soc_frac);
+        }
+        *day = DayTrack {
+            day: Some(info.day_of_year),
+            unmet: false,
+        };
+    }
+    let load_wh = load.map_or(0.0, |l| {
+        l.wh_at(info.month, info.hour, info.weekend, info.hours)
+    });
+    let f = spec.step(st, harvest_wh, load_wh, info.hours);
+    e.losses_wh[10][m] += f.curtailed_wh;
+    e.delivered_wh[m] -= f.curtailed_wh;
+    e.load_served_wh[m] += f.load_from_harvest_wh + f.from_battery_wh;
+    e.load_from_harvest_wh[m] += f.load_from_harvest_wh;
+    e.unmet_wh[m] += f.unmet_wh;
+    if f.unmet_wh > 0.0 && !day.unmet {
+        day.unmet = true;
+        e.unmet_days[m] += 1;
+    }
+    if !(st.soc_frac >= e.min_soc_frac[m]) {
+        e.min_soc_frac[m] = st.soc_frac;
+    }
 }
 
 /// String curves (string leads included) and the array curve at the terminals (main run

@@ -18,6 +18,8 @@ pub enum Criterion {
     Winter,
     /// Energy delivered while the sun is low.
     LowSun,
+    /// Least unmet load over the year (needs a load and a battery); ranked on −unmet.
+    Unmet,
 }
 
 impl Criterion {
@@ -27,6 +29,7 @@ impl Criterion {
             Criterion::WorstMonth => "energy in the worst month",
             Criterion::Winter => "energy in the three darkest months",
             Criterion::LowSun => "energy in low-sun hours",
+            Criterion::Unmet => "least unmet load (score = −unmet kWh)",
         }
     }
 }
@@ -71,7 +74,12 @@ pub fn score_kwh(e: &LayoutEnergy, c: Criterion, present: &[bool; 12], winter: &
             .filter(|&m| present[m])
             .map(|m| kwh[m])
             .fold(f64::INFINITY, f64::min),
+        // With a load, winter counts what reached the load (MODEL.md §11 outlook).
+        Criterion::Winter if e.load_served_wh.iter().any(|&x| x > 0.0) => {
+            winter.iter().map(|&m| e.load_served_wh[m] / 1000.0).sum()
+        }
         Criterion::Winter => winter.iter().map(|&m| kwh[m]).sum(),
+        Criterion::Unmet => -e.unmet_wh.iter().sum::<f64>() / 1000.0,
         Criterion::LowSun => e.low_sun_wh.iter().sum::<f64>() / 1000.0,
     }
 }

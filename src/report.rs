@@ -194,6 +194,10 @@ pub fn ranking(r: &RankResult) -> String {
         }
     }
 
+    if plan.consumption.is_some() && !ranked.is_empty() {
+        out.push_str(&outlook(r, &ranked));
+    }
+
     // What a different MPPT tracker would change (shade makes several maxima).
     let differs: Vec<_> = ranked
         .iter()
@@ -333,6 +337,80 @@ pub fn check(r: &CheckResult) -> String {
     out
 }
 
+/// The off-grid owner's view: the load over the year and in the darkest months.
+fn outlook(r: &RankResult, ranked: &[&crate::rank::LayoutOutcome]) -> String {
+    let mut out = String::new();
+    let plan = &r.loaded.plan;
+    let spec = plan.battery.model.as_ref();
+    let winter: Vec<&str> = r.winter_months.iter().map(|&m| MONTHS[m]).collect();
+    let _ = writeln!(out);
+    let _ = writeln!(
+        out,
+        "Winter outlook ({}) with the load and the battery{}:",
+        winter.join(", "),
+        spec.map_or(String::new(), |b| format!(
+            " ({:.0} Ah, {:.0} V, {})",
+            b.params().capacity_ah,
+            b.params().nominal_v,
+            b.params().chemistry.key()
+        ))
+    );
+    let name_w = ranked
+        .iter()
+        .map(|o| o.layout.display_name().chars().count())
+        .max()
+        .unwrap_or(6)
+        .clamp(6, 90);
+    let _ = writeln!(
+        out,
+        "  {:<name_w$} {:>10} {:>10} {:>10} {:>11} {:>9} | {:>11} {:>10} {:>10}",
+        "layout",
+        "load kWh",
+        "unmet kWh",
+        "days short",
+        "lowest SoC",
+        "low-sun",
+        "year unmet",
+        "curtailed",
+        "days short"
+    );
+    for o in ranked {
+        let Some(e) = &o.energy else { continue };
+        let w = |f: &dyn Fn(usize) -> f64| r.winter_months.iter().map(|&m| f(m)).sum::<f64>();
+        let served = w(&|m| e.load_served_wh[m]) / 1000.0;
+        let unmet = w(&|m| e.unmet_wh[m]) / 1000.0;
+        let days = w(&|m| e.unmet_days[m] as f64);
+        let soc = r
+            .winter_months
+            .iter()
+            .map(|&m| e.min_soc_frac[m])
+            .fold(f64::INFINITY, f64::min);
+        let low = w(&|m| e.low_sun_wh[m]) / 1000.0;
+        let year_unmet = e.unmet_wh.iter().sum::<f64>() / 1000.0;
+        let curtailed = e.step_total_wh(Step::Curtailed as usize) / 1000.0;
+        let year_days: u32 = e.unmet_days.iter().sum();
+        let _ = writeln!(
+            out,
+            "  {:<name_w$} {served:>10.1} {unmet:>10.1} {days:>10.0} {:>10.0}% {low:>9.1} | {year_unmet:>11.1} {curtailed:>10.1} {year_days:>10}",
+            o.layout.display_name(),
+            soc * 100.0
+        );
+    }
+    if let Some(s) = &r.sizing {
+        let answer = match s.battery_ah {
+            Some(a) if a == 0.0 => "no battery would be needed".to_string(),
+            Some(a) => format!("{a:.0} Ah (the plan has {:.0} Ah)", s.planned_ah),
+            None => format!("more than {:.0} Ah", s.limit_ah),
+        };
+        let _ = writeln!(
+            out,
+            "  Smallest battery for {} to keep unmet load at or below {:.1} kWh a year (steps of {:.0} Ah): {answer}",
+            s.layout, s.target_unmet_kwh, s.step_ah
+        );
+    }
+    out
+}
+
 fn short_step(s: Step) -> &'static str {
     match s {
         Step::Incidence => "incidence",
@@ -345,6 +423,7 @@ fn short_step(s: Step) -> &'static str {
         Step::InputLimit => "in-limit",
         Step::Clipping => "clipping",
         Step::Conversion => "convert",
+        Step::Curtailed => "curtailed",
     }
 }
 

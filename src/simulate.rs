@@ -90,6 +90,9 @@ pub struct IntervalInfo {
     /// Local month 1..=12 and hour 0..=23 of the interval start.
     pub month: u32,
     pub hour: u32,
+    /// Local day of the year (1 = 1 January) and whether it is a Saturday or Sunday.
+    pub day_of_year: u32,
+    pub weekend: bool,
     /// Sun at the evaluation point; `None` when dark throughout.
     pub sun: Option<IntervalSun>,
     pub ghi_w_m2: f64,
@@ -173,6 +176,13 @@ pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
             hours: dt_s / 3600.0,
             month: weather.local_month(k),
             hour: weather.local_hour(k),
+            day_of_year: weather.local_day_of_year(k),
+            weekend: chrono::DateTime::from_timestamp(weather.local_start_s[k], 0).is_some_and(
+                |d| {
+                    use chrono::Datelike;
+                    d.weekday().number_from_monday() >= 6
+                },
+            ),
             sun: sun_now,
             ghi_w_m2: ghi,
             dni_w_m2: 0.0,

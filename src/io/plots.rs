@@ -569,6 +569,7 @@ fn step_label(s: Step) -> &'static str {
         Step::InputLimit => "input current limit",
         Step::Clipping => "output clipping",
         Step::Conversion => "conversion",
+        Step::Curtailed => "curtailed (battery full)",
     }
 }
 
