@@ -260,7 +260,7 @@ fn size_battery(
         .hourly
         .iter()
         .zip(&cond.intervals)
-        .map(|(h, i)| (h.delivered_w as f64 * i.hours).max(0.0))
+        .map(|(h, i)| (h.harvest_w as f64 * i.hours).max(0.0))
         .collect();
     let month: Vec<u32> = cond.intervals.iter().map(|i| i.month).collect();
     let hour: Vec<u32> = cond.intervals.iter().map(|i| i.hour).collect();

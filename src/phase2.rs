@@ -121,8 +121,10 @@ pub struct HourRow {
     pub potential_w: f32,
     /// Best power the array offers at the controller terminals.
     pub available_w: f32,
-    /// Delivered to the battery.
+    /// Delivered to the battery and the load (after curtailment by a full battery).
     pub delivered_w: f32,
+    /// What the controllers offered before any curtailment.
+    pub harvest_w: f32,
     /// Lost to output clipping.
     pub clipped_w: f32,
     /// At least one controller input awake.
@@ -136,6 +138,11 @@ impl LayoutEnergy {
 
     pub fn monthly_kwh(&self) -> [f64; 12] {
         self.delivered_wh.map(|w| w / 1000.0)
+    }
+
+    /// One step's loss in one month (index 0 = January), Wh.
+    pub fn step_total_wh_month(&self, step: Step, month_index: usize) -> f64 {
+        self.losses_wh[step as usize][month_index]
     }
 
     pub fn step_total_wh(&self, step_index: usize) -> f64 {
@@ -522,6 +529,7 @@ fn simulate_layout(
                     potential_w: ((e.potential_wh[m] - potential_before) / wh) as f32,
                     available_w: powers.available_w as f32,
                     delivered_w: powers.output_w as f32,
+                    harvest_w: powers.output_w as f32,
                     clipped_w: (powers.after_input_limit_w - powers.input_w) as f32,
                     awake: any_awake,
                 });
@@ -571,6 +579,11 @@ fn settle(
         l.wh_at(info.month, info.hour, info.weekend, info.hours)
     });
     let f = spec.step(st, harvest_wh, load_wh, info.hours);
+    if f.curtailed_wh > 0.0 {
+        if let Some(row) = e.hourly.last_mut() {
+            row.delivered_w -= (f.curtailed_wh / info.hours) as f32;
+        }
+    }
     e.losses_wh[10][m] += f.curtailed_wh;
     e.delivered_wh[m] -= f.curtailed_wh;
     e.load_served_wh[m] += f.load_from_harvest_wh + f.from_battery_wh;
