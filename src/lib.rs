@@ -26,8 +26,11 @@ pub mod rank;
 pub mod report;
 pub mod sample_weather;
 pub mod simulate;
+pub mod synth;
 pub mod tally;
+pub mod uncertainty;
 pub mod weather;
+pub mod weather_tools;
 
 use std::path::{Path, PathBuf};
 
