@@ -59,6 +59,24 @@ where
     let multi_year = days
         .last()
         .is_some_and(|d| civil_from_local_s(d.day_start_s).0 != civil_from_local_s(first).0);
+    // Month labels go at the first day of each month (every second or third month on long
+    // files), drawn by hand because the axis' own labels fall on round numbers of days.
+    let starts: Vec<(usize, String)> = days
+        .iter()
+        .enumerate()
+        .filter(|(_, d)| civil_from_local_s(d.day_start_s).2 == 1)
+        .map(|(i, d)| {
+            let (y, m, _) = civil_from_local_s(d.day_start_s);
+            let name = MONTH_ABBR[m as usize - 1];
+            let label = if multi_year && m == 1 {
+                format!("{name} {y}")
+            } else {
+                name.to_string()
+            };
+            (i, label)
+        })
+        .collect();
+    let stride = starts.len().div_ceil(13).max(1);
     let mut chart = ChartBuilder::on(&area)
         .caption(title, ("sans-serif", 20))
         .margin(12)
@@ -69,20 +87,29 @@ where
     chart
         .configure_mesh()
         .disable_x_mesh()
-        .x_labels(13)
-        .x_label_formatter(&|x| {
-            let (y, m, _) = civil_from_local_s(first + (*x as i64) * 86_400);
-            if multi_year {
-                format!("{} {y}", MONTH_ABBR[m as usize - 1])
-            } else {
-                MONTH_ABBR[m as usize - 1].to_string()
-            }
-        })
+        .light_line_style(TRANSPARENT)
+        .x_labels(0)
+        .y_labels(8)
         .y_desc("kWh/m² per day")
         .label_style(("sans-serif", 13))
         .axis_desc_style(("sans-serif", 14))
         .draw()
         .map_err(fail)?;
+    let label_style = TextStyle::from(("sans-serif", 13).into_font())
+        .pos(plotters::style::text_anchor::Pos::new(
+            plotters::style::text_anchor::HPos::Left,
+            plotters::style::text_anchor::VPos::Top,
+        ));
+    for (i, label) in starts.iter().step_by(stride) {
+        let (px, py) = chart.backend_coord(&(*i as f64, 0.0));
+        area.draw(&PathElement::new(
+            vec![(px, py), (px, py + 5)],
+            BLACK.stroke_width(1),
+        ))
+        .map_err(fail)?;
+        area.draw(&Text::new(label.clone(), (px + 3, py + 7), label_style.clone()))
+            .map_err(fail)?;
+    }
     let bar = RGBColor(240, 170, 40);
     chart
         .draw_series(days.iter().enumerate().map(|(i, d)| {

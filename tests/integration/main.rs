@@ -3,4 +3,5 @@ mod cli;
 mod electrical;
 mod enumerate;
 mod invariants;
+mod synth;
 mod weather;
