@@ -45,9 +45,12 @@ struct RawMonthly {
     wind_m_s: Option<Monthly>,
 }
 
+/// A key, its whole value's byte span and (for lists) each month's span.
+type KeySpans = (&'static str, Range<usize>, Vec<Range<usize>>);
+
 /// Where each key (and each month's value) sits in the file, for messages.
 struct Spans {
-    keys: Vec<(&'static str, Range<usize>, Vec<Range<usize>>)>,
+    keys: Vec<KeySpans>,
 }
 
 impl Spans {
@@ -93,7 +96,8 @@ fn parse_monthly_with_spans(text: &str, file: &str) -> Result<(MonthlyInputs, Sp
         ))
     })?;
     let mut spans = Spans { keys: Vec::new() };
-    let mut scalar = |key: &'static str, span: Range<usize>| spans.keys.push((key, span, Vec::new()));
+    let mut scalar =
+        |key: &'static str, span: Range<usize>| spans.keys.push((key, span, Vec::new()));
     scalar("name", raw.name.span());
     scalar("latitude_deg", raw.latitude_deg.span());
     scalar("longitude_deg", raw.longitude_deg.span());
@@ -423,7 +427,8 @@ pub fn summary_text(w: &Weather, s: &WeatherSummary) -> String {
     let mut out = String::new();
     let _ = writeln!(out, "weather: {}", w.source);
     let site = &w.site;
-    let number = |v: Option<f64>, unit: &str| v.map_or("not given".to_string(), |v| format!("{v}{unit}"));
+    let number =
+        |v: Option<f64>, unit: &str| v.map_or("not given".to_string(), |v| format!("{v}{unit}"));
     let _ = writeln!(
         out,
         "site: {} (latitude {}, longitude {}, elevation {}, UTC offset {})",

@@ -330,8 +330,7 @@ fn check_header_record(
     // The published dictionary spells the fifth record "HOLIDAYS/DAYLIGHT SAVING", files
     // "…SAVINGS": accept both.
     let ok = first.eq_ignore_ascii_case(record)
-        || (record == HEADER_RECORDS[4]
-            && first.eq_ignore_ascii_case("HOLIDAYS/DAYLIGHT SAVING"));
+        || (record == HEADER_RECORDS[4] && first.eq_ignore_ascii_case("HOLIDAYS/DAYLIGHT SAVING"));
     if ok && line.contains(',') {
         return Ok(());
     }

@@ -42,7 +42,11 @@ fn ensure_font() -> Result<(), String> {
 }
 
 /// Draws the chart on any backend.
-fn draw<DB: DrawingBackend>(area: DrawingArea<DB, plotters::coord::Shift>, days: &[DayPoint], title: &str) -> Result<(), String>
+fn draw<DB: DrawingBackend>(
+    area: DrawingArea<DB, plotters::coord::Shift>,
+    days: &[DayPoint],
+    title: &str,
+) -> Result<(), String>
 where
     DB::ErrorType: 'static,
 {
@@ -95,11 +99,12 @@ where
         .axis_desc_style(("sans-serif", 14))
         .draw()
         .map_err(fail)?;
-    let label_style = TextStyle::from(("sans-serif", 13).into_font())
-        .pos(plotters::style::text_anchor::Pos::new(
+    let label_style = TextStyle::from(("sans-serif", 13).into_font()).pos(
+        plotters::style::text_anchor::Pos::new(
             plotters::style::text_anchor::HPos::Left,
             plotters::style::text_anchor::VPos::Top,
-        ));
+        ),
+    );
     for (i, label) in starts.iter().step_by(stride) {
         let (px, py) = chart.backend_coord(&(*i as f64, 0.0));
         area.draw(&PathElement::new(
@@ -107,8 +112,12 @@ where
             BLACK.stroke_width(1),
         ))
         .map_err(fail)?;
-        area.draw(&Text::new(label.clone(), (px + 3, py + 7), label_style.clone()))
-            .map_err(fail)?;
+        area.draw(&Text::new(
+            label.clone(),
+            (px + 3, py + 7),
+            label_style.clone(),
+        ))
+        .map_err(fail)?;
     }
     let bar = RGBColor(240, 170, 40);
     chart
@@ -176,7 +185,11 @@ pub fn daily_irradiation_svg(days: &[DayPoint], title: &str) -> Result<String, S
 ///
 /// # Errors
 /// [`Error::Output`] naming the file when drawing or writing fails.
-pub fn write_daily_irradiation_png(days: &[DayPoint], title: &str, path: &Path) -> Result<(), Error> {
+pub fn write_daily_irradiation_png(
+    days: &[DayPoint],
+    title: &str,
+    path: &Path,
+) -> Result<(), Error> {
     let output = |message: String| Error::Output {
         path: path.display().to_string(),
         source: std::io::Error::other(message),
@@ -206,7 +219,11 @@ pub fn write_daily_irradiation_png(days: &[DayPoint], title: &str, path: &Path) 
 ///
 /// # Errors
 /// [`Error::Output`] naming the file when drawing or writing fails.
-pub fn write_daily_irradiation_svg(days: &[DayPoint], title: &str, path: &Path) -> Result<(), Error> {
+pub fn write_daily_irradiation_svg(
+    days: &[DayPoint],
+    title: &str,
+    path: &Path,
+) -> Result<(), Error> {
     let svg = daily_irradiation_svg(days, title).map_err(|message| Error::Output {
         path: path.display().to_string(),
         source: std::io::Error::other(message),
@@ -254,7 +271,13 @@ mod tests {
     fn svg_has_title_axis_and_months() {
         let svg = daily_irradiation_svg(&year(365), "Testfield 2025").unwrap();
         assert!(svg.starts_with("<svg"), "{}", &svg[..40]);
-        for text in ["Testfield 2025", "kWh/m² per day", "Jan", "Jul", "monthly mean"] {
+        for text in [
+            "Testfield 2025",
+            "kWh/m² per day",
+            "Jan",
+            "Jul",
+            "monthly mean",
+        ] {
             assert!(svg.contains(text), "missing {text}");
         }
     }
