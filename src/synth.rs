@@ -2217,7 +2217,10 @@ mod tests {
             for m in 0..12 {
                 // Source: the task's requirement (2 %, 0.5 °C); polar night stays dark.
                 let g = inputs.ghi_kwh_m2_day[m];
-                assert!((ghi[m] - g).abs() <= (0.02 * g).max(1e-9), "{latitude_deg} {m}");
+                assert!(
+                    (ghi[m] - g).abs() <= (0.02 * g).max(1e-9),
+                    "{latitude_deg} {m}"
+                );
                 assert!((temp[m] - inputs.air_mean_c[m]).abs() <= 0.5);
             }
         }

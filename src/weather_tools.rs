@@ -510,12 +510,12 @@ pub fn summary_text(w: &Weather, s: &WeatherSummary) -> String {
     let _ = writeln!(out);
     let _ = writeln!(
         out,
-        "lowest air temperature: {} °C at {}",
+        "lowest air temperature: {:.1} °C at {}",
         s.lowest.0, s.lowest.1
     );
     let _ = writeln!(
         out,
-        "highest air temperature: {} °C at {}",
+        "highest air temperature: {:.1} °C at {}",
         s.highest.0, s.highest.1
     );
     let totals: Vec<f64> = s.complete_years.iter().map(|y| y.1).collect();
