@@ -27,8 +27,11 @@ pub mod report;
 pub mod sample_weather;
 pub mod shade_view;
 pub mod simulate;
+pub mod synth;
 pub mod tally;
+pub mod uncertainty;
 pub mod weather;
+pub mod weather_tools;
 
 use std::path::{Path, PathBuf};
 

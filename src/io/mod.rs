@@ -7,7 +7,9 @@ pub mod export;
 pub mod json;
 pub mod plan_toml;
 pub mod plots;
+pub mod typical_year;
 pub mod weather_csv;
+pub mod weather_plot;
 
 /// SHA-256 of some bytes, lower-case hex (provenance records).
 pub fn sha256_hex(bytes: &[u8]) -> String {

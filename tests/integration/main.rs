@@ -4,4 +4,5 @@ mod electrical;
 mod enumerate;
 mod export;
 mod invariants;
+mod synth;
 mod weather;
