@@ -7,6 +7,7 @@ use std::path::PathBuf;
 use clap::{Args, Parser, Subcommand, ValueEnum};
 
 use wirerank::rank::Criterion;
+use wirerank::WeatherRequest;
 use wirerank::{
     CurveRequest, CurveTarget, OutputFormat, PlanSource, RankRequest, Request, SunpathRequest,
 };
@@ -35,6 +36,10 @@ pub enum Command {
     Curve(CurveArgs),
     /// Share of direct light each module loses to shade (horizon, obstacles, schedule), by month.
     Shade(ShadeArgs),
+    /// Weather files: make a typical year from monthly means, inspect one, import the open
+    /// typical-year format.
+    #[command(subcommand)]
+    Weather(WeatherCommand),
     /// Print a commented starter plan to copy and edit.
     Template,
     /// Print the sun's elevation and azimuth for a site over a date or a range of dates.
@@ -74,6 +79,36 @@ pub struct CurveArgs {
     /// CSV on stdout: curve,voltage_v,current_a,power_w.
     #[arg(long)]
     pub csv: bool,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum WeatherCommand {
+    /// Generate an hourly typical year in our CSV format from 12 monthly means (TOML).
+    Synth {
+        /// Monthly inputs (see notebooks-free-docs/method-synth.md).
+        input: PathBuf,
+        /// Random seed: the same seed gives the same file.
+        #[arg(long, default_value_t = 1)]
+        seed: u64,
+        /// The CSV to write.
+        #[arg(long)]
+        out: PathBuf,
+    },
+    /// Monthly irradiation and temperatures, gaps and repairs, extremes; a daily plot.
+    Inspect {
+        /// A weather file (our CSV or the open typical-year format).
+        file: PathBuf,
+        /// Write the daily irradiation plot (PNG and SVG) into this folder.
+        #[arg(long)]
+        plot_dir: Option<PathBuf>,
+    },
+    /// Convert a file in the open typical-year format (8-line header) into our CSV.
+    Import {
+        file: PathBuf,
+        /// The CSV to write.
+        #[arg(long)]
+        out: PathBuf,
+    },
 }
 
 #[derive(Debug, Args)]
@@ -242,6 +277,15 @@ impl Cli {
                 },
                 a.out,
             ),
+            Some(Command::Weather(w)) => Request::Weather(match w {
+                WeatherCommand::Synth { input, seed, out } => {
+                    WeatherRequest::Synth { input, seed, out }
+                }
+                WeatherCommand::Inspect { file, plot_dir } => {
+                    WeatherRequest::Inspect { file, plot_dir }
+                }
+                WeatherCommand::Import { file, out } => WeatherRequest::Import { file, out },
+            }),
             Some(Command::Template) => Request::Template,
             Some(Command::Sunpath(a)) => Request::Sunpath(SunpathRequest {
                 plan: a.plan,

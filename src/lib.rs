@@ -112,6 +112,24 @@ pub struct CurveRequest {
     pub csv: bool,
 }
 
+/// `wirerank weather synth | inspect | import`.
+#[derive(Clone, Debug)]
+pub enum WeatherRequest {
+    Synth {
+        input: PathBuf,
+        seed: u64,
+        out: PathBuf,
+    },
+    Inspect {
+        file: PathBuf,
+        plot_dir: Option<PathBuf>,
+    },
+    Import {
+        file: PathBuf,
+        out: PathBuf,
+    },
+}
+
 /// One command, as the binary asks for it.
 #[derive(Clone, Debug)]
 pub enum Request {
@@ -120,6 +138,8 @@ pub enum Request {
     Curve(CurveRequest),
     /// `wirerank check`: limits only.
     Check(PlanSource),
+    /// `wirerank weather ...`.
+    Weather(WeatherRequest),
     /// `wirerank shade`: share of direct light lost per module and month.
     Shade(PlanSource, Option<PathBuf>),
     Template,
@@ -143,6 +163,15 @@ pub fn run(request: Request) -> Result<Outcome, Error> {
     match request {
         Request::Rank(r) => rank(&r),
         Request::Check(source) => check(&source),
+        Request::Weather(w) => match w {
+            WeatherRequest::Synth { input, seed, out } => {
+                weather_tools::synth_from_file(&input, seed, &out)
+            }
+            WeatherRequest::Inspect { file, plot_dir } => {
+                weather_tools::inspect(&file, plot_dir.as_deref())
+            }
+            WeatherRequest::Import { file, out } => weather_tools::import(&file, &out),
+        },
         Request::Shade(source, out) => shade(&source, out.as_deref()),
         Request::Curve(r) => report::curve(&r),
         Request::Template => Ok(Outcome {
@@ -181,7 +210,7 @@ pub fn load(source: &PlanSource) -> Result<Loaded, Error> {
         }
         PlanSource::File(path) => {
             let plan = io::plan_toml::read_plan(path)?;
-            let weather = io::weather_csv::read_weather_csv(&plan.weather_path)?;
+            let weather = io::typical_year::read_any_weather(&plan.weather_path)?;
             let plan_hash = io::file_sha256(path).unwrap_or_default();
             let weather_hash = io::file_sha256(&plan.weather_path).unwrap_or_default();
             (plan, weather, plan_hash, weather_hash)
@@ -380,6 +409,7 @@ pub fn simulate_and_rank(
             energy: None,
             rank: None,
             score_kwh: None,
+            p90: None,
         })
         .collect();
     let conditions = simulate::phase1(plan, &loaded.weather, &loaded.site);
@@ -392,6 +422,10 @@ pub fn simulate_and_rank(
     let mut energies = energies.into_iter();
     for o in outcomes.iter_mut().filter(|o| !o.rejected()) {
         o.energy = energies.next();
+        o.p90 = o
+            .energy
+            .as_ref()
+            .map(|e| uncertainty::p50_p90(e.annual_delivered_kwh(), &plan.model.uncertainty));
     }
     let group_ids: Vec<String> = plan.groups.iter().map(|g| g.id.clone()).collect();
     let light = tally::group_monthly(&conditions, &group_ids);

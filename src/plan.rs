@@ -57,6 +57,8 @@ pub struct ModelOptions {
     pub delta_t_s: f64,
     /// Albedo used when the weather file has no albedo column.
     pub albedo: Albedo,
+    /// Year-to-year variability of the resource and model uncertainty (P50/P90).
+    pub uncertainty: crate::uncertainty::P90Inputs,
 }
 
 /// One module type from its datasheet, with the single-diode parameters fitted once.

@@ -44,6 +44,8 @@ pub struct LayoutOutcome {
     pub rank: Option<usize>,
     /// The value the criterion ranked on, kWh.
     pub score_kwh: Option<f64>,
+    /// Annual energy exceeded with 90 % probability (one year, ten-year mean), kWh.
+    pub p90: Option<crate::uncertainty::P90>,
 }
 
 impl LayoutOutcome {

@@ -194,6 +194,28 @@ pub fn ranking(r: &RankResult) -> String {
         }
     }
 
+    if !ranked.is_empty() {
+        let u = &plan.model.uncertainty;
+        let _ = writeln!(out);
+        let _ = writeln!(
+            out,
+            "Annual energy you can count on (normal approximation; resource variability {:.1} %, model uncertainty {:.1} %):",
+            u.variability_frac * 100.0,
+            u.model_frac * 100.0
+        );
+        for o in &ranked {
+            if let Some(p) = &o.p90 {
+                let _ = writeln!(
+                    out,
+                    "  {:<name_w$} P50 {:>8.1} kWh   P90 one year {:>8.1} kWh   P90 ten-year mean {:>8.1} kWh",
+                    o.layout.display_name(),
+                    p.p50,
+                    p.p90_1y,
+                    p.p90_10y
+                );
+            }
+        }
+    }
     if plan.consumption.is_some() && !ranked.is_empty() {
         out.push_str(&outlook(r, &ranked));
     }

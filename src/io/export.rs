@@ -45,7 +45,7 @@ pub const MONTHLY_COLUMNS: [&str; 7] = [
     "clipped_kwh",
 ];
 /// Columns of summary.csv, in order.
-pub const SUMMARY_COLUMNS: [&str; 15] = [
+pub const SUMMARY_COLUMNS: [&str; 18] = [
     "rank",
     "layout",
     "code",
@@ -56,6 +56,9 @@ pub const SUMMARY_COLUMNS: [&str; 15] = [
     "worst_month_kwh",
     "low_sun_kwh",
     "awake_h",
+    "p90_1y_kwh",
+    "p90_10y_kwh",
+    "unmet_kwh",
     "modules_used",
     "mixed_orientation",
     "reasons",
@@ -299,6 +302,9 @@ fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     let mut worst_kwh: Vec<Option<f64>> = Vec::with_capacity(n);
     let mut low_sun: Vec<Option<f64>> = Vec::with_capacity(n);
     let mut awake: Vec<Option<f64>> = Vec::with_capacity(n);
+    let mut p90_1y: Vec<Option<f64>> = Vec::with_capacity(n);
+    let mut p90_10y: Vec<Option<f64>> = Vec::with_capacity(n);
+    let mut unmet: Vec<Option<f64>> = Vec::with_capacity(n);
     let (mut modules, mut mixed, mut reasons, mut warnings) =
         (Vec::new(), Vec::new(), Vec::new(), Vec::new());
     let mut cautions: Vec<Option<String>> = Vec::with_capacity(n);
@@ -327,6 +333,12 @@ fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
         worst_kwh.push(w.map(|(_, v)| v));
         low_sun.push(e.map(|e| e.low_sun_wh.iter().sum::<f64>() / 1000.0));
         awake.push(e.map(|e| e.awake_h.iter().sum::<f64>()));
+        p90_1y.push(o.p90.map(|p| p.p90_1y));
+        p90_10y.push(o.p90.map(|p| p.p90_10y));
+        unmet.push(
+            e.filter(|_| r.loaded.plan.consumption.is_some())
+                .map(|e| e.unmet_wh.iter().sum::<f64>() / 1000.0),
+        );
         modules.push(o.layout.modules_used as i64);
         mixed.push(o.layout.mixed_orientation);
         reasons.push(findings(o, Severity::Reject));
@@ -347,11 +359,14 @@ fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
             col(c[7], worst_kwh),
             col(c[8], low_sun),
             col(c[9], awake),
-            col(c[10], modules),
-            col(c[11], mixed),
-            col(c[12], reasons),
-            col(c[13], warnings),
-            col(c[14], cautions),
+            col(c[10], p90_1y),
+            col(c[11], p90_10y),
+            col(c[12], unmet),
+            col(c[13], modules),
+            col(c[14], mixed),
+            col(c[15], reasons),
+            col(c[16], warnings),
+            col(c[17], cautions),
         ],
     )
 }

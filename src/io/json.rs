@@ -62,6 +62,9 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                 "awake_hours": Value::Null,
                 "potential_kwh": Value::Null,
                 "other_tracking_kwh": Value::Null,
+                "p90_1y_kwh": o.p90.map(|p| r3(p.p90_1y)),
+                "p90_10y_kwh": o.p90.map(|p| r3(p.p90_10y)),
+                "unmet_kwh": Value::Null,
                 "losses_kwh": Value::Null,
             });
             if let Some(e) = &o.energy {
@@ -74,6 +77,9 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                 v["low_sun_kwh"] = json!(r3(e.low_sun_wh.iter().sum::<f64>() / 1000.0));
                 v["awake_hours"] = json!(r3(e.awake_h.iter().sum::<f64>()));
                 v["potential_kwh"] = json!(r3(e.potential_wh.iter().sum::<f64>() / 1000.0));
+                if plan.consumption.is_some() {
+                    v["unmet_kwh"] = json!(r3(e.unmet_wh.iter().sum::<f64>() / 1000.0));
+                }
                 v["other_tracking_kwh"] = json!(r3(e.other_tracking_wh.iter().sum::<f64>() / 1000.0));
                 v["losses_kwh"] = Value::Object(losses);
             }
@@ -97,6 +103,11 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
         "months_present": r.months_present,
         "limit_temperatures_c": { "min_air": r.temps.min_air_c, "max_air": r.temps.max_air_c },
         "battery_charge_v": plan.battery.charge_v,
+        "p90_inputs": {
+            "irradiance_variability_frac": plan.model.uncertainty.variability_frac,
+            "model_uncertainty_frac": plan.model.uncertainty.model_frac,
+            "method": "normal approximation: P90 = P50 − 1.2816 σ; σ₁ = √(variability² + model²); σ₁₀ = √(variability²/10 + model²)"
+        },
         "layouts": layouts,
         "cautions": CAUTIONS.replace('\n', " "),
     });

@@ -102,6 +102,8 @@ struct RawWeather {
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 struct RawModel {
+    irradiance_variability_pct: Option<S<f64>>,
+    model_uncertainty_pct: Option<S<f64>>,
     sky: Option<S<String>>,
     low_sun_elevation_deg: Option<S<f64>>,
     delta_t_s: Option<S<f64>>,
@@ -595,8 +597,26 @@ fn validate_model(
         low_sun_elevation_deg: 15.0,
         delta_t_s: crate::physics::sun::DELTA_T_DEFAULT_S,
         albedo,
+        uncertainty: crate::uncertainty::P90Inputs::TYPICAL,
     };
     if let Some(m) = raw {
+        let t = crate::uncertainty::P90Inputs::TYPICAL;
+        model.uncertainty = crate::uncertainty::P90Inputs {
+            variability_frac: ctx.opt_range(
+                &m.irradiance_variability_pct,
+                "model.irradiance_variability_pct",
+                0.0,
+                50.0,
+                t.variability_frac * 100.0,
+            )? / 100.0,
+            model_frac: ctx.opt_range(
+                &m.model_uncertainty_pct,
+                "model.model_uncertainty_pct",
+                0.0,
+                50.0,
+                t.model_frac * 100.0,
+            )? / 100.0,
+        };
         if let Some(sky) = &m.sky {
             model.sky = match sky.get_ref().as_str() {
                 "perez" => SkyModel::Perez,
