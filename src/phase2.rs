@@ -593,7 +593,7 @@ fn settle(
         day.unmet = true;
         e.unmet_days[m] += 1;
     }
-    if !(st.soc_frac >= e.min_soc_frac[m]) {
+    if e.min_soc_frac[m].is_nan() || st.soc_frac < e.min_soc_frac[m] {
         e.min_soc_frac[m] = st.soc_frac;
     }
 }

@@ -420,7 +420,7 @@ fn outlook(r: &RankResult, ranked: &[&crate::rank::LayoutOutcome]) -> String {
     }
     if let Some(s) = &r.sizing {
         let answer = match s.battery_ah {
-            Some(a) if a == 0.0 => "no battery would be needed".to_string(),
+            Some(a) if a <= 0.0 => "no battery would be needed".to_string(),
             Some(a) => format!("{a:.0} Ah (the plan has {:.0} Ah)", s.planned_ah),
             None => format!("more than {:.0} Ah", s.limit_ah),
         };

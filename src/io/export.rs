@@ -723,52 +723,6 @@ impl Drop for Staging<'_> {
     }
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn temporary_names_keep_png_last_and_end_others_in_tmp() {
-        assert_eq!(temp_name("monthly.csv"), "monthly.csv.tmp");
-        assert_eq!(temp_name("provenance.txt"), "provenance.txt.tmp");
-        assert_eq!(temp_name("gain_map.svg"), "gain_map.svg.tmp");
-        assert_eq!(temp_name("gain_map.png"), "gain_map.tmp.png");
-    }
-
-    #[test]
-    fn cautions_fit_on_one_line() {
-        let c = cautions_one_line();
-        assert!(!c.contains('\n'));
-        assert!(c.contains("licensed professional"));
-    }
-
-    #[test]
-    fn staging_removes_its_temporaries_and_folders_when_dropped() {
-        let tmp = tempfile::tempdir().expect("temporary folder");
-        let base = tmp.path().join("new");
-        let dir = base.join("a").join("b");
-        {
-            let mut s = Staging::create(&dir).expect("creates");
-            s.write("x.csv", b"1,2\n").expect("writes");
-            assert!(dir.join("x.csv.tmp").exists());
-        }
-        assert!(!base.exists(), "{} left behind", base.display());
-        assert!(tmp.path().is_dir(), "a folder that existed before stays");
-    }
-
-    #[test]
-    fn staging_commit_renames_and_keeps_the_folder() {
-        let tmp = tempfile::tempdir().expect("temporary folder");
-        let base = tmp.path().join("new");
-        let mut s = Staging::create(&base).expect("creates");
-        s.write("x.csv", b"1,2\n").expect("writes");
-        let written = s.commit().expect("commits");
-        assert_eq!(written, vec![base.join("x.csv")]);
-        assert_eq!(fs::read(base.join("x.csv")).expect("reads"), b"1,2\n");
-        assert!(!base.join("x.csv.tmp").exists());
-    }
-}
-
 /// File name of the shade report's CSV.
 pub const SHADE_CSV: &str = "shade.csv";
 /// Columns of shade.csv.
@@ -851,4 +805,50 @@ pub fn write_shade_csv(r: &crate::ShadeResult, dir: &Path) -> Result<Vec<PathBuf
     }
     let _ = path;
     stage.commit()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn temporary_names_keep_png_last_and_end_others_in_tmp() {
+        assert_eq!(temp_name("monthly.csv"), "monthly.csv.tmp");
+        assert_eq!(temp_name("provenance.txt"), "provenance.txt.tmp");
+        assert_eq!(temp_name("gain_map.svg"), "gain_map.svg.tmp");
+        assert_eq!(temp_name("gain_map.png"), "gain_map.tmp.png");
+    }
+
+    #[test]
+    fn cautions_fit_on_one_line() {
+        let c = cautions_one_line();
+        assert!(!c.contains('\n'));
+        assert!(c.contains("licensed professional"));
+    }
+
+    #[test]
+    fn staging_removes_its_temporaries_and_folders_when_dropped() {
+        let tmp = tempfile::tempdir().expect("temporary folder");
+        let base = tmp.path().join("new");
+        let dir = base.join("a").join("b");
+        {
+            let mut s = Staging::create(&dir).expect("creates");
+            s.write("x.csv", b"1,2\n").expect("writes");
+            assert!(dir.join("x.csv.tmp").exists());
+        }
+        assert!(!base.exists(), "{} left behind", base.display());
+        assert!(tmp.path().is_dir(), "a folder that existed before stays");
+    }
+
+    #[test]
+    fn staging_commit_renames_and_keeps_the_folder() {
+        let tmp = tempfile::tempdir().expect("temporary folder");
+        let base = tmp.path().join("new");
+        let mut s = Staging::create(&base).expect("creates");
+        s.write("x.csv", b"1,2\n").expect("writes");
+        let written = s.commit().expect("commits");
+        assert_eq!(written, vec![base.join("x.csv")]);
+        assert_eq!(fs::read(base.join("x.csv")).expect("reads"), b"1,2\n");
+        assert!(!base.join("x.csv.tmp").exists());
+    }
 }
