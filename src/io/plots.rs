@@ -639,85 +639,6 @@ fn draw_losses<DB: DrawingBackend>(root: &DrawingArea<DB, Shift>, c: &Losses) ->
     draw_legend(&legend, &entries)
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    /// Rec. 601 luma of a colour, 0..=255 (what a greyscale print keeps).
-    fn luma(c: RGBColor) -> f64 {
-        0.299 * c.0 as f64 + 0.587 * c.1 as f64 + 0.114 * c.2 as f64
-    }
-
-    fn check_lab(lab: (f64, f64, f64), rgb: (u8, u8, u8)) {
-        let (c, _) = lab_to_srgb(lab.0, lab.1, lab.2);
-        for (got, want) in [(c.0, rgb.0), (c.1, rgb.1), (c.2, rgb.2)] {
-            assert!(
-                (got as i32 - want as i32).abs() <= 1,
-                "{lab:?} → {c:?}, expected {rgb:?}"
-            );
-        }
-    }
-
-    #[test]
-    fn lab_to_srgb_reproduces_reference_colours() {
-        // Source: common practice, no source — the sRGB white point and black are the ends
-        // of the scale by definition (tolerance ±1 of 255 for 8-bit rounding).
-        check_lab((100.0, 0.0, 0.0), (255, 255, 255));
-        check_lab((0.0, 0.0, 0.0), (0, 0, 0));
-        // Source: from memory (widely quoted conversion tables): sRGB mid grey #777777 is
-        // L* = 50.0 (±1 of 255 for the two decimals the tables print).
-        check_lab((50.0, 0.0, 0.0), (119, 119, 119));
-        // Source: from memory (widely quoted): pure sRGB red #FF0000 is
-        // L*a*b* = (53.24, 80.09, 67.20) to two decimals.
-        check_lab((53.24, 80.09, 67.20), (255, 0, 0));
-    }
-
-    #[test]
-    fn gain_ramp_is_in_gamut_with_rising_lightness_and_neutral_middle() {
-        // Source: common practice, no source (design rule of the chart: monotone lightness
-        // for greyscale, neutral at zero).
-        let mut last = -1.0;
-        for i in 0..=100 {
-            let t = i as f64 / 100.0;
-            let (l, a, b) = gain_lab(t);
-            assert!(lab_to_srgb(l, a, b).1, "t = {t} out of gamut");
-            assert!(l > last, "lightness not rising at t = {t}");
-            last = l;
-        }
-        let mid = gain_colour(0.5);
-        assert!(mid.0 == mid.1 && mid.1 == mid.2, "{mid:?} is not grey");
-        // Loss end blue-dominant, gain end red+green dominant (orange/gold).
-        let (lo, hi) = (gain_colour(0.0), gain_colour(1.0));
-        assert!(lo.2 > lo.0 && lo.2 > lo.1, "{lo:?}");
-        assert!(hi.0 > hi.2 && hi.1 > hi.2, "{hi:?}");
-    }
-
-    #[test]
-    fn layout_colours_stay_apart_in_greyscale() {
-        // Source: common practice, no source (≥ 40 of 255 luma between neighbours reads as
-        // distinct on paper; our chosen threshold).
-        let mut l: Vec<f64> = LAYOUT_COLOURS.iter().map(|&c| luma(c)).collect();
-        l.sort_by(f64::total_cmp);
-        for w in l.windows(2) {
-            assert!(w[1] - w[0] >= 40.0, "{l:?}");
-        }
-    }
-
-    #[test]
-    fn titles_say_which_layouts_are_shown() {
-        assert_eq!(which_layouts(1, 1), "the one ranked layout");
-        assert_eq!(which_layouts(3, 3), "all 3 ranked layouts");
-        assert_eq!(which_layouts(4, 9), "best 4 of 9 ranked layouts");
-    }
-
-    #[test]
-    fn shorten_keeps_short_names_and_marks_cut_ones() {
-        assert_eq!(shorten("mppt:2s4p", 20), "mppt:2s4p");
-        assert_eq!(shorten("abcdefghij", 5), "abcd…");
-        assert_eq!(shorten("abcdefghij", 5).chars().count(), 5);
-    }
-}
-
 /// The sun's paths over the year seen from a group, with the horizon and the obstacles.
 fn draw_sun_path<DB: DrawingBackend>(
     root: &DrawingArea<DB, Shift>,
@@ -814,4 +735,83 @@ fn draw_sun_path<DB: DrawingBackend>(
         .border_style(BLACK)
         .draw()?;
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Rec. 601 luma of a colour, 0..=255 (what a greyscale print keeps).
+    fn luma(c: RGBColor) -> f64 {
+        0.299 * c.0 as f64 + 0.587 * c.1 as f64 + 0.114 * c.2 as f64
+    }
+
+    fn check_lab(lab: (f64, f64, f64), rgb: (u8, u8, u8)) {
+        let (c, _) = lab_to_srgb(lab.0, lab.1, lab.2);
+        for (got, want) in [(c.0, rgb.0), (c.1, rgb.1), (c.2, rgb.2)] {
+            assert!(
+                (got as i32 - want as i32).abs() <= 1,
+                "{lab:?} → {c:?}, expected {rgb:?}"
+            );
+        }
+    }
+
+    #[test]
+    fn lab_to_srgb_reproduces_reference_colours() {
+        // Source: common practice, no source — the sRGB white point and black are the ends
+        // of the scale by definition (tolerance ±1 of 255 for 8-bit rounding).
+        check_lab((100.0, 0.0, 0.0), (255, 255, 255));
+        check_lab((0.0, 0.0, 0.0), (0, 0, 0));
+        // Source: from memory (widely quoted conversion tables): sRGB mid grey #777777 is
+        // L* = 50.0 (±1 of 255 for the two decimals the tables print).
+        check_lab((50.0, 0.0, 0.0), (119, 119, 119));
+        // Source: from memory (widely quoted): pure sRGB red #FF0000 is
+        // L*a*b* = (53.24, 80.09, 67.20) to two decimals.
+        check_lab((53.24, 80.09, 67.20), (255, 0, 0));
+    }
+
+    #[test]
+    fn gain_ramp_is_in_gamut_with_rising_lightness_and_neutral_middle() {
+        // Source: common practice, no source (design rule of the chart: monotone lightness
+        // for greyscale, neutral at zero).
+        let mut last = -1.0;
+        for i in 0..=100 {
+            let t = i as f64 / 100.0;
+            let (l, a, b) = gain_lab(t);
+            assert!(lab_to_srgb(l, a, b).1, "t = {t} out of gamut");
+            assert!(l > last, "lightness not rising at t = {t}");
+            last = l;
+        }
+        let mid = gain_colour(0.5);
+        assert!(mid.0 == mid.1 && mid.1 == mid.2, "{mid:?} is not grey");
+        // Loss end blue-dominant, gain end red+green dominant (orange/gold).
+        let (lo, hi) = (gain_colour(0.0), gain_colour(1.0));
+        assert!(lo.2 > lo.0 && lo.2 > lo.1, "{lo:?}");
+        assert!(hi.0 > hi.2 && hi.1 > hi.2, "{hi:?}");
+    }
+
+    #[test]
+    fn layout_colours_stay_apart_in_greyscale() {
+        // Source: common practice, no source (≥ 40 of 255 luma between neighbours reads as
+        // distinct on paper; our chosen threshold).
+        let mut l: Vec<f64> = LAYOUT_COLOURS.iter().map(|&c| luma(c)).collect();
+        l.sort_by(f64::total_cmp);
+        for w in l.windows(2) {
+            assert!(w[1] - w[0] >= 40.0, "{l:?}");
+        }
+    }
+
+    #[test]
+    fn titles_say_which_layouts_are_shown() {
+        assert_eq!(which_layouts(1, 1), "the one ranked layout");
+        assert_eq!(which_layouts(3, 3), "all 3 ranked layouts");
+        assert_eq!(which_layouts(4, 9), "best 4 of 9 ranked layouts");
+    }
+
+    #[test]
+    fn shorten_keeps_short_names_and_marks_cut_ones() {
+        assert_eq!(shorten("mppt:2s4p", 20), "mppt:2s4p");
+        assert_eq!(shorten("abcdefghij", 5), "abcd…");
+        assert_eq!(shorten("abcdefghij", 5).chars().count(), 5);
+    }
 }
