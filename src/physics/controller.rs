@@ -444,6 +444,25 @@ mod tests {
     }
 
     #[test]
+    fn pwm_harvest_rises_with_battery_voltage_up_to_the_maximum_power_voltage() {
+        // Source: physics of the clamped operating point — on the flat part of the curve the
+        // current barely changes, so P = V·I grows with the battery's voltage until the knee.
+        let c = curve(1, 2, 1000.0, 0.0);
+        let ctl = ControllerModel::Pwm {
+            switch_drop_v: 0.2,
+            max_input_a: 30.0,
+            max_charge_a: 30.0,
+        };
+        let mut last = 0.0;
+        for v_bat in [11.0, 12.0, 13.0, 14.0, 15.0] {
+            let mut awake = false;
+            let p = ctl.operate(&c, v_bat, &mut awake).output_w;
+            assert!(p > last, "{v_bat} V: {p} W after {last} W");
+            last = p;
+        }
+    }
+
+    #[test]
     fn pwm_holds_the_array_at_battery_voltage() {
         // Source: MODEL.md §9 (PWM: operating voltage = battery + switch drop, no gain).
         let c = curve(1, 2, 1000.0, 0.0);

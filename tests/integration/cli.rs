@@ -169,6 +169,10 @@ fn bad_plans_name_the_key_and_exit_2() {
             "controller.pwm.kind",
         ),
         ("bad_plan_not_toml.toml", "bad_plan_not_toml.toml:"),
+        ("bad_plan_negative_load.toml", "load.daily_wh"),
+        ("bad_plan_efficiency_out_of_range.toml", "battery.round_trip_efficiency_pct"),
+        ("bad_plan_unknown_chemistry.toml", "battery.chemistry"),
+        ("bad_plan_capacity_zero.toml", "battery.capacity_ah"),
     ];
     for (file, needle) in cases {
         let path = fixture(file);

@@ -257,3 +257,18 @@ fn a_local_tracker_never_beats_the_global_one() {
     }
     assert!(some_differ, "shade makes the local tracker lose somewhere");
 }
+
+#[test]
+fn a_huge_battery_without_load_takes_all_the_harvest() {
+    // Source: MODEL.md §11 — with nowhere to curtail to, delivered energy equals what the
+    // controllers offer (the electrical core's figure at the battery's own voltage).
+    let r = run("plan_huge_battery.toml", true);
+    for o in r.outcomes.iter().filter(|o| o.energy.is_some()) {
+        let e = o.energy.as_ref().expect("simulated");
+        let curtailed: f64 = (0..12)
+            .map(|m| e.step_total_wh_month(wirerank::phase2::Step::Curtailed, m))
+            .sum();
+        assert_eq!(curtailed, 0.0, "{}", o.layout.display_name());
+        assert_eq!(e.unmet_wh.iter().sum::<f64>(), 0.0);
+    }
+}
