@@ -420,12 +420,14 @@ pub fn simulate_and_rank(
         .collect();
     let energies = phase2::run(plan, &conditions, &passing, opts);
     let mut energies = energies.into_iter();
+    // P50 is a mean year: a weather file of several years is scaled to one.
+    let hours: f64 = conditions.intervals.iter().map(|i| i.hours).sum();
+    let per_year = if hours > 8784.0 { 8760.0 / hours } else { 1.0 };
     for o in outcomes.iter_mut().filter(|o| !o.rejected()) {
         o.energy = energies.next();
-        o.p90 = o
-            .energy
-            .as_ref()
-            .map(|e| uncertainty::p50_p90(e.annual_delivered_kwh(), &plan.model.uncertainty));
+        o.p90 = o.energy.as_ref().map(|e| {
+            uncertainty::p50_p90(e.annual_delivered_kwh() * per_year, &plan.model.uncertainty)
+        });
     }
     let group_ids: Vec<String> = plan.groups.iter().map(|g| g.id.clone()).collect();
     let light = tally::group_monthly(&conditions, &group_ids);

@@ -112,6 +112,19 @@ pub struct LayoutEnergy {
     pub other_tracking_wh: [f64; 12],
     /// One row per weather interval, when asked for (`--hourly`); empty otherwise.
     pub hourly: Vec<HourRow>,
+    /// Delivered per calendar year of the weather file: (year, hours covered, Wh).
+    pub yearly: Vec<(i32, f64, f64)>,
+}
+
+impl LayoutEnergy {
+    /// Annual totals of the calendar years the weather file covers completely, kWh.
+    pub fn complete_year_totals_kwh(&self) -> Vec<f64> {
+        self.yearly
+            .iter()
+            .filter(|(_, h, _)| *h >= 8759.0)
+            .map(|(_, _, wh)| wh / 1000.0)
+            .collect()
+    }
 }
 
 /// One layout in one interval, for the hourly export (powers are interval means, W).
@@ -452,6 +465,7 @@ fn simulate_layout(
             };
             let m = (info.month - 1) as usize;
             let wh = info.hours;
+            year_add(&mut e.yearly, info.year, wh, 0.0);
             let Some(ic) = &curves[k] else {
                 awake.iter_mut().for_each(|a| *a = false);
                 other_awake.iter_mut().for_each(|a| *a = false);
@@ -521,6 +535,7 @@ fn simulate_layout(
             e.losses_wh[8][m] += (powers.after_input_limit_w - powers.input_w) * wh;
             e.losses_wh[9][m] += (powers.input_w - powers.output_w) * wh;
             e.delivered_wh[m] += powers.output_w * wh;
+            year_add(&mut e.yearly, info.year, 0.0, powers.output_w * wh);
             if any_awake {
                 e.awake_h[m] += wh;
             }
@@ -545,6 +560,17 @@ fn simulate_layout(
         }
     }
     e
+}
+
+/// Adds hours and energy to the running per-year tally (intervals come in time order).
+fn year_add(yearly: &mut Vec<(i32, f64, f64)>, year: i32, hours: f64, wh: f64) {
+    match yearly.last_mut() {
+        Some((y, h, e)) if *y == year => {
+            *h += hours;
+            *e += wh;
+        }
+        _ => yearly.push((year, hours, wh)),
+    }
 }
 
 /// The day being tallied: its number, whether some load went unmet, the lowest state of charge.
@@ -586,6 +612,7 @@ fn settle(
     }
     e.losses_wh[10][m] += f.curtailed_wh;
     e.delivered_wh[m] -= f.curtailed_wh;
+    year_add(&mut e.yearly, info.year, 0.0, -f.curtailed_wh);
     e.load_served_wh[m] += f.load_from_harvest_wh + f.from_battery_wh;
     e.load_from_harvest_wh[m] += f.load_from_harvest_wh;
     e.unmet_wh[m] += f.unmet_wh;

@@ -203,7 +203,21 @@ pub fn ranking(r: &RankResult) -> String {
             u.variability_frac * 100.0,
             u.model_frac * 100.0
         );
+        let z = crate::uncertainty::z_90();
         for o in &ranked {
+            if let Some(spread) = o.energy.as_ref().and_then(|e| {
+                crate::uncertainty::empirical_variability(&e.complete_year_totals_kwh())
+            }) {
+                let _ = writeln!(
+                    out,
+                    "  {:<name_w$} {} complete years in the weather file: mean {:.1} kWh, spread {:.1} % → empirical one-year P90 {:.1} kWh",
+                    o.layout.display_name(),
+                    spread.years,
+                    spread.mean,
+                    spread.sd_frac * 100.0,
+                    spread.mean * (1.0 - z * spread.sd_frac)
+                );
+            }
             if let Some(p) = &o.p90 {
                 let _ = writeln!(
                     out,

@@ -90,7 +90,9 @@ pub struct IntervalInfo {
     /// Local month 1..=12 and hour 0..=23 of the interval start.
     pub month: u32,
     pub hour: u32,
-    /// Local day of the year (1 = 1 January) and whether it is a Saturday or Sunday.
+    /// Local calendar year, day of the year (1 = 1 January) and whether it is a Saturday or
+    /// Sunday.
+    pub year: i32,
     pub day_of_year: u32,
     pub weekend: bool,
     /// Sun at the evaluation point; `None` when dark throughout.
@@ -176,6 +178,10 @@ pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
             hours: dt_s / 3600.0,
             month: weather.local_month(k),
             hour: weather.local_hour(k),
+            year: chrono::DateTime::from_timestamp(weather.local_start_s[k], 0).map_or(0, |d| {
+                use chrono::Datelike;
+                d.year()
+            }),
             day_of_year: weather.local_day_of_year(k),
             weekend: chrono::DateTime::from_timestamp(weather.local_start_s[k], 0).is_some_and(
                 |d| {

@@ -935,7 +935,7 @@ fn validate_battery(ctx: &Ctx, b: &RawBattery) -> Result<Battery, PlanError> {
             model: None,
         });
     };
-    let capacity_ah = ctx.above(cap, "battery.capacity_ah", 0.0, 100_000.0)?;
+    let capacity_ah = ctx.above(cap, "battery.capacity_ah", 0.0, 1e9)?;
     let chemistry = match b.chemistry.as_ref().map(|c| c.get_ref().as_str()) {
         None | Some("lead-acid") => Chemistry::LeadAcid,
         Some("lifepo4") => Chemistry::LiFePo4,

@@ -170,9 +170,15 @@ fn bad_plans_name_the_key_and_exit_2() {
         ),
         ("bad_plan_not_toml.toml", "bad_plan_not_toml.toml:"),
         ("bad_plan_negative_load.toml", "load.daily_wh"),
-        ("bad_plan_efficiency_out_of_range.toml", "battery.round_trip_efficiency_pct"),
+        (
+            "bad_plan_efficiency_out_of_range.toml",
+            "battery.round_trip_efficiency_pct",
+        ),
         ("bad_plan_unknown_chemistry.toml", "battery.chemistry"),
         ("bad_plan_capacity_zero.toml", "battery.capacity_ah"),
+        ("bad_plan_horizon_out_of_order.toml", "site.horizon"),
+        ("bad_plan_obstacle_negative_radius.toml", "obstacle[1]"),
+        ("bad_plan_module_inside_obstacle.toml", "shed-1"),
     ];
     for (file, needle) in cases {
         let path = fixture(file);

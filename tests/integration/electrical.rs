@@ -272,3 +272,20 @@ fn a_huge_battery_without_load_takes_all_the_harvest() {
         assert_eq!(e.unmet_wh.iter().sum::<f64>(), 0.0);
     }
 }
+
+#[test]
+fn several_weather_years_give_an_empirical_spread() {
+    // Source: the file's construction — the second year repeats the first with 15 % less
+    // sunshine, so annual energy differs between the years by several per cent (less than
+    // 15 %: the battery and the load flatten it).
+    let r = run("plan_two_years.toml", true);
+    let best = &r.outcomes[0];
+    let totals = best
+        .energy
+        .as_ref()
+        .expect("ranked")
+        .complete_year_totals_kwh();
+    assert_eq!(totals.len(), 2, "{totals:?}");
+    let spread = wirerank::uncertainty::empirical_variability(&totals).expect("two years");
+    assert!(spread.sd_frac > 0.0 && spread.sd_frac < 0.15, "{spread:?}");
+}
