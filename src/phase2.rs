@@ -433,6 +433,9 @@ fn simulate_layout(
         .iter()
         .map(|w| plan.controllers[w.controller].model.with_other_tracking())
         .collect();
+    // The tracker comparison is for plans with partial shade (MODEL.md §9, issue on shading):
+    // without shade the array has one maximum and both trackers agree.
+    let compare_trackers = !plan.shade.is_empty() || !plan.geometry.is_empty();
     let mut scratch = Scratch::default();
     let used: Vec<usize> = layout
         .inputs
@@ -521,8 +524,19 @@ fn simulate_layout(
             for (wi, w) in layout.inputs.iter().enumerate() {
                 let c = &plan.controllers[w.controller];
                 build_input_curves(plan, ic, w, r_lead, r_main[wi], &mut scratch);
+                let was_awake = awake[wi];
                 let p = c.model.operate(&scratch.array, battery_v, &mut awake[wi]);
-                let alt = other_models[wi].operate(&scratch.array, battery_v, &mut other_awake[wi]);
+                // The other tracker can only differ where the curve has several maxima (or its
+                // wake state has already drifted); otherwise it settles on the same point.
+                let alt = if !compare_trackers
+                    || (other_awake[wi] == was_awake
+                        && scratch.array.local_maxima(0.0, scratch.array.voc_v()).len() <= 1)
+                {
+                    other_awake[wi] = awake[wi];
+                    p
+                } else {
+                    other_models[wi].operate(&scratch.array, battery_v, &mut other_awake[wi])
+                };
                 e.other_tracking_wh[m] += alt.output_w * wh;
                 cable_w += joule_loss_w(&scratch, &ic.grid, p.available_v, r_lead, r_main[wi]);
                 any_awake |= p.awake;

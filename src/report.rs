@@ -239,7 +239,8 @@ pub fn ranking(r: &RankResult) -> String {
         .iter()
         .filter_map(|o| {
             let e = o.energy.as_ref()?;
-            let own = e.annual_delivered_kwh();
+            // Both as offered by the controllers (before a full battery curtails).
+            let own = e.annual_delivered_kwh() + e.step_total_wh(Step::Curtailed as usize) / 1000.0;
             let other = e.other_tracking_wh.iter().sum::<f64>() / 1000.0;
             ((own - other).abs() >= 0.05).then_some((o, own, other))
         })
@@ -253,7 +254,7 @@ pub fn ranking(r: &RankResult) -> String {
         for (o, own, other) in differs {
             let _ = writeln!(
                 out,
-                "  {}: {own:.1} kWh as planned, {other:.1} kWh with the other tracker ({:+.1} kWh)",
+                "  {}: {own:.1} kWh offered as planned, {other:.1} kWh with the other tracker ({:+.1} kWh)",
                 o.layout.display_name(),
                 other - own
             );

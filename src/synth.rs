@@ -1655,6 +1655,7 @@ fn synthesize_wind(
     let mut rng = StdRng::seed_from_u64(seed ^ STREAM_WIND);
     let standard = Normal::standard();
     let day_factor =
+        // ok: constant parameters, checked by a unit test.
         Gamma::new(WIND_DAY_SHAPE, WIND_DAY_SHAPE).expect("constant gamma parameters are valid");
     let mut wind = Vec::with_capacity(days * 24);
     let mut z: f64 = 0.0;
