@@ -193,6 +193,17 @@ pub struct Loaded {
     pub weather_sha256: String,
 }
 
+impl Loaded {
+    /// The weather file's repair warnings, as text for stderr.
+    pub fn warning_texts(&self) -> Vec<String> {
+        self.weather
+            .warnings
+            .iter()
+            .map(|w| w.to_string())
+            .collect()
+    }
+}
+
 /// Reads and validates a plan, its weather file and the site they describe together.
 ///
 /// # Errors
@@ -496,13 +507,7 @@ fn rank(r: &RankRequest) -> Result<Outcome, Error> {
     }
     Ok(Outcome {
         stdout,
-        warnings: result
-            .loaded
-            .weather
-            .warnings
-            .iter()
-            .map(|w| w.to_string())
-            .collect(),
+        warnings: result.loaded.warning_texts(),
         nothing_passed,
     })
 }
@@ -547,13 +552,7 @@ fn check(source: &PlanSource) -> Result<Outcome, Error> {
         .count();
     Ok(Outcome {
         stdout: report::check(&r),
-        warnings: r
-            .loaded
-            .weather
-            .warnings
-            .iter()
-            .map(|w| w.to_string())
-            .collect(),
+        warnings: r.loaded.warning_texts(),
         nothing_passed: passed == 0,
     })
 }
@@ -656,13 +655,7 @@ fn shade(source: &PlanSource, out: Option<&Path>) -> Result<Outcome, Error> {
     }
     Ok(Outcome {
         stdout,
-        warnings: r
-            .loaded
-            .weather
-            .warnings
-            .iter()
-            .map(|w| w.to_string())
-            .collect(),
+        warnings: r.loaded.warning_texts(),
         nothing_passed: false,
     })
 }
