@@ -52,11 +52,19 @@ pub fn ranking(r: &RankResult) -> String {
     let mut out = String::new();
     site_header(&mut out, &r.loaded);
     let plan = &r.loaded.plan;
+    let battery = match &plan.battery.model {
+        Some(b) => format!(
+            "battery {:.0} Ah {:.0} V {} (charging voltage follows its state; energy counts what the battery and the load take)",
+            b.params().capacity_ah,
+            b.params().nominal_v,
+            b.params().chemistry.key()
+        ),
+        None => format!("battery charged at {:.1} V", plan.battery.charge_v),
+    };
     let _ = writeln!(
         out,
-        "{} modules, battery {:.1} V; limits checked at {:.0} °C (coldest) and {:.0} °C (hottest air)",
+        "{} modules, {battery}; limits checked at {:.0} °C (coldest) and {:.0} °C (hottest air)",
         plan.modules.len(),
-        plan.battery.charge_v,
         r.temps.min_air_c,
         r.temps.max_air_c
     );
