@@ -282,15 +282,16 @@ pub struct Sizing {
 fn size_battery(
     plan: &Plan,
     cond: &simulate::Conditions,
+    curves: &[Option<phase2::IntervalCurves>],
     best: &layouts::Layout,
 ) -> Option<Sizing> {
     let consumption = plan.consumption.as_ref()?;
     let spec = plan.battery.model.as_ref()?;
-    let curves = phase2::all_interval_curves(plan, cond, true);
+
     let e = phase2::simulate_layouts(
         plan,
         cond,
-        &curves,
+        curves,
         &[best],
         phase2::RunOptions {
             parallel: false,
@@ -429,7 +430,9 @@ pub fn simulate_and_rank(
         .filter(|o| !o.rejected())
         .map(|o| &o.layout)
         .collect();
-    let energies = phase2::run(plan, &conditions, &passing, opts);
+    // The substring curves are shared by the ranking and the battery sizing below.
+    let curves = phase2::all_interval_curves(plan, &conditions, opts.parallel);
+    let energies = phase2::simulate_layouts(plan, &conditions, &curves, &passing, opts);
     let mut energies = energies.into_iter();
     // P50 is a mean year: a weather file of several years is scaled to one.
     let hours: f64 = conditions.intervals.iter().map(|i| i.hours).sum();
@@ -449,7 +452,7 @@ pub fn simulate_and_rank(
     let sizing = outcomes
         .iter()
         .find(|o| o.rank == Some(1))
-        .and_then(|o| size_battery(plan, &conditions, &o.layout));
+        .and_then(|o| size_battery(plan, &conditions, &curves, &o.layout));
     Ok(RankResult {
         loaded,
         criterion,
