@@ -260,6 +260,175 @@ pub struct RankResult {
     pub pruned: Vec<(&'static str, usize)>,
     /// With a load and a battery: the smallest battery for the best layout.
     pub sizing: Option<Sizing>,
+    /// With a load and a battery: the fewest extra modules for the best layout.
+    pub module_sizing: Option<ModuleSizing>,
+}
+
+/// The sizing helper's second answer: how many modules to add to the best layout, wired by
+/// the same rule (more strings of the same make-up in parallel), to bring its unmet load to
+/// the plan's target at the plan's battery.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ModuleSizing {
+    pub layout: String,
+    /// Unmet load the search aimed at, kWh per year.
+    pub target_unmet_kwh: f64,
+    /// The best layout's own unmet load, kWh per year.
+    pub unmet_kwh: f64,
+    /// What was found.
+    pub answer: ModuleAnswer,
+}
+
+/// Outcome of the extra-module search.
+#[derive(Clone, Debug, PartialEq)]
+pub enum ModuleAnswer {
+    /// The layout already meets the target.
+    NoneNeeded,
+    /// `modules` more (in `strings` more strings) meet the target; one string fewer does not.
+    Found {
+        modules: usize,
+        strings: usize,
+        /// Code of the enlarged layout.
+        code: String,
+        /// Its unmet load, kWh per year.
+        unmet_kwh: f64,
+    },
+    /// No count up to the search's end meets the target.
+    NotReached {
+        /// Extra modules in the largest layout tried.
+        tried_modules: usize,
+        /// Its unmet load, kWh per year.
+        unmet_kwh: f64,
+        /// Why the search ended: an electrical limit (rule and message) or its size cap.
+        stopped: String,
+    },
+}
+
+/// The search adds strings until the array has this many times its modules (or
+/// [`MODULE_SEARCH_MAX_STRINGS`] strings), whichever comes first.
+pub const MODULE_SEARCH_MAX_FACTOR: usize = 4;
+/// At most this many strings are added.
+pub const MODULE_SEARCH_MAX_STRINGS: usize = 40;
+
+/// The layout with one more string on some input: a copy of that input's first string (same
+/// modules, so the same orientation, shade and module type), on the input with the fewest
+/// strings that can take it without breaking a hard limit. `Err` carries the reason of the
+/// first input's refusal when none can.
+fn add_one_string(
+    plan: &Plan,
+    temps: &limits::DesignTemperatures,
+    current: &layouts::Layout,
+) -> Result<layouts::Layout, String> {
+    let mut order: Vec<usize> = (0..current.inputs.len())
+        .filter(|&i| !current.inputs[i].strings.is_empty())
+        .collect();
+    order.sort_by_key(|&i| (current.inputs[i].strings.len(), i));
+    let mut first_refusal = None;
+    for i in order {
+        let mut inputs = current.inputs.clone();
+        let copy = inputs[i].strings[0].clone();
+        inputs[i].strings.push(copy);
+        let candidate = layouts::make_layout(plan, None, inputs);
+        let rejects: Vec<String> = limits::check_layout(plan, &candidate, temps)
+            .into_iter()
+            .filter(|f| f.severity == limits::Severity::Reject)
+            .map(|f| format!("{}: {}", f.rule, f.message))
+            .collect();
+        if rejects.is_empty() {
+            return Ok(candidate);
+        }
+        first_refusal.get_or_insert_with(|| {
+            format!(
+                "another string would break a limit ({})",
+                rejects.join("; ")
+            )
+        });
+    }
+    Err(first_refusal.unwrap_or_else(|| "the layout has no string to copy".to_string()))
+}
+
+/// Smallest number of extra modules (whole strings, same wiring rule) that brings the best
+/// layout's unmet load to the plan's target, found by simulating each count in turn, so that
+/// the answer is the first count that meets it (every smaller count was simulated and fails).
+fn size_modules(
+    plan: &Plan,
+    cond: &simulate::Conditions,
+    curves: &[Option<phase2::IntervalCurves>],
+    temps: &limits::DesignTemperatures,
+    best: &rank::LayoutOutcome,
+) -> Option<ModuleSizing> {
+    let consumption = plan.consumption.as_ref()?;
+    plan.battery.model.as_ref()?;
+    let e = best.energy.as_ref()?;
+    let per_year = per_year_factor(cond);
+    let unmet_kwh = |e: &phase2::LayoutEnergy| e.unmet_wh.iter().sum::<f64>() * per_year / 1000.0;
+    let target_kwh = consumption.unmet_target_wh / 1000.0;
+    let meets = |u: f64| u <= target_kwh + 1e-9;
+    let base = best.layout.modules_used;
+    let mut out = ModuleSizing {
+        layout: best.layout.display_name(),
+        target_unmet_kwh: target_kwh,
+        unmet_kwh: unmet_kwh(e),
+        answer: ModuleAnswer::NoneNeeded,
+    };
+    if meets(out.unmet_kwh) {
+        return Some(out);
+    }
+    let mut current = best.layout.clone();
+    let mut last_unmet = out.unmet_kwh;
+    for strings in 1..=MODULE_SEARCH_MAX_STRINGS {
+        let next = match add_one_string(plan, temps, &current) {
+            Ok(l) => l,
+            Err(why) => {
+                out.answer = ModuleAnswer::NotReached {
+                    tried_modules: current.modules_used - base,
+                    unmet_kwh: last_unmet,
+                    stopped: why,
+                };
+                return Some(out);
+            }
+        };
+        if next.modules_used > MODULE_SEARCH_MAX_FACTOR * base {
+            break;
+        }
+        current = next;
+        let e = phase2::simulate_layouts(
+            plan,
+            cond,
+            curves,
+            &[&current],
+            phase2::RunOptions::default(),
+        )
+        .pop()?;
+        last_unmet = unmet_kwh(&e);
+        if meets(last_unmet) {
+            out.answer = ModuleAnswer::Found {
+                modules: current.modules_used - base,
+                strings,
+                code: current.code.clone(),
+                unmet_kwh: last_unmet,
+            };
+            return Some(out);
+        }
+    }
+    out.answer = ModuleAnswer::NotReached {
+        tried_modules: current.modules_used - base,
+        unmet_kwh: last_unmet,
+        stopped: format!(
+            "the search stops at {MODULE_SEARCH_MAX_FACTOR}× the layout's modules or {MODULE_SEARCH_MAX_STRINGS} added strings"
+        ),
+    };
+    Some(out)
+}
+
+/// Years covered by the conditions' intervals, as a factor that turns a total over the
+/// file into a mean year (1 for a year or less).
+fn per_year_factor(cond: &simulate::Conditions) -> f64 {
+    let hours: f64 = cond.intervals.iter().map(|i| i.hours).sum();
+    if hours > 8784.0 {
+        8760.0 / hours
+    } else {
+        1.0
+    }
 }
 
 /// The sizing helper's answer for the best layout.
@@ -312,12 +481,14 @@ fn size_battery(
     let hours = cond.intervals.first().map_or(1.0, |i| i.hours);
     let series = physics::battery::Series::new(&harvest, &month, &hour, &weekend, hours).ok()?;
     let limit_ah = 100.0 * spec.params().capacity_ah.max(consumption.battery_step_ah);
+    // The target is per year; the series may cover several.
+    let years = 1.0 / per_year_factor(cond);
     let found = physics::battery::smallest_battery_ah(
         spec.params(),
         &consumption.load,
         &series,
         consumption.battery_step_ah,
-        consumption.unmet_target_wh,
+        consumption.unmet_target_wh * years,
         limit_ah,
     )
     .ok()?;
@@ -435,8 +606,7 @@ pub fn simulate_and_rank(
     let energies = phase2::simulate_layouts(plan, &conditions, &curves, &passing, opts);
     let mut energies = energies.into_iter();
     // P50 is a mean year: a weather file of several years is scaled to one.
-    let hours: f64 = conditions.intervals.iter().map(|i| i.hours).sum();
-    let per_year = if hours > 8784.0 { 8760.0 / hours } else { 1.0 };
+    let per_year = per_year_factor(&conditions);
     for o in outcomes.iter_mut().filter(|o| !o.rejected()) {
         o.energy = energies.next();
         o.p90 = o.energy.as_ref().map(|e| {
@@ -449,10 +619,9 @@ pub fn simulate_and_rank(
     let months_present = tally::months_present(&conditions);
     let winter_months = rank::winter_months(&horizontal_kwh_m2, &months_present);
     rank::rank(&mut outcomes, criterion, &months_present, &winter_months);
-    let sizing = outcomes
-        .iter()
-        .find(|o| o.rank == Some(1))
-        .and_then(|o| size_battery(plan, &conditions, &curves, &o.layout));
+    let best = outcomes.iter().find(|o| o.rank == Some(1));
+    let sizing = best.and_then(|o| size_battery(plan, &conditions, &curves, &o.layout));
+    let module_sizing = best.and_then(|o| size_modules(plan, &conditions, &curves, &temps, o));
     Ok(RankResult {
         loaded,
         criterion,
@@ -465,6 +634,7 @@ pub fn simulate_and_rank(
         listed: candidates.listed,
         pruned: candidates.pruned,
         sizing,
+        module_sizing,
     })
 }
 

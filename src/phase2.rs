@@ -419,6 +419,19 @@ fn simulate_layout(
     layout: &Layout,
     hourly: bool,
 ) -> LayoutEnergy {
+    simulate_layout_with(plan, cond, curves, layout, hourly, true)
+}
+
+/// [`simulate_layout`], with the choice of rebuilding every array curve in the second pass
+/// (`reuse_kept = false`) instead of reusing the first pass's, for the test that both agree.
+fn simulate_layout_with(
+    plan: &Plan,
+    cond: &Conditions,
+    curves: &[Option<IntervalCurves>],
+    layout: &Layout,
+    hourly: bool,
+    reuse_kept: bool,
+) -> LayoutEnergy {
     let mut e = LayoutEnergy {
         min_soc_frac: [f64::NAN; 12],
         ..LayoutEnergy::default()
@@ -450,7 +463,16 @@ fn simulate_layout(
     let mut state = spec.map(|b| b.initial_state());
     let passes = if spec.is_some() { 2 } else { 1 };
     let mut day = DayTrack::default();
+    // Neither an input's array curve nor its cable loss depends on the battery: pass 1 keeps
+    // them (one entry per input per sunlit interval) and pass 2 reuses them, so the second
+    // pass costs only the controllers and the battery.
+    let n_inputs = layout.inputs.len();
+    let mut kept_curves: Vec<ArrayCurve> = Vec::new();
+    let mut kept_cable_w: Vec<f64> = Vec::new();
     for pass in 0..passes {
+        let keep = reuse_kept && passes > 1 && pass == 0;
+        let reuse = reuse_kept && pass > 0;
+        let mut sunlit = 0usize;
         if pass > 0 {
             e = LayoutEnergy {
                 min_soc_frac: [f64::NAN; 12],
@@ -523,25 +545,43 @@ fn simulate_layout(
             };
             for (wi, w) in layout.inputs.iter().enumerate() {
                 let c = &plan.controllers[w.controller];
-                build_input_curves(plan, ic, w, r_lead, r_main[wi], &mut scratch);
+                let slot = sunlit * n_inputs + wi;
+                if !reuse {
+                    build_input_curves(plan, ic, w, r_lead, r_main[wi], &mut scratch);
+                }
+                let array = if reuse {
+                    &kept_curves[slot]
+                } else {
+                    &scratch.array
+                };
                 let was_awake = awake[wi];
-                let p = c.model.operate(&scratch.array, battery_v, &mut awake[wi]);
+                let p = c.model.operate(array, battery_v, &mut awake[wi]);
                 // The other tracker can only differ where the curve has several maxima (or its
                 // wake state has already drifted); otherwise it settles on the same point.
                 let alt = if !compare_trackers
                     || (other_awake[wi] == was_awake
-                        && scratch.array.local_maxima(0.0, scratch.array.voc_v()).len() <= 1)
+                        && array.local_maxima(0.0, array.voc_v()).len() <= 1)
                 {
                     other_awake[wi] = awake[wi];
                     p
                 } else {
-                    other_models[wi].operate(&scratch.array, battery_v, &mut other_awake[wi])
+                    other_models[wi].operate(array, battery_v, &mut other_awake[wi])
                 };
                 e.other_tracking_wh[m] += alt.output_w * wh;
-                cable_w += joule_loss_w(&scratch, &ic.grid, p.available_v, r_lead, r_main[wi]);
+                let joule_w = if reuse {
+                    kept_cable_w[slot]
+                } else {
+                    joule_loss_w(&scratch, &ic.grid, p.available_v, r_lead, r_main[wi])
+                };
+                if keep {
+                    kept_curves.push(scratch.array.clone());
+                    kept_cable_w.push(joule_w);
+                }
+                cable_w += joule_w;
                 any_awake |= p.awake;
                 sum(&mut powers, &p);
             }
+            sunlit += 1;
             e.losses_wh[4][m] += (sub_mpp_sum - powers.available_w - cable_w) * wh;
             e.losses_wh[5][m] += cable_w * wh;
             e.losses_wh[6][m] += (powers.available_w - powers.after_window_w) * wh;
@@ -571,6 +611,10 @@ fn simulate_layout(
             if let (Some(b), Some(st)) = (spec, state.as_mut()) {
                 settle(b, load, st, &mut e, &mut day, info, powers.output_w * wh);
             }
+        }
+        // The last day ends with the file.
+        if let (Some(st), Some(_)) = (&state, day.day) {
+            e.daily_soc_frac.push(st.soc_frac);
         }
     }
     e
@@ -796,4 +840,28 @@ pub fn run(
 ) -> Vec<LayoutEnergy> {
     let curves = all_interval_curves(plan, cond, opts.parallel);
     simulate_layouts(plan, cond, &curves, layouts, opts)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::{layouts, load, simulate, PlanSource};
+
+    /// The second pass's reuse of the first pass's array curves and cable losses is an
+    /// optimisation only: results must be bit-identical to rebuilding them.
+    /// Source: none needed, it is a self-consistency check (common practice, no source).
+    #[test]
+    fn reused_curves_give_the_same_bits_as_rebuilt_ones() {
+        let loaded = load(&PlanSource::Demo).expect("demo loads");
+        let plan = &loaded.plan;
+        assert!(plan.battery.model.is_some(), "the demo has a battery model");
+        let cond = simulate::phase1(plan, &loaded.weather, &loaded.site);
+        let curves = all_interval_curves(plan, &cond, false);
+        for layout in layouts::listed(plan).iter().take(4) {
+            let a = simulate_layout_with(plan, &cond, &curves, layout, true, true);
+            let b = simulate_layout_with(plan, &cond, &curves, layout, true, false);
+            assert_eq!(a, b, "{}", layout.display_name());
+            assert!(a.delivered_wh.iter().sum::<f64>() > 0.0);
+        }
+    }
 }

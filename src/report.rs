@@ -14,7 +14,7 @@ use crate::physics::sun::{self, Atmosphere, Observer};
 use crate::physics::wiring::ArrayCurve;
 use crate::tally::GroupMonthly;
 use crate::{
-    CheckResult, CurveRequest, CurveTarget, Loaded, Outcome, RankResult, ShadeResult,
+    CheckResult, CurveRequest, CurveTarget, Loaded, ModuleAnswer, Outcome, RankResult, ShadeResult,
     SunpathRequest,
 };
 
@@ -451,6 +451,37 @@ fn outlook(r: &RankResult, ranked: &[&crate::rank::LayoutOutcome]) -> String {
             out,
             "  Smallest battery for {} to keep unmet load at or below {:.1} kWh a year (steps of {:.0} Ah): {answer}",
             s.layout, s.target_unmet_kwh, s.step_ah
+        );
+    }
+    if let Some(m) = &r.module_sizing {
+        let answer = match &m.answer {
+            ModuleAnswer::NoneNeeded => format!(
+                "none needed (it leaves {:.1} kWh a year unmet)",
+                m.unmet_kwh
+            ),
+            ModuleAnswer::Found {
+                modules,
+                strings,
+                code,
+                unmet_kwh,
+            } => format!(
+                "{modules} more module{} ({strings} more string{} of the same make-up: {code}), leaving {unmet_kwh:.1} kWh a year unmet instead of {:.1}; one string fewer falls short",
+                if *modules == 1 { "" } else { "s" },
+                if *strings == 1 { "" } else { "s" },
+                m.unmet_kwh
+            ),
+            ModuleAnswer::NotReached {
+                tried_modules,
+                unmet_kwh,
+                stopped,
+            } => format!(
+                "not reached: with {tried_modules} more modules {unmet_kwh:.1} kWh a year is still unmet, and {stopped}"
+            ),
+        };
+        let _ = writeln!(
+            out,
+            "  Fewest extra modules for {} at the planned battery, same wiring rule: {answer}",
+            m.layout
         );
     }
     out

@@ -21,7 +21,7 @@ use polars::prelude::{Column, CsvWriter, DataFrame, PolarsError, SerWriter};
 use crate::error::Error;
 use crate::io::plots::{self, Chart};
 use crate::limits::Severity;
-use crate::phase2::Step;
+use crate::phase2::{LayoutEnergy, Step};
 use crate::physics::controller::{ControllerModel, TrackerMode};
 use crate::physics::thermal::CellTemperatureModel;
 use crate::rank::{Criterion, LayoutOutcome};
@@ -35,7 +35,7 @@ pub const HOURLY_CSV: &str = "hourly.csv";
 pub const PROVENANCE_TXT: &str = "provenance.txt";
 
 /// Columns of monthly.csv, in order.
-pub const MONTHLY_COLUMNS: [&str; 7] = [
+pub const MONTHLY_COLUMNS: [&str; 13] = [
     "layout",
     "rank",
     "month",
@@ -43,9 +43,15 @@ pub const MONTHLY_COLUMNS: [&str; 7] = [
     "low_sun_kwh",
     "awake_h",
     "clipped_kwh",
+    "harvested_kwh",
+    "curtailed_kwh",
+    "used_kwh",
+    "unmet_kwh",
+    "unmet_days",
+    "lowest_soc_pct",
 ];
 /// Columns of summary.csv, in order.
-pub const SUMMARY_COLUMNS: [&str; 18] = [
+pub const SUMMARY_COLUMNS: [&str; 23] = [
     "rank",
     "layout",
     "code",
@@ -58,7 +64,12 @@ pub const SUMMARY_COLUMNS: [&str; 18] = [
     "awake_h",
     "p90_1y_kwh",
     "p90_10y_kwh",
+    "harvested_kwh",
+    "curtailed_kwh",
+    "used_kwh",
     "unmet_kwh",
+    "unmet_days",
+    "lowest_soc_pct",
     "modules_used",
     "mixed_orientation",
     "reasons",
@@ -244,11 +255,86 @@ fn step_index(step: Step) -> usize {
     Step::ALL.iter().position(|&s| s == step).unwrap_or(0)
 }
 
+/// The battery-and-load figures of one layout in one month (or the year, `None`): cells
+/// that stay empty without a load (used, unmet, days) or without a battery model (lowest
+/// state of charge).
+struct BatteryCells {
+    harvested_kwh: f64,
+    curtailed_kwh: f64,
+    used_kwh: Option<f64>,
+    unmet_kwh: Option<f64>,
+    unmet_days: Option<i64>,
+    lowest_soc_pct: Option<f64>,
+}
+
+fn battery_cells(r: &RankResult, e: &LayoutEnergy, month: Option<usize>) -> BatteryCells {
+    let months: Vec<usize> = match month {
+        Some(m) => vec![m],
+        None => (0..12).collect(),
+    };
+    let sum = |v: &[f64; 12]| months.iter().map(|&m| v[m]).sum::<f64>();
+    let curtailed = sum(&e.losses_wh[step_index(Step::Curtailed)]);
+    let with_load = r.loaded.plan.consumption.is_some();
+    // NaN marks a month without intervals (or no battery model): no lowest value there.
+    let lowest = months
+        .iter()
+        .map(|&m| e.min_soc_frac[m])
+        .filter(|x| !x.is_nan())
+        .fold(None, |a: Option<f64>, x| Some(a.map_or(x, |a| a.min(x))));
+    BatteryCells {
+        harvested_kwh: (sum(&e.delivered_wh) + curtailed) / 1000.0,
+        curtailed_kwh: curtailed / 1000.0,
+        used_kwh: with_load.then(|| sum(&e.load_served_wh) / 1000.0),
+        unmet_kwh: with_load.then(|| sum(&e.unmet_wh) / 1000.0),
+        unmet_days: with_load.then(|| months.iter().map(|&m| i64::from(e.unmet_days[m])).sum()),
+        lowest_soc_pct: lowest
+            .filter(|_| r.loaded.plan.battery.model.is_some())
+            .map(|x| 100.0 * x),
+    }
+}
+
+/// Columns of [`BatteryCells`], filled row by row.
+#[derive(Default)]
+struct BatteryColumns {
+    harvested: Vec<Option<f64>>,
+    curtailed: Vec<Option<f64>>,
+    used: Vec<Option<f64>>,
+    unmet: Vec<Option<f64>>,
+    unmet_days: Vec<Option<i64>>,
+    lowest_soc: Vec<Option<f64>>,
+}
+
+impl BatteryColumns {
+    fn push(&mut self, c: Option<BatteryCells>) {
+        self.harvested.push(c.as_ref().map(|c| c.harvested_kwh));
+        self.curtailed.push(c.as_ref().map(|c| c.curtailed_kwh));
+        self.used.push(c.as_ref().and_then(|c| c.used_kwh));
+        self.unmet.push(c.as_ref().and_then(|c| c.unmet_kwh));
+        self.unmet_days.push(c.as_ref().and_then(|c| c.unmet_days));
+        self.lowest_soc
+            .push(c.as_ref().and_then(|c| c.lowest_soc_pct));
+    }
+
+    /// The six columns under the names `names` (harvested, curtailed, used, unmet, unmet
+    /// days, lowest state of charge).
+    fn columns(self, names: &[&str]) -> [Column; 6] {
+        [
+            col(names[0], self.harvested),
+            col(names[1], self.curtailed),
+            col(names[2], self.used),
+            col(names[3], self.unmet),
+            col(names[4], self.unmet_days),
+            col(names[5], self.lowest_soc),
+        ]
+    }
+}
+
 fn monthly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     let clip = step_index(Step::Clipping);
     let (mut layout, mut rank, mut month) = (Vec::new(), Vec::new(), Vec::new());
     let (mut energy, mut low_sun, mut awake, mut clipped) =
         (Vec::new(), Vec::new(), Vec::new(), Vec::new());
+    let mut battery = BatteryColumns::default();
     for o in ranked(r) {
         let Some(e) = &o.energy else { continue };
         for m in 0..12 {
@@ -259,21 +345,21 @@ fn monthly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
             low_sun.push(e.low_sun_wh[m] / 1000.0);
             awake.push(e.awake_h[m]);
             clipped.push(e.losses_wh[clip][m] / 1000.0);
+            battery.push(Some(battery_cells(r, e, Some(m))));
         }
     }
     let c = &MONTHLY_COLUMNS;
-    frame(
-        c,
-        vec![
-            col(c[0], layout),
-            col(c[1], rank),
-            col(c[2], month),
-            col(c[3], energy),
-            col(c[4], low_sun),
-            col(c[5], awake),
-            col(c[6], clipped),
-        ],
-    )
+    let mut columns = vec![
+        col(c[0], layout),
+        col(c[1], rank),
+        col(c[2], month),
+        col(c[3], energy),
+        col(c[4], low_sun),
+        col(c[5], awake),
+        col(c[6], clipped),
+    ];
+    columns.extend(battery.columns(&c[7..13]));
+    frame(c, columns)
 }
 
 /// Findings of one severity as `rule: message` joined by [`LIST_SEPARATOR`].
@@ -304,7 +390,7 @@ fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     let mut awake: Vec<Option<f64>> = Vec::with_capacity(n);
     let mut p90_1y: Vec<Option<f64>> = Vec::with_capacity(n);
     let mut p90_10y: Vec<Option<f64>> = Vec::with_capacity(n);
-    let mut unmet: Vec<Option<f64>> = Vec::with_capacity(n);
+    let mut battery = BatteryColumns::default();
     let (mut modules, mut mixed, mut reasons, mut warnings) =
         (Vec::new(), Vec::new(), Vec::new(), Vec::new());
     let mut cautions: Vec<Option<String>> = Vec::with_capacity(n);
@@ -335,10 +421,7 @@ fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
         awake.push(e.map(|e| e.awake_h.iter().sum::<f64>()));
         p90_1y.push(o.p90.map(|p| p.p90_1y));
         p90_10y.push(o.p90.map(|p| p.p90_10y));
-        unmet.push(
-            e.filter(|_| r.loaded.plan.consumption.is_some())
-                .map(|e| e.unmet_wh.iter().sum::<f64>() / 1000.0),
-        );
+        battery.push(e.map(|e| battery_cells(r, e, None)));
         modules.push(o.layout.modules_used as i64);
         mixed.push(o.layout.mixed_orientation);
         reasons.push(findings(o, Severity::Reject));
@@ -346,29 +429,29 @@ fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
         cautions.push((i == 0).then(cautions_one_line));
     }
     let c = &SUMMARY_COLUMNS;
-    frame(
-        c,
-        vec![
-            col(c[0], rank),
-            col(c[1], layout),
-            col(c[2], code),
-            col(c[3], status),
-            col(c[4], score),
-            col(c[5], annual),
-            col(c[6], worst),
-            col(c[7], worst_kwh),
-            col(c[8], low_sun),
-            col(c[9], awake),
-            col(c[10], p90_1y),
-            col(c[11], p90_10y),
-            col(c[12], unmet),
-            col(c[13], modules),
-            col(c[14], mixed),
-            col(c[15], reasons),
-            col(c[16], warnings),
-            col(c[17], cautions),
-        ],
-    )
+    let mut columns = vec![
+        col(c[0], rank),
+        col(c[1], layout),
+        col(c[2], code),
+        col(c[3], status),
+        col(c[4], score),
+        col(c[5], annual),
+        col(c[6], worst),
+        col(c[7], worst_kwh),
+        col(c[8], low_sun),
+        col(c[9], awake),
+        col(c[10], p90_1y),
+        col(c[11], p90_10y),
+    ];
+    columns.extend(battery.columns(&c[12..18]));
+    columns.extend([
+        col(c[18], modules),
+        col(c[19], mixed),
+        col(c[20], reasons),
+        col(c[21], warnings),
+        col(c[22], cautions),
+    ]);
+    frame(c, columns)
 }
 
 fn losses_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {

@@ -16,7 +16,7 @@ use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
-use crate::phase2::Step;
+use crate::phase2::{Step, STEPS};
 use crate::RankResult;
 
 /// Picture width, pixels.
@@ -94,9 +94,31 @@ pub struct GainMap {
 #[derive(Clone, Debug, PartialEq)]
 pub struct Losses {
     /// (legend label, kWh per step in `Step::ALL` order), best first.
-    pub layouts: Vec<(String, [f64; 10])>,
+    pub layouts: Vec<(String, [f64; STEPS])>,
     pub ranked: usize,
 }
+
+/// State of charge at the end of each day for the best two layouts (with a battery model).
+#[derive(Clone, Debug, PartialEq)]
+pub struct DailySoc {
+    /// (legend label, state of charge at the end of each day of the weather file, %).
+    pub layouts: Vec<(String, Vec<f64>)>,
+    /// The lowest state of charge the battery may reach (100 − usable depth), %.
+    pub floor_pct: f64,
+    pub ranked: usize,
+}
+
+/// Load left unserved per month for the best few layouts (with a load).
+#[derive(Clone, Debug, PartialEq)]
+pub struct MonthlyUnmet {
+    /// (legend label, unmet kWh per month January first), best first.
+    pub layouts: Vec<(String, [f64; 12])>,
+    pub ranked: usize,
+}
+
+/// At most this many layouts in the daily state-of-charge chart (two lines stay readable
+/// over 365 days; more become a tangle).
+pub const MAX_SOC_LAYOUTS: usize = 2;
 
 /// One chart with its data.
 #[derive(Clone, Debug, PartialEq)]
@@ -105,6 +127,8 @@ pub enum Chart {
     /// Boxed: its month × hour grid is far larger than the other charts' data.
     GainMap(Box<GainMap>),
     Losses(Losses),
+    DailySoc(DailySoc),
+    MonthlyUnmet(MonthlyUnmet),
     /// Sun paths, horizon and obstacles seen from one group (the shade report).
     SunPath(Box<crate::shade_view::SunPathView>),
 }
@@ -123,6 +147,8 @@ impl Chart {
             Chart::MonthlyEnergy(_) => "monthly_energy",
             Chart::GainMap(_) => "gain_map",
             Chart::Losses(_) => "losses",
+            Chart::DailySoc(_) => "daily_soc",
+            Chart::MonthlyUnmet(_) => "monthly_unmet",
             Chart::SunPath(_) => "sun_path",
         }
     }
@@ -160,6 +186,8 @@ impl Chart {
             Chart::MonthlyEnergy(c) => draw_monthly(root, c),
             Chart::GainMap(c) => draw_gain_map(root, c),
             Chart::Losses(c) => draw_losses(root, c),
+            Chart::DailySoc(c) => draw_daily_soc(root, c),
+            Chart::MonthlyUnmet(c) => draw_monthly_unmet(root, c),
             Chart::SunPath(v) => draw_sun_path(root, v),
         }
         .map_err(|e| e.to_string())
@@ -178,7 +206,8 @@ pub fn plan_charts(r: &RankResult) -> PlannedCharts {
     let mut skipped = Vec::new();
     if ranked.is_empty() {
         skipped.push(
-            "monthly_energy, gain_map, losses: not drawn, no layout passes the limits".to_string(),
+            "monthly_energy, gain_map, losses, daily_soc, monthly_unmet: not drawn, no layout passes the limits"
+                .to_string(),
         );
         return PlannedCharts { charts, skipped };
     }
@@ -213,6 +242,37 @@ pub fn plan_charts(r: &RankResult) -> PlannedCharts {
             .collect(),
         ranked: ranked.len(),
     }));
+    let plan = &r.loaded.plan;
+    match &plan.battery.model {
+        Some(spec) => charts.push(Chart::DailySoc(DailySoc {
+            layouts: ranked
+                .iter()
+                .take(MAX_SOC_LAYOUTS)
+                .map(|(o, e)| {
+                    (
+                        label(o),
+                        e.daily_soc_frac.iter().map(|f| 100.0 * f).collect(),
+                    )
+                })
+                .collect(),
+            floor_pct: 100.0 * spec.floor_soc_frac(),
+            ranked: ranked.len(),
+        })),
+        None => skipped.push(
+            "daily_soc: not drawn, the plan has no battery model (battery.capacity_ah)".to_string(),
+        ),
+    }
+    if plan.consumption.is_some() {
+        charts.push(Chart::MonthlyUnmet(MonthlyUnmet {
+            layouts: best
+                .iter()
+                .map(|(o, e)| (label(o), e.unmet_wh.map(|w| w / 1000.0)))
+                .collect(),
+            ranked: ranked.len(),
+        }));
+    } else {
+        skipped.push("monthly_unmet: not drawn, the plan has no [load] table".to_string());
+    }
     PlannedCharts { charts, skipped }
 }
 
@@ -377,20 +437,48 @@ fn draw_monthly<DB: DrawingBackend>(
     root: &DrawingArea<DB, Shift>,
     c: &MonthlyEnergy,
 ) -> DrawResult<DB> {
-    let n = c.layouts.len().max(1);
-    let (top, legend) = root.split_vertically(HEIGHT_PX - legend_height(c.layouts.len()));
-    let y_max = c
-        .layouts
-        .iter()
-        .flat_map(|(_, m)| m.iter().copied())
-        .fold(0.0, f64::max);
-    let y_max = if y_max > 0.0 { y_max * 1.08 } else { 1.0 };
     let title = format!(
         "Monthly energy into the battery, {}",
         which_layouts(c.layouts.len(), c.ranked)
     );
+    draw_month_bars(root, &title, "energy into the battery, kWh", &c.layouts)
+}
+
+fn draw_monthly_unmet<DB: DrawingBackend>(
+    root: &DrawingArea<DB, Shift>,
+    c: &MonthlyUnmet,
+) -> DrawResult<DB> {
+    let none = c.layouts.iter().all(|(_, m)| m.iter().all(|&v| v <= 0.0));
+    let title = format!(
+        "Load left unserved per month, {}{}",
+        which_layouts(c.layouts.len(), c.ranked),
+        if none {
+            " (none: every hour's load is met)"
+        } else {
+            ""
+        }
+    );
+    draw_month_bars(root, &title, "unmet load, kWh", &c.layouts)
+}
+
+/// Bars per month, one per layout side by side, with the legend under the chart.
+fn draw_month_bars<DB: DrawingBackend>(
+    root: &DrawingArea<DB, Shift>,
+    title: &str,
+    y_desc: &str,
+    layouts: &[(String, [f64; 12])],
+) -> DrawResult<DB> {
+    let n = layouts.len().max(1);
+    let (top, legend) = root.split_vertically(HEIGHT_PX - legend_height(layouts.len()));
+    let y_max = layouts
+        .iter()
+        .flat_map(|(_, m)| m.iter().copied())
+        .fold(0.0, f64::max);
+    let y_max = if y_max > 0.0 { y_max * 1.08 } else { 1.0 };
+    // Small values (a few kWh of unmet load) need a decimal on the axis.
+    let decimals = if y_max < 8.0 { 1 } else { 0 };
     let mut chart = ChartBuilder::on(&top)
-        .caption(title, bold(26.0))
+        .caption(title, bold(24.0))
         .margin(12)
         .x_label_area_size(50)
         .y_label_area_size(70)
@@ -408,9 +496,9 @@ fn draw_monthly<DB: DrawingBackend>(
             }
         })
         .y_labels(8)
-        .y_label_formatter(&|y| format!("{y:.0}"))
+        .y_label_formatter(&|y| format!("{y:.decimals$}"))
         .x_desc("month")
-        .y_desc("energy into the battery, kWh")
+        .y_desc(y_desc)
         .label_style(font(17.0))
         .axis_desc_style(font(18.0))
         .max_light_lines(0)
@@ -418,7 +506,7 @@ fn draw_monthly<DB: DrawingBackend>(
         .draw()?;
     // Bars of one month side by side, filling 80 % of the month's width.
     let bar_w = 0.8 / n as f64;
-    for (i, (_, monthly)) in c.layouts.iter().enumerate() {
+    for (i, (_, monthly)) in layouts.iter().enumerate() {
         let colour = LAYOUT_COLOURS[i % MAX_LAYOUTS];
         for (m, &v) in monthly.iter().enumerate() {
             let x0 = m as f64 - 0.4 + i as f64 * bar_w;
@@ -429,12 +517,133 @@ fn draw_monthly<DB: DrawingBackend>(
             ])?;
         }
     }
-    let entries: Vec<(String, RGBColor)> = c
+    let entries: Vec<(String, RGBColor)> = layouts
+        .iter()
+        .enumerate()
+        .map(|(i, (l, _))| (l.clone(), LAYOUT_COLOURS[i % MAX_LAYOUTS]))
+        .collect();
+    draw_legend(&legend, &entries)
+}
+
+/// First day (0-based) of each month in a year of 365 days.
+const MONTH_START_DAY: [u32; 13] = [0, 31, 59, 90, 120, 151, 181, 212, 243, 273, 304, 334, 365];
+
+/// Day of a one-year file (0-based, the end of day `d` at `d + 1`) as a month coordinate:
+/// month k spans k..k+1, so month names sit at k + 0.5 whatever the month's length.
+fn day_to_month_x(day_end: f64) -> f64 {
+    let d = day_end.clamp(0.0, 365.0);
+    let k = MONTH_START_DAY[1..]
+        .iter()
+        .position(|&s| d <= f64::from(s))
+        .unwrap_or(11);
+    let (a, b) = (
+        f64::from(MONTH_START_DAY[k]),
+        f64::from(MONTH_START_DAY[k + 1]),
+    );
+    k as f64 + (d - a) / (b - a)
+}
+
+fn draw_daily_soc<DB: DrawingBackend>(
+    root: &DrawingArea<DB, Shift>,
+    c: &DailySoc,
+) -> DrawResult<DB> {
+    let (top, legend) = root.split_vertically(HEIGHT_PX - legend_height(c.layouts.len() + 1));
+    let days = c
+        .layouts
+        .iter()
+        .map(|(_, d)| d.len())
+        .max()
+        .unwrap_or(0)
+        .max(1);
+    let title = format!(
+        "State of charge at the end of each day, {}",
+        which_layouts(c.layouts.len(), c.ranked)
+    );
+    // A year (365 or 366 days) is drawn on a month axis; longer files on a day count.
+    let one_year = days <= 366;
+    let x_of = |d: usize| {
+        if one_year {
+            day_to_month_x((d + 1) as f64 * 365.0 / days.max(365) as f64)
+        } else {
+            (d + 1) as f64
+        }
+    };
+    let x_max = if one_year { 12.0 } else { days as f64 };
+    let mut chart = ChartBuilder::on(&top)
+        .caption(title, bold(24.0))
+        .margin(12)
+        .margin_right(24)
+        .x_label_area_size(50)
+        .y_label_area_size(70)
+        .build_cartesian_2d(0f64..x_max, 0f64..100f64)?;
+    chart
+        .configure_mesh()
+        .disable_x_mesh()
+        .x_labels(if one_year { 25 } else { 10 })
+        .x_label_formatter(&|x| {
+            if one_year {
+                // Month names at the middle of each month.
+                let k = (x - 0.5).round();
+                if (x - 0.5 - k).abs() < 1e-6 && (0.0..12.0).contains(&k) {
+                    MONTHS[k as usize].to_string()
+                } else {
+                    String::new()
+                }
+            } else {
+                format!("{x:.0}")
+            }
+        })
+        .y_labels(11)
+        .y_label_formatter(&|y| format!("{y:.0}"))
+        .x_desc(if one_year {
+            "end of each day, by month"
+        } else {
+            "day of the weather file"
+        })
+        .y_desc("state of charge, %")
+        .label_style(font(17.0))
+        .axis_desc_style(font(18.0))
+        .max_light_lines(0)
+        .bold_line_style(RGBColor(0xdd, 0xdd, 0xdd))
+        .draw()?;
+    if one_year {
+        // Month boundaries as faint lines.
+        for k in 1..12 {
+            let x = k as f64;
+            chart.draw_series([PathElement::new(
+                vec![(x, 0.0), (x, 100.0)],
+                RGBColor(0xdd, 0xdd, 0xdd),
+            )])?;
+        }
+    }
+    // The floor: the battery never goes below it; load is left unmet there.
+    let floor = RGBColor(0x80, 0x80, 0x80);
+    chart.draw_series(DashedLineSeries::new(
+        [(0.0, c.floor_pct), (x_max, c.floor_pct)],
+        8,
+        6,
+        floor.stroke_width(2),
+    ))?;
+    // The best layout last, so that its line is on top where the two overlap.
+    for (i, (_, soc)) in c.layouts.iter().enumerate().rev() {
+        let colour = LAYOUT_COLOURS[i % MAX_LAYOUTS];
+        let points = soc.iter().enumerate().map(|(d, &v)| (x_of(d), v));
+        let width = if i == 0 { 2 } else { 3 };
+        chart.draw_series(LineSeries::new(points, colour.stroke_width(width)))?;
+    }
+    let mut entries: Vec<(String, RGBColor)> = c
         .layouts
         .iter()
         .enumerate()
         .map(|(i, (l, _))| (l.clone(), LAYOUT_COLOURS[i % MAX_LAYOUTS]))
         .collect();
+    entries.push((
+        format!(
+            "floor: {:.0} % (the usable depth of discharge ends here; load goes unmet)",
+            c.floor_pct
+        ),
+        floor,
+    ));
     draw_legend(&legend, &entries)
 }
 
@@ -574,6 +783,8 @@ fn step_label(s: Step) -> &'static str {
 }
 
 fn draw_losses<DB: DrawingBackend>(root: &DrawingArea<DB, Shift>, c: &Losses) -> DrawResult<DB> {
+    // Rows from the bottom: the last step at 0, the first at the top.
+    const LAST_STEP: f64 = (STEPS - 1) as f64;
     let n = c.layouts.len().max(1);
     let (top, legend) = root.split_vertically(HEIGHT_PX - legend_height(c.layouts.len()));
     let values = c.layouts.iter().flat_map(|(_, s)| s.iter().copied());
@@ -591,16 +802,16 @@ fn draw_losses<DB: DrawingBackend>(root: &DrawingArea<DB, Shift>, c: &Losses) ->
         .margin_right(24)
         .x_label_area_size(50)
         .y_label_area_size(200)
-        .build_cartesian_2d(x_lo..x_hi, -0.5f64..9.5f64)?;
+        .build_cartesian_2d(x_lo..x_hi, -0.5f64..LAST_STEP + 0.5)?;
     chart
         .configure_mesh()
         .disable_y_mesh()
-        .y_labels(10)
+        .y_labels(STEPS)
         .y_label_formatter(&|y| {
             let k = y.round();
-            if (y - k).abs() < 1e-6 && (0.0..10.0).contains(&k) {
+            if (y - k).abs() < 1e-6 && (0.0..=LAST_STEP).contains(&k) {
                 // The first step at the top, as energy flows.
-                step_label(Step::ALL[9 - k as usize]).to_string()
+                step_label(Step::ALL[STEPS - 1 - k as usize]).to_string()
             } else {
                 String::new()
             }
@@ -617,7 +828,7 @@ fn draw_losses<DB: DrawingBackend>(root: &DrawingArea<DB, Shift>, c: &Losses) ->
     for (i, (_, steps)) in c.layouts.iter().enumerate() {
         let colour = LAYOUT_COLOURS[i % MAX_LAYOUTS];
         for (k, &v) in steps.iter().enumerate() {
-            let y_top = (9 - k) as f64 + 0.4 - i as f64 * bar_h;
+            let y_top = (STEPS - 1 - k) as f64 + 0.4 - i as f64 * bar_h;
             let rect = [(0.0, y_top - bar_h), (v, y_top)];
             chart.draw_series([
                 Rectangle::new(rect, colour.filled()),
@@ -627,7 +838,7 @@ fn draw_losses<DB: DrawingBackend>(root: &DrawingArea<DB, Shift>, c: &Losses) ->
     }
     // The zero line, so that a gain (bar to the left) reads as one.
     chart.draw_series([Rectangle::new(
-        [(0.0, -0.5), (0.0, 9.5)],
+        [(0.0, -0.5), (0.0, LAST_STEP + 0.5)],
         BLACK.stroke_width(1),
     )])?;
     let entries: Vec<(String, RGBColor)> = c

@@ -292,3 +292,41 @@ fn shade_report_lists_every_module_and_writes_shade_csv() {
         assert!((0.0..=100.0).contains(&pct), "{line}");
     }
 }
+
+#[test]
+fn without_battery_model_or_load_the_battery_columns_are_empty_and_the_charts_skipped() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let out = wirerank(&[
+        "rank",
+        fixture("plan_pwm_vs_mppt.toml").to_str().expect("utf-8"),
+        "--quiet",
+        "--out",
+        dir.path().to_str().expect("utf-8"),
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let monthly = std::fs::read_to_string(dir.path().join("monthly.csv")).expect("monthly.csv");
+    let header: Vec<&str> = monthly.lines().next().expect("header").split(',').collect();
+    let row: Vec<&str> = monthly.lines().nth(1).expect("a row").split(',').collect();
+    let cell = |name: &str| row[header.iter().position(|h| *h == name).expect(name)];
+    // Source: output-files.md (no [load]: used, unmet and days are empty; no battery
+    // model: no lowest state of charge, nothing curtailed, harvest = energy).
+    for empty in ["used_kwh", "unmet_kwh", "unmet_days", "lowest_soc_pct"] {
+        assert_eq!(cell(empty), "", "{empty} in {monthly}");
+    }
+    assert_eq!(cell("curtailed_kwh"), "0.000");
+    assert_eq!(cell("harvested_kwh"), cell("energy_kwh"));
+    let names: Vec<String> = std::fs::read_dir(dir.path())
+        .expect("listing")
+        .map(|e| e.expect("entry").file_name().to_string_lossy().into_owned())
+        .collect();
+    assert!(!names
+        .iter()
+        .any(|n| n.starts_with("daily_soc") || n.starts_with("monthly_unmet")));
+    let prov = std::fs::read_to_string(dir.path().join("provenance.txt")).expect("provenance");
+    assert!(
+        prov.contains("daily_soc: not drawn, the plan has no battery model"),
+        "{prov}"
+    );
+    assert!(prov.contains("monthly_unmet: not drawn, the plan has no [load] table"));
+    assert!(!text(&out.stdout).contains("Fewest extra modules"));
+}

@@ -137,6 +137,10 @@ fn writes_every_file_and_leaves_no_temporaries() {
         "gain_map.svg",
         "losses.png",
         "losses.svg",
+        "daily_soc.png",
+        "daily_soc.svg",
+        "monthly_unmet.png",
+        "monthly_unmet.svg",
     ]
     .map(String::from)
     .into();
@@ -208,6 +212,83 @@ fn monthly_rows_add_up_to_the_summary_annual_energy() {
         // Source: recomputed from the formula (the run's own total, rounded to 3 decimals).
         let exact = o.energy.as_ref().expect("energy").annual_delivered_kwh();
         assert!((annual - exact).abs() <= HALF_LAST_DIGIT + 1e-9);
+    }
+}
+
+#[test]
+fn monthly_battery_columns_balance_and_add_up_to_the_summary() {
+    let monthly = read_csv(MONTHLY_CSV);
+    let summary = read_csv(SUMMARY_CSV);
+    let r = demo();
+    let floor_pct = 100.0
+        * r.loaded
+            .plan
+            .battery
+            .model
+            .as_ref()
+            .expect("the demo has a battery model")
+            .floor_soc_frac();
+    let col = |df: &DataFrame, name: &str| -> Vec<f64> {
+        f64s(df, name)
+            .into_iter()
+            .map(|v| v.unwrap_or_else(|| panic!("{name}: empty cell in the demo")))
+            .collect()
+    };
+    let (energy, harvested, curtailed) = (
+        col(&monthly, "energy_kwh"),
+        col(&monthly, "harvested_kwh"),
+        col(&monthly, "curtailed_kwh"),
+    );
+    let (used, unmet, days, soc) = (
+        col(&monthly, "used_kwh"),
+        col(&monthly, "unmet_kwh"),
+        col(&monthly, "unmet_days"),
+        col(&monthly, "lowest_soc_pct"),
+    );
+    let s_layout = texts(&summary, "layout");
+    let ranked: Vec<_> = r.outcomes.iter().filter(|o| o.rank.is_some()).collect();
+    for (i, o) in ranked.iter().enumerate() {
+        let e = o.energy.as_ref().expect("energy");
+        for m in 0..12 {
+            let k = i * 12 + m;
+            // Source: definition (output-files.md: harvested = energy + curtailed), to the
+            // rounding of three printed cells.
+            assert!((harvested[k] - energy[k] - curtailed[k]).abs() <= 3.0 * HALF_LAST_DIGIT);
+            // Source: energy balance of the battery model (method-battery.md): the load is
+            // served or unmet, so used + unmet = the load of the month, to the rounding.
+            let load_kwh = (e.load_served_wh[m] + e.unmet_wh[m]) / 1000.0;
+            assert!((used[k] + unmet[k] - load_kwh).abs() <= 2.0 * HALF_LAST_DIGIT + 1e-9);
+            // Source: definition (a day with unmet load has some unmet energy, and no month
+            // has more than 31 days).
+            assert!(days[k] >= 0.0 && days[k] <= 31.0);
+            assert_eq!(days[k] > 0.0, unmet[k] > 0.0 || e.unmet_wh[m] > 0.0);
+            // Source: the battery model's bounds (never below its floor nor above full).
+            assert!(soc[k] >= floor_pct - HALF_LAST_DIGIT && soc[k] <= 100.0 + HALF_LAST_DIGIT);
+        }
+        let rows = i * 12..(i + 1) * 12;
+        let j = s_layout
+            .iter()
+            .position(|l| *l == o.layout.display_name())
+            .expect("in summary");
+        for (name, monthly_sum) in [
+            ("harvested_kwh", harvested[rows.clone()].iter().sum::<f64>()),
+            ("curtailed_kwh", curtailed[rows.clone()].iter().sum()),
+            ("used_kwh", used[rows.clone()].iter().sum()),
+            ("unmet_kwh", unmet[rows.clone()].iter().sum()),
+            ("unmet_days", days[rows.clone()].iter().sum()),
+        ] {
+            let year = f64s(&summary, name)[j].expect("a ranked layout's cell");
+            // Source: recomputed from the formula (the year is the sum of its months), to
+            // the rounding of 13 printed cells.
+            assert!(
+                (year - monthly_sum).abs() <= 13.0 * HALF_LAST_DIGIT + 1e-9,
+                "{name}: {year} vs {monthly_sum}"
+            );
+        }
+        let year_soc = f64s(&summary, "lowest_soc_pct")[j].expect("lowest");
+        let monthly_min = soc[rows].iter().copied().fold(f64::INFINITY, f64::min);
+        // Source: definition (the year's lowest is the lowest of its months).
+        assert!((year_soc - monthly_min).abs() <= HALF_LAST_DIGIT);
     }
 }
 
@@ -337,7 +418,13 @@ fn hourly_rows_follow_the_weather_stamps_and_add_up_to_the_year() {
 
 #[test]
 fn charts_are_png_and_svg_of_the_documented_size() {
-    for stem in ["monthly_energy", "gain_map", "losses"] {
+    for stem in [
+        "monthly_energy",
+        "gain_map",
+        "losses",
+        "daily_soc",
+        "monthly_unmet",
+    ] {
         let png = fs::read(out_dir().join(format!("{stem}.png"))).expect("png");
         assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n", "{stem}.png magic");
         // Source: PNG specification (ISO/IEC 15948), IHDR width and height big-endian at
