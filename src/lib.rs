@@ -832,3 +832,163 @@ fn shade(source: &PlanSource, out: Option<&Path>) -> Result<Outcome, Error> {
         nothing_passed: false,
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    struct Demo {
+        result: RankResult,
+        cond: simulate::Conditions,
+        curves: Vec<Option<phase2::IntervalCurves>>,
+    }
+
+    fn demo() -> Demo {
+        let result = simulate_and_rank(
+            &PlanSource::Demo,
+            rank::Criterion::Annual,
+            phase2::RunOptions::default(),
+        )
+        .expect("the demo runs");
+        let l = &result.loaded;
+        let cond = simulate::phase1(&l.plan, &l.weather, &l.site);
+        let curves = phase2::all_interval_curves(&l.plan, &cond, false);
+        Demo {
+            result,
+            cond,
+            curves,
+        }
+    }
+
+    fn unmet_kwh(d: &Demo, plan: &Plan, layout: &layouts::Layout) -> f64 {
+        let e = phase2::simulate_layouts(
+            plan,
+            &d.cond,
+            &d.curves,
+            &[layout],
+            phase2::RunOptions::default(),
+        )
+        .pop()
+        .expect("one layout");
+        e.unmet_wh.iter().sum::<f64>() / 1000.0
+    }
+
+    /// Source: definition (issue 7: the extra-module answer meets the target and one string
+    /// fewer does not), checked by simulating both layouts again.
+    #[test]
+    fn extra_modules_answer_is_the_first_count_that_meets_the_target() {
+        let d = demo();
+        let plan = &d.result.loaded.plan;
+        let best = d
+            .result
+            .outcomes
+            .iter()
+            .find(|o| o.rank == Some(1))
+            .expect("a best layout");
+        let m = d.result.module_sizing.as_ref().expect("demo has a load");
+        let ModuleAnswer::Found {
+            modules,
+            strings,
+            code,
+            unmet_kwh: reported,
+        } = &m.answer
+        else {
+            panic!("the demo's best layout needs extra modules: {m:?}");
+        };
+        assert!(m.unmet_kwh > m.target_unmet_kwh);
+        let mut fewer = best.layout.clone();
+        for _ in 1..*strings {
+            fewer = add_one_string(plan, &d.result.temps, &fewer).expect("fits");
+        }
+        let enough = add_one_string(plan, &d.result.temps, &fewer).expect("fits");
+        assert_eq!(&enough.code, code);
+        assert_eq!(enough.modules_used - best.layout.modules_used, *modules);
+        let (u_fewer, u_enough) = (unmet_kwh(&d, plan, &fewer), unmet_kwh(&d, plan, &enough));
+        assert!(u_fewer > m.target_unmet_kwh, "{u_fewer}");
+        assert!(u_enough <= m.target_unmet_kwh + 1e-9, "{u_enough}");
+        assert_eq!(u_enough, *reported);
+    }
+
+    /// Source: definition (a layout that already meets the target needs nothing; a load no
+    /// array can carry ends the search at a limit or at its cap, never with an answer).
+    #[test]
+    fn extra_modules_none_needed_and_not_reached() {
+        let d = demo();
+        let best = d
+            .result
+            .outcomes
+            .iter()
+            .find(|o| o.rank == Some(1))
+            .expect("a best layout");
+        let mut lenient = d.result.loaded.plan.clone();
+        if let Some(c) = lenient.consumption.as_mut() {
+            c.unmet_target_wh = 1e9;
+        }
+        let m = size_modules(&lenient, &d.cond, &d.curves, &d.result.temps, best)
+            .expect("a load and a battery");
+        assert_eq!(m.answer, ModuleAnswer::NoneNeeded);
+
+        let mut hungry = d.result.loaded.plan.clone();
+        if let Some(c) = hungry.consumption.as_mut() {
+            // 2 kWh every hour: 48 kWh a day, far beyond any roof of 120 W modules.
+            c.load = physics::battery::LoadProfile::every_month([2000.0; 24], None).expect("valid");
+            c.unmet_target_wh = 0.0;
+        }
+        let mut best = best.clone();
+        best.energy = phase2::simulate_layouts(
+            &hungry,
+            &d.cond,
+            &d.curves,
+            &[&best.layout],
+            phase2::RunOptions::default(),
+        )
+        .pop();
+        let m = size_modules(&hungry, &d.cond, &d.curves, &d.result.temps, &best)
+            .expect("a load and a battery");
+        match m.answer {
+            ModuleAnswer::NotReached {
+                tried_modules,
+                unmet_kwh,
+                stopped,
+            } => {
+                assert!(tried_modules > 0);
+                assert!(unmet_kwh > 0.0 && unmet_kwh < m.unmet_kwh);
+                assert!(!stopped.is_empty());
+            }
+            other => panic!("expected not reached, got {other:?}"),
+        }
+    }
+
+    /// Source: common practice, no source — the copy of a string is refused once the input
+    /// breaks a hard limit, and the refusal names the rule.
+    #[test]
+    fn adding_strings_stops_at_a_named_limit() {
+        let d = demo();
+        let plan = &d.result.loaded.plan;
+        let best = d
+            .result
+            .outcomes
+            .iter()
+            .find(|o| o.rank == Some(1))
+            .expect("a best layout");
+        let mut l = best.layout.clone();
+        let mut added = 0;
+        let why = loop {
+            match add_one_string(plan, &d.result.temps, &l) {
+                Ok(next) => {
+                    l = next;
+                    added += 1;
+                    assert!(added < 200, "no limit ever stops the copies");
+                }
+                Err(why) => break why,
+            }
+        };
+        assert!(
+            why.starts_with("another string would break a limit ("),
+            "{why}"
+        );
+        assert!(limits::check_layout(plan, &l, &d.result.temps)
+            .iter()
+            .all(|f| f.severity != limits::Severity::Reject));
+    }
+}

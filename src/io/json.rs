@@ -7,7 +7,7 @@ use crate::error::Error;
 use crate::limits::Severity;
 use crate::phase2::Step;
 use crate::report::CAUTIONS;
-use crate::RankResult;
+use crate::{ModuleAnswer, RankResult};
 
 /// Schema version of the JSON output; bumped on any incompatible change.
 pub const JSON_SCHEMA_VERSION: u32 = 1;
@@ -21,6 +21,61 @@ fn r3(x: f64) -> f64 {
 ///
 /// # Errors
 /// Never in practice (serialising plain values); kept for the output error path.
+/// The sizing helper's answers for the best layout, or null without a load and a battery.
+fn sizing_json(r: &RankResult) -> Value {
+    if r.sizing.is_none() && r.module_sizing.is_none() {
+        return Value::Null;
+    }
+    let battery = r.sizing.as_ref().map(|s| {
+        json!({
+            "layout": s.layout,
+            "target_unmet_kwh": r3(s.target_unmet_kwh),
+            "step_ah": s.step_ah,
+            "planned_ah": s.planned_ah,
+            "smallest_ah": s.battery_ah,
+            "search_limit_ah": s.limit_ah,
+        })
+    });
+    let modules = r.module_sizing.as_ref().map(|m| {
+        let mut v = json!({
+            "layout": m.layout,
+            "target_unmet_kwh": r3(m.target_unmet_kwh),
+            "unmet_kwh": r3(m.unmet_kwh),
+        });
+        match &m.answer {
+            ModuleAnswer::NoneNeeded => {
+                v["answer"] = json!("none_needed");
+                v["extra_modules"] = json!(0);
+            }
+            ModuleAnswer::Found {
+                modules,
+                strings,
+                code,
+                unmet_kwh,
+            } => {
+                v["answer"] = json!("found");
+                v["extra_modules"] = json!(modules);
+                v["extra_strings"] = json!(strings);
+                v["code"] = json!(code);
+                v["unmet_kwh_after"] = json!(r3(*unmet_kwh));
+            }
+            ModuleAnswer::NotReached {
+                tried_modules,
+                unmet_kwh,
+                stopped,
+            } => {
+                v["answer"] = json!("not_reached");
+                v["extra_modules"] = Value::Null;
+                v["tried_modules"] = json!(tried_modules);
+                v["unmet_kwh_after"] = json!(r3(*unmet_kwh));
+                v["stopped"] = json!(stopped);
+            }
+        }
+        v
+    });
+    json!({ "battery": battery, "modules": modules })
+}
+
 pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
     let plan = &r.loaded.plan;
     let site = &r.loaded.site;
@@ -64,7 +119,12 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                 "other_tracking_kwh": Value::Null,
                 "p90_1y_kwh": o.p90.map(|p| r3(p.p90_1y)),
                 "p90_10y_kwh": o.p90.map(|p| r3(p.p90_10y)),
+                "harvested_kwh": Value::Null,
+                "curtailed_kwh": Value::Null,
+                "used_kwh": Value::Null,
                 "unmet_kwh": Value::Null,
+                "unmet_days": Value::Null,
+                "lowest_soc_pct": Value::Null,
                 "losses_kwh": Value::Null,
             });
             if let Some(e) = &o.energy {
@@ -77,8 +137,25 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                 v["low_sun_kwh"] = json!(r3(e.low_sun_wh.iter().sum::<f64>() / 1000.0));
                 v["awake_hours"] = json!(r3(e.awake_h.iter().sum::<f64>()));
                 v["potential_kwh"] = json!(r3(e.potential_wh.iter().sum::<f64>() / 1000.0));
+                let curtailed = e.step_total_wh(Step::Curtailed as usize);
+                v["curtailed_kwh"] = json!(r3(curtailed / 1000.0));
+                v["harvested_kwh"] =
+                    json!(r3((e.delivered_wh.iter().sum::<f64>() + curtailed) / 1000.0));
                 if plan.consumption.is_some() {
+                    v["used_kwh"] = json!(r3(e.load_served_wh.iter().sum::<f64>() / 1000.0));
                     v["unmet_kwh"] = json!(r3(e.unmet_wh.iter().sum::<f64>() / 1000.0));
+                    v["unmet_days"] = json!(e.unmet_days.iter().sum::<u32>());
+                }
+                if plan.battery.model.is_some() {
+                    let lowest = e
+                        .min_soc_frac
+                        .iter()
+                        .copied()
+                        .filter(|x| !x.is_nan())
+                        .fold(f64::INFINITY, f64::min);
+                    if lowest.is_finite() {
+                        v["lowest_soc_pct"] = json!(r3(100.0 * lowest));
+                    }
                 }
                 v["other_tracking_kwh"] = json!(r3(e.other_tracking_wh.iter().sum::<f64>() / 1000.0));
                 v["losses_kwh"] = Value::Object(losses);
@@ -109,6 +186,7 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
             "method": "normal approximation: P90 = P50 − 1.2816 σ; σ₁ = √(variability² + model²); σ₁₀ = √(variability²/10 + model²)"
         },
         "layouts": layouts,
+        "sizing": sizing_json(r),
         "cautions": CAUTIONS.replace('\n', " "),
     });
     serde_json::to_string_pretty(&doc)

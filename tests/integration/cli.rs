@@ -54,6 +54,12 @@ fn json_output_follows_the_documented_schema_and_balances_energy() {
             "low_sun_kwh",
             "awake_hours",
             "losses_kwh",
+            "harvested_kwh",
+            "curtailed_kwh",
+            "used_kwh",
+            "unmet_kwh",
+            "unmet_days",
+            "lowest_soc_pct",
         ] {
             assert!(l.get(key).is_some(), "layout lacks {key}: {l}");
         }
@@ -82,6 +88,12 @@ fn json_output_follows_the_documented_schema_and_balances_energy() {
                     "{} balance: {losses} + {annual} vs {potential}",
                     l["name"]
                 );
+                // Source: definition (json-output.md: harvested = annual + curtailed), to the
+                // rounding of three numbers at 0.001.
+                let f = |k: &str| l[k].as_f64().unwrap_or(f64::NAN);
+                assert!((f("harvested_kwh") - annual - f("curtailed_kwh")).abs() < 0.002);
+                // Source: the battery model's bounds (the demo's floor is 50 %).
+                assert!((50.0..=100.0).contains(&f("lowest_soc_pct")));
             }
             Some("rejected") => {
                 rejected += 1;
@@ -94,6 +106,17 @@ fn json_output_follows_the_documented_schema_and_balances_energy() {
     assert!(
         ranked >= 1 && rejected >= 1,
         "{ranked} ranked, {rejected} rejected"
+    );
+    // Source: json-output.md (the demo has a load and a battery, so both sizing answers
+    // are given, for the best layout).
+    let sizing = &v["sizing"];
+    assert_eq!(sizing["battery"]["layout"], layouts[0]["name"]);
+    assert!(sizing["battery"]["smallest_ah"].is_number(), "{sizing}");
+    let modules = &sizing["modules"];
+    assert_eq!(modules["layout"], layouts[0]["name"]);
+    assert!(
+        ["none_needed", "found", "not_reached"].contains(&modules["answer"].as_str().unwrap_or("")),
+        "{modules}"
     );
 }
 
