@@ -38,13 +38,15 @@ fn one_orientation_year(c: &mut Criterion) {
                 w.local_start_s[w.len() - 1] as f64 - off + 3600.0,
                 sun::DELTA_T_DEFAULT_S,
             );
+            let prepared = obs.prepare();
             for k in 0..w.len() {
                 let start = w.local_start_s[k] as f64 - site.utc_offset_h * 3600.0;
                 let atm = Atmosphere {
                     pressure_hpa: p,
                     temperature_c: w.air_temp_c[k],
                 };
-                let Some(s) = eph.interval_sun(start, start + 3600.0, &obs, &atm) else {
+                let Some(s) = eph.interval_sun_prepared(start, start + 3600.0, &prepared, &atm)
+                else {
                     continue;
                 };
                 let ghi = w.ghi_w_m2[k];
@@ -149,10 +151,124 @@ fn every_layout_24_modules(c: &mut Criterion) {
     g.finish();
 }
 
+/// The demo's passing layouts, with phase 1 and the shared curves of a plan.
+fn passing_layouts(
+    plan: &wirerank::plan::Plan,
+    temps: &limits::DesignTemperatures,
+) -> Vec<layouts::Layout> {
+    layouts::listed(plan)
+        .into_iter()
+        .filter(|l| {
+            limits::check_layout(plan, l, temps)
+                .iter()
+                .all(|f| f.severity != limits::Severity::Reject)
+        })
+        .collect()
+}
+
+/// Issue 7: the demo with its battery and load against the same plan without the battery
+/// model (target: ≤ 1.5×), both single-threaded, phase 1 + phase 2 for all passing layouts;
+/// and the sizing search for the best layout (target ≤ 5 s).
+fn battery_model_cost(c: &mut Criterion) {
+    let loaded = load(&PlanSource::Demo).expect("demo loads");
+    let with = loaded.plan.clone();
+    let mut without = loaded.plan.clone();
+    without.battery.model = None;
+    without.consumption = None;
+    let temps = wirerank::design_temperatures(&with, &loaded.weather);
+    let layouts = passing_layouts(&with, &temps);
+    let refs: Vec<&layouts::Layout> = layouts.iter().collect();
+    let mut g = c.benchmark_group("demo year with and without the battery model, single thread");
+    g.sample_size(10);
+    for (name, plan) in [
+        ("without battery model", &without),
+        ("with battery and load", &with),
+    ] {
+        g.bench_function(name, |b| {
+            b.iter(|| {
+                let cond = simulate::phase1(plan, &loaded.weather, &loaded.site);
+                black_box(phase2::run(
+                    plan,
+                    &cond,
+                    &refs,
+                    phase2::RunOptions::default(),
+                ))
+            })
+        });
+    }
+    let cond = simulate::phase1(&with, &loaded.weather, &loaded.site);
+    let curves = phase2::all_interval_curves(&with, &cond, false);
+    let result = wirerank::simulate_and_rank(
+        &PlanSource::Demo,
+        wirerank::rank::Criterion::Annual,
+        phase2::RunOptions::default(),
+    )
+    .expect("demo runs");
+    let best = result
+        .outcomes
+        .iter()
+        .find(|o| o.rank == Some(1))
+        .expect("a best layout");
+    g.bench_function("sizing search (battery and extra modules)", |b| {
+        b.iter(|| black_box(wirerank::size_best(&with, &cond, &curves, &temps, best)))
+    });
+    g.finish();
+}
+
+/// Issue 5: the demo with and without its shading geometry (target: shading adds ≤ 50 %),
+/// whole ranking run single-threaded.
+fn shading_cost(c: &mut Criterion) {
+    let unshaded = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("benches/data/plan_demo_unshaded.toml");
+    let mut g = c.benchmark_group("demo ranking with and without shading geometry, single thread");
+    g.sample_size(10);
+    for (name, source) in [
+        (
+            "without horizon, placements and obstacles",
+            PlanSource::File(unshaded),
+        ),
+        ("as shipped", PlanSource::Demo),
+    ] {
+        g.bench_function(name, |b| {
+            b.iter(|| {
+                black_box(
+                    wirerank::simulate_and_rank(
+                        &source,
+                        wirerank::rank::Criterion::Annual,
+                        phase2::RunOptions::default(),
+                    )
+                    .expect("bench plan runs"),
+                )
+            })
+        });
+    }
+    g.finish();
+}
+
+/// Issue 6: one synthesized hourly year from monthly means (target ≤ 50 ms).
+fn synth_year(c: &mut Criterion) {
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("weather-samples/northmere-cabin.monthly.toml");
+    let text = std::fs::read_to_string(&path).expect("sample monthly means");
+    let climate =
+        wirerank::weather_tools::parse_monthly_toml(&text, "northmere-cabin.monthly.toml")
+            .expect("sample parses")
+            .validate()
+            .expect("sample is valid");
+    c.bench_function("weather synth, one hourly year", |b| {
+        b.iter(|| {
+            black_box(wirerank::synth::synthesize(&climate, 7, "bench").expect("synthesizes"))
+        })
+    });
+}
+
 criterion_group!(
     benches,
     one_orientation_year,
     demo_year,
-    every_layout_24_modules
+    every_layout_24_modules,
+    battery_model_cost,
+    shading_cost,
+    synth_year
 );
 criterion_main!(benches);

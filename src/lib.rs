@@ -420,6 +420,22 @@ fn size_modules(
     Some(out)
 }
 
+/// Both sizing answers for the best layout (a simulated `best`, with its energy): the
+/// smallest battery and the fewest extra modules. `None` for each without a `[load]` and a
+/// battery model.
+pub fn size_best(
+    plan: &Plan,
+    cond: &simulate::Conditions,
+    curves: &[Option<phase2::IntervalCurves>],
+    temps: &limits::DesignTemperatures,
+    best: &rank::LayoutOutcome,
+) -> (Option<Sizing>, Option<ModuleSizing>) {
+    (
+        size_battery(plan, cond, curves, &best.layout),
+        size_modules(plan, cond, curves, temps, best),
+    )
+}
+
 /// Years covered by the conditions' intervals, as a factor that turns a total over the
 /// file into a mean year (1 for a year or less).
 fn per_year_factor(cond: &simulate::Conditions) -> f64 {
@@ -619,9 +635,10 @@ pub fn simulate_and_rank(
     let months_present = tally::months_present(&conditions);
     let winter_months = rank::winter_months(&horizontal_kwh_m2, &months_present);
     rank::rank(&mut outcomes, criterion, &months_present, &winter_months);
-    let best = outcomes.iter().find(|o| o.rank == Some(1));
-    let sizing = best.and_then(|o| size_battery(plan, &conditions, &curves, &o.layout));
-    let module_sizing = best.and_then(|o| size_modules(plan, &conditions, &curves, &temps, o));
+    let (sizing, module_sizing) = match outcomes.iter().find(|o| o.rank == Some(1)) {
+        Some(best) => size_best(plan, &conditions, &curves, &temps, best),
+        None => (None, None),
+    };
     Ok(RankResult {
         loaded,
         criterion,

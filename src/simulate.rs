@@ -141,6 +141,7 @@ pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
         longitude_deg: site.longitude_deg,
         elevation_m: site.elevation_m,
     };
+    let prepared = observer.prepare();
     let default_pressure = sun::pressure_from_elevation_hpa(site.elevation_m);
     let n = weather.len();
     let offset_s = site.utc_offset_h * 3600.0;
@@ -163,7 +164,7 @@ pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
             temperature_c: air,
         };
         let sun_now = match &ephemeris {
-            Some(e) => e.interval_sun(start, start + dt_s, &observer, &atmosphere),
+            Some(e) => e.interval_sun_prepared(start, start + dt_s, &prepared, &atmosphere),
             None => sun::interval_sun(
                 start,
                 start + dt_s,

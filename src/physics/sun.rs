@@ -148,6 +148,24 @@ pub struct Observer {
     pub elevation_m: f64,
 }
 
+impl Observer {
+    /// The observer's time-independent SPA terms, computed once for many instants.
+    pub fn prepare(&self) -> PreparedObserver {
+        PreparedObserver {
+            site: Site::new(self),
+            latitude_deg: self.latitude_deg,
+        }
+    }
+}
+
+/// An [`Observer`] with the terms of SPA that do not change with time computed once
+/// (sin φ, cos φ and the parallax terms): five trigonometric calls saved per instant.
+#[derive(Clone, Copy, Debug)]
+pub struct PreparedObserver {
+    site: Site,
+    latitude_deg: f64,
+}
+
 /// Air at the observer, for the refraction correction only.
 ///
 /// `pressure_hpa` is the local (station) pressure, not the sea-level-reduced value;
@@ -573,6 +591,87 @@ impl Site {
     }
 }
 
+/// (sin θ, cos θ) of θ = atan2(y, x), from the ratio alone: (y/r, x/r), r = √(x² + y²);
+/// θ = 0 when both are zero (as atan2(0, 0) = 0).
+fn unit(y: f64, x: f64) -> (f64, f64) {
+    let r = (x * x + y * y).sqrt();
+    if r > 0.0 {
+        (y / r, x / r)
+    } else {
+        (0.0, 1.0)
+    }
+}
+
+/// SPA atmospheric refraction (step 3.14.2) at a geometric elevation, degrees: applied
+/// only while the sun's upper limb can still be above the apparent horizon.
+fn refraction_deg(e0_deg: f64, atm: &Atmosphere) -> f64 {
+    if e0_deg >= -(SUN_RADIUS_DEG + REFRACTION_AT_HORIZON_DEG) {
+        (atm.pressure_hpa / 1010.0) * (283.0 / (273.0 + atm.temperature_c)) * 1.02
+            / (60.0 * (e0_deg + 10.3 / (e0_deg + 5.11)).to_radians().tan())
+    } else {
+        0.0
+    }
+}
+
+/// Topocentric geometric elevation only (SPA steps 3.11–3.14.1, no refraction, no
+/// azimuth): the part of [`spa_topocentric`] that finding a sunrise needs.
+fn spa_geometric_elevation_deg(g: &GeoCore, site: &Site) -> f64 {
+    let h = limit_deg(g.nu_deg + site.longitude_deg - g.alpha_deg).to_radians();
+    let sin_xi = (8.794 / (3600.0 * g.r_au)).to_radians().sin();
+    let (sin_d, cos_d) = g.delta_deg.to_radians().sin_cos();
+    let (sin_h, cos_h) = h.sin_cos();
+    let denom = cos_d - site.x * sin_xi * cos_h;
+    let (sin_da, cos_da) = unit(-site.x * sin_xi * sin_h, denom);
+    let (sin_dp, cos_dp) = unit((sin_d - site.y * sin_xi) * cos_da, denom);
+    let cos_hp = cos_h * cos_da + sin_h * sin_da;
+    (site.sin_phi * sin_dp + site.cos_phi * cos_dp * cos_hp)
+        .clamp(-1.0, 1.0)
+        .asin()
+        .to_degrees()
+}
+
+/// The geometric elevation at which the apparent elevation reaches `threshold_deg`: the
+/// apparent elevation e0 + Δe(e0) rises with e0 above SPA's refraction cut-off and equals
+/// e0 below it, so "apparent above the threshold" is exactly "geometric above this value".
+/// In the jump at the cut-off (Δe falls from 0.6° to 0 below it) the answer is the
+/// cut-off. Found by the Illinois variant of false position until the apparent elevation
+/// is within 1e-12° of the threshold (a handful of refraction evaluations).
+fn geometric_threshold_deg(threshold_deg: f64, atm: &Atmosphere) -> f64 {
+    let cutoff = -(SUN_RADIUS_DEG + REFRACTION_AT_HORIZON_DEG);
+    let g = |e0: f64| e0 + refraction_deg(e0, atm) - threshold_deg;
+    if threshold_deg < cutoff {
+        return threshold_deg;
+    }
+    let g_cut = g(cutoff);
+    if g_cut >= 0.0 {
+        return cutoff;
+    }
+    // g(cutoff) < 0 ≤ g(threshold) (refraction ≥ 0), and g rises between them.
+    let (mut lo, mut g_lo, mut hi, mut g_hi) = (cutoff, g_cut, threshold_deg, g(threshold_deg));
+    let mut kept = 0i8;
+    for _ in 0..100 {
+        let x = (lo - g_lo * (hi - lo) / (g_hi - g_lo)).clamp(lo, hi);
+        let gx = g(x);
+        if gx.abs() <= 1e-12 || hi - lo <= 1e-12 {
+            return x;
+        }
+        if gx > 0.0 {
+            (hi, g_hi) = (x, gx);
+            if kept == -1 {
+                g_lo *= 0.5;
+            }
+            kept = -1;
+        } else {
+            (lo, g_lo) = (x, gx);
+            if kept == 1 {
+                g_hi *= 0.5;
+            }
+            kept = 1;
+        }
+    }
+    0.5 * (lo + hi)
+}
+
 pub(crate) fn spa_topocentric(
     nu_deg: f64,
     alpha_deg: f64,
@@ -592,16 +691,24 @@ pub(crate) fn spa_topocentric(
     let (sin_d, cos_d) = delta_deg.to_radians().sin_cos();
     let (sin_h, cos_h) = h.sin_cos();
     let denom = cos_d - x * sin_xi * cos_h;
-    let delta_alpha = (-x * sin_xi * sin_h).atan2(denom);
+    let num_alpha = -x * sin_xi * sin_h;
+    let delta_alpha = num_alpha.atan2(denom);
     let delta_alpha_deg = delta_alpha.to_degrees();
     let alpha_prime_deg = alpha_deg + delta_alpha_deg;
-    let delta_prime = ((sin_d - y * sin_xi) * delta_alpha.cos()).atan2(denom);
+    let (sin_da, cos_da) = unit(num_alpha, denom);
+    let num_delta = (sin_d - y * sin_xi) * cos_da;
+    let delta_prime = num_delta.atan2(denom);
     let delta_prime_deg = delta_prime.to_degrees();
 
-    // 3.13 Topocentric local hour angle.
+    // 3.13 Topocentric local hour angle H' = H − Δα. Its sine and cosine come from the
+    // angle-difference identities, and those of δ' = atan2(num, denom) from the same ratio,
+    // instead of three more trigonometric calls.
     let h_prime_deg = h_deg - delta_alpha_deg;
-    let (sin_hp, cos_hp) = h_prime_deg.to_radians().sin_cos();
-    let (sin_dp, cos_dp) = delta_prime.sin_cos();
+    let (sin_hp, cos_hp) = (
+        sin_h * cos_da - cos_h * sin_da,
+        cos_h * cos_da + sin_h * sin_da,
+    );
+    let (sin_dp, cos_dp) = unit(num_delta, denom);
 
     // 3.14 Topocentric zenith angle. The refraction correction is applied only
     // while the sun's upper limb can still be above the apparent horizon, as in SPA.
@@ -609,12 +716,7 @@ pub(crate) fn spa_topocentric(
         .clamp(-1.0, 1.0)
         .asin()
         .to_degrees();
-    let delta_e_deg = if e0_deg >= -(SUN_RADIUS_DEG + REFRACTION_AT_HORIZON_DEG) {
-        (atm.pressure_hpa / 1010.0) * (283.0 / (273.0 + atm.temperature_c)) * 1.02
-            / (60.0 * (e0_deg + 10.3 / (e0_deg + 5.11)).to_radians().tan())
-    } else {
-        0.0
-    };
+    let delta_e_deg = refraction_deg(e0_deg, atm);
     let e_deg = e0_deg + delta_e_deg;
     let zenith_deg = 90.0 - e_deg;
 
@@ -1077,21 +1179,18 @@ const MAX_INTERPOLATION_SPAN_S: f64 = 7200.0;
 /// Time resolution of the sunrise/sunset search, seconds.
 const CROSSING_TOLERANCE_S: f64 = 1.0;
 
-fn elevation_of(g: &GeoCore, site: &Site, atm: &Atmosphere, apparent: bool) -> f64 {
-    let topo = g.topocentric(site, atm);
-    if apparent {
-        topo.e_deg
-    } else {
-        topo.e0_deg
-    }
-}
-
 /// Instant at which the elevation of the sun's centre (apparent, or geometric when
-/// `apparent` is false) crosses `threshold_deg` between `t_lo` and `t_hi`, by bisection to
-/// [`CROSSING_TOLERANCE_S`]. The sign of (elevation − threshold) must differ at the two
-/// ends; the answer is the midpoint of the final bracket. `geo` gives the geocentric
-/// values at an instant; it is called only while the bracket is longer than
-/// [`MAX_INTERPOLATION_SPAN_S`].
+/// `apparent` is false) crosses `threshold_deg` between `t_lo` and `t_hi`, to a bracket of
+/// [`CROSSING_TOLERANCE_S`]; the answer is the midpoint of the final bracket. The sign of
+/// (elevation − threshold) must differ at the two ends.
+///
+/// An apparent threshold is turned into the equivalent geometric one once
+/// ([`geometric_threshold_deg`]), so the search runs on the smooth geometric elevation (the
+/// apparent one has a kink and a jump at SPA's refraction cut-off). While the bracket is
+/// longer than [`MAX_INTERPOLATION_SPAN_S`] it is halved with geocentric values from
+/// `geo`; then the geocentric values are interpolated linearly and false position, with a
+/// probe 0.9 of a tolerance beyond each estimate, closes the bracket (bisection if that
+/// stalls).
 #[allow(clippy::too_many_arguments)]
 fn find_crossing(
     mut t_lo: f64,
@@ -1104,29 +1203,71 @@ fn find_crossing(
     threshold_deg: f64,
     apparent: bool,
 ) -> f64 {
-    let up_at_lo = elevation_of(&g_lo, site, atm, apparent) > threshold_deg;
+    let target = if apparent {
+        geometric_threshold_deg(threshold_deg, atm)
+    } else {
+        threshold_deg
+    };
+    let above = |g: &GeoCore| spa_geometric_elevation_deg(g, site) - target;
+    let mut f_lo = above(&g_lo);
+    let up_at_lo = f_lo > 0.0;
     while t_hi - t_lo > MAX_INTERPOLATION_SPAN_S {
         let t_mid = 0.5 * (t_lo + t_hi);
         let g = geo(t_mid);
-        if (elevation_of(&g, site, atm, apparent) > threshold_deg) == up_at_lo {
+        let f_mid = above(&g);
+        if (f_mid > 0.0) == up_at_lo {
             t_lo = t_mid;
             g_lo = g;
+            f_lo = f_mid;
         } else {
             t_hi = t_mid;
             g_hi = g;
         }
     }
     let line = GeoLine::new(t_lo, &g_lo, t_hi, &g_hi);
+    let f = |t: f64| above(&line.at(t));
+    let mut f_hi = f(t_hi);
+    let same = |x: f64| (x > 0.0) == up_at_lo;
+    let half = 0.5 * CROSSING_TOLERANCE_S;
+    let step = 0.9 * CROSSING_TOLERANCE_S;
+    let mut rounds = 0;
     while t_hi - t_lo > CROSSING_TOLERANCE_S {
-        let t_mid = 0.5 * (t_lo + t_hi);
-        if (elevation_of(&line.at(t_mid), site, atm, apparent) > threshold_deg) == up_at_lo {
-            t_lo = t_mid;
+        rounds += 1;
+        let straddles = same(f_lo) && !same(f_hi) && f_lo != f_hi;
+        if !straddles || rounds > MAX_SECANT_ROUNDS {
+            let t_mid = 0.5 * (t_lo + t_hi);
+            let f_mid = f(t_mid);
+            if same(f_mid) {
+                (t_lo, f_lo) = (t_mid, f_mid);
+            } else {
+                (t_hi, f_hi) = (t_mid, f_mid);
+            }
+            continue;
+        }
+        let t = (t_lo + (t_hi - t_lo) * f_lo / (f_lo - f_hi)).clamp(t_lo + half, t_hi - half);
+        let f_t = f(t);
+        let probe = if same(f_t) {
+            (t_lo, f_lo) = (t, f_t);
+            t + step
         } else {
-            t_hi = t_mid;
+            (t_hi, f_hi) = (t, f_t);
+            t - step
+        };
+        if probe > t_lo && probe < t_hi {
+            let f_p = f(probe);
+            if same(f_p) {
+                (t_lo, f_lo) = (probe, f_p);
+            } else {
+                (t_hi, f_hi) = (probe, f_p);
+            }
         }
     }
     0.5 * (t_lo + t_hi)
 }
+
+/// False-position rounds before [`find_crossing`] falls back to bisection (the smooth
+/// geometric elevation needs one or two).
+const MAX_SECANT_ROUNDS: u32 = 12;
 
 /// When the sun's centre crosses an elevation between two instants (full SPA).
 #[cfg_attr(not(test), allow(dead_code))]
@@ -1157,11 +1298,11 @@ pub(crate) fn find_sun_crossing(
 fn interval_sun_from(
     start: f64,
     end: f64,
-    obs: &Observer,
+    obs: &PreparedObserver,
     atm: &Atmosphere,
     geo: &impl Fn(f64) -> GeoCore,
 ) -> Option<IntervalSun> {
-    let site = &Site::new(obs);
+    let site = &obs.site;
     if end <= start || end.is_nan() || start.is_nan() {
         let g = geo(start);
         let position = g.position(site, atm);
@@ -1194,7 +1335,10 @@ fn interval_sun_from(
 
     let g_start = geo(start);
     let g_end = geo(end);
-    let up = |g: &GeoCore| elevation_of(g, site, atm, true) > 0.0;
+    // "Apparent elevation above 0°" is "geometric elevation above its equivalent", which
+    // skips refraction and azimuth at the three sampled instants.
+    let target = geometric_threshold_deg(0.0, atm);
+    let up = |g: &GeoCore| spa_geometric_elevation_deg(g, site) > target;
     let crossing = |t0: f64, g0: &GeoCore, t1: f64, g1: &GeoCore| {
         find_crossing(t0, *g0, t1, *g1, site, atm, geo, 0.0, true)
     };
@@ -1304,7 +1448,7 @@ pub fn interval_sun(
         }
     }
     let geo = |t: f64| spa_geocentric(t, delta_t_s).core();
-    interval_sun_from(start_unix_s, end_unix_s, obs, atm, &geo)
+    interval_sun_from(start_unix_s, end_unix_s, &obs.prepare(), atm, &geo)
 }
 
 // =======================================================================================
@@ -1428,6 +1572,18 @@ impl SunEphemeris {
         start_unix_s: f64,
         end_unix_s: f64,
         obs: &Observer,
+        atm: &Atmosphere,
+    ) -> Option<IntervalSun> {
+        self.interval_sun_prepared(start_unix_s, end_unix_s, &obs.prepare(), atm)
+    }
+
+    /// [`SunEphemeris::interval_sun`] for an observer prepared once
+    /// ([`Observer::prepare`]): the same result, cheaper over many intervals.
+    pub fn interval_sun_prepared(
+        &self,
+        start_unix_s: f64,
+        end_unix_s: f64,
+        obs: &PreparedObserver,
         atm: &Atmosphere,
     ) -> Option<IntervalSun> {
         interval_sun_from(start_unix_s, end_unix_s, obs, atm, &|t| self.geo_core(t))
@@ -1925,6 +2081,8 @@ mod tests {
         check("δ′", d.topo.delta_prime_deg, -9.316179, 5e-7);
         check("H′", d.topo.h_prime_deg, 11.10627, 5e-6);
         check("Δe", d.topo.delta_e_deg, 0.016332, 5e-7);
+        // Source: the same table's e0 + Δe (39.872046° + 0.016332°), both to 5e-7°.
+        check("e", d.topo.e_deg, 39.888378, 1e-6);
         check("Γ", d.topo.azimuth_astro_deg, 14.340241, 5e-7);
 
         let p = solar_position(
@@ -2643,6 +2801,57 @@ mod tests {
             }
         }
         (lit as f64 / n as f64, first.zip(last))
+    }
+
+    #[test]
+    fn geometric_threshold_gives_the_apparent_threshold_and_light_elevation_matches_spa() {
+        // Source: definition (the apparent elevation e0 + Δe(e0) of SPA step 3.14 at the
+        // returned geometric value equals the threshold), checked over pressures,
+        // temperatures and thresholds around the horizon; below SPA's cut-off the two are
+        // equal, and a threshold in the jump at the cut-off maps onto the cut-off.
+        let cutoff = -(SUN_RADIUS_DEG + REFRACTION_AT_HORIZON_DEG);
+        for p in [600.0, 800.0, 1013.25, 1050.0] {
+            for t in [-40.0, -10.0, 0.0, 15.0, 45.0] {
+                let atm = Atmosphere {
+                    pressure_hpa: p,
+                    temperature_c: t,
+                };
+                for thr in [-2.0, -0.9, 0.0, 0.3, 1.0, 5.0, 30.0] {
+                    let e0 = geometric_threshold_deg(thr, &atm);
+                    let apparent_at_cut = cutoff + refraction_deg(cutoff, &atm);
+                    if thr < cutoff {
+                        assert_eq!(e0, thr);
+                    } else if thr <= apparent_at_cut {
+                        assert_eq!(e0, cutoff);
+                    } else {
+                        let back = e0 + refraction_deg(e0, &atm);
+                        assert!((back - thr).abs() < 1e-11, "{p} hPa {t} °C {thr}°: {back}");
+                    }
+                }
+            }
+        }
+        // Source: SPA steps 3.11–3.14.1 as in spa_topocentric (the light path computes the
+        // same e0 by the same formulas), random instants and places, to 1e-10°.
+        let mut seed: u64 = 0x0bad_cafe_0000_0007;
+        let mut rnd = move || {
+            seed = seed
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (seed >> 11) as f64 / (1u64 << 53) as f64
+        };
+        for _ in 0..500 {
+            let obs = Observer {
+                latitude_deg: -89.0 + 178.0 * rnd(),
+                longitude_deg: -180.0 + 360.0 * rnd(),
+                elevation_m: 4000.0 * rnd(),
+            };
+            let t = unix(1990, 1, 1, 0, 0, 0) + rnd() * 50.0 * 365.25 * 86400.0;
+            let g = spa_geocentric(t, DELTA_T_DEFAULT_S).core();
+            let site = Site::new(&obs);
+            let full = g.topocentric(&site, &DENVER_AIR).e0_deg;
+            let light = spa_geometric_elevation_deg(&g, &site);
+            assert!((full - light).abs() < 1e-10, "{full} vs {light}");
+        }
     }
 
     #[test]
