@@ -271,7 +271,12 @@ pub fn ranking(r: &RankResult) -> String {
 
     if !ranked.is_empty() {
         let _ = writeln!(out);
-        let _ = writeln!(out, "Monthly energy into the battery, kWh");
+        let heading = if r.loaded.plan.consumption.is_some() {
+            "Monthly energy delivered to the battery and the load, kWh"
+        } else {
+            "Monthly energy into the battery, kWh"
+        };
+        let _ = writeln!(out, "{heading}");
         let _ = write!(out, "{:<name_w$}", "");
         for m in MONTHS {
             let _ = write!(out, "{m:>6}");

@@ -68,13 +68,16 @@ fn fonts() -> Result<(), String> {
         .clone()
 }
 
-/// Monthly energy into the battery of the best few ranked layouts.
+/// Monthly energy delivered (into the battery, and to the load if any) of the best few
+/// ranked layouts.
 #[derive(Clone, Debug, PartialEq)]
 pub struct MonthlyEnergy {
     /// (legend label, kWh per month January first), best first.
     pub layouts: Vec<(String, [f64; 12])>,
     /// How many layouts were ranked in all (the title says "best n of N").
     pub ranked: usize,
+    /// The plan has a load: the energy went to the battery and the load.
+    pub with_load: bool,
 }
 
 /// Month × hour-of-day difference between the best layout and the runner-up.
@@ -225,6 +228,7 @@ pub fn plan_charts(r: &RankResult) -> PlannedCharts {
             .map(|(o, e)| (label(o), e.monthly_kwh()))
             .collect(),
         ranked: ranked.len(),
+        with_load: r.loaded.plan.consumption.is_some(),
     }));
     match gain_map(r, &ranked) {
         Ok(g) => charts.push(Chart::GainMap(Box::new(g))),
@@ -437,11 +441,19 @@ fn draw_monthly<DB: DrawingBackend>(
     root: &DrawingArea<DB, Shift>,
     c: &MonthlyEnergy,
 ) -> DrawResult<DB> {
-    let title = format!(
-        "Monthly energy into the battery, {}",
-        which_layouts(c.layouts.len(), c.ranked)
-    );
-    draw_month_bars(root, &title, "energy into the battery, kWh", &c.layouts)
+    let (what, axis) = if c.with_load {
+        (
+            "Monthly energy to the battery and the load",
+            "energy delivered, kWh",
+        )
+    } else {
+        (
+            "Monthly energy into the battery",
+            "energy into the battery, kWh",
+        )
+    };
+    let title = format!("{what}, {}", which_layouts(c.layouts.len(), c.ranked));
+    draw_month_bars(root, &title, axis, &c.layouts)
 }
 
 fn draw_monthly_unmet<DB: DrawingBackend>(
