@@ -80,15 +80,8 @@ fn demo_year(c: &mut Criterion) {
     let loaded = load(&PlanSource::Demo).expect("demo loads");
     let plan = &loaded.plan;
     let temps = wirerank::design_temperatures(plan, &loaded.weather);
-    let all = layouts::listed(plan);
-    let passing: Vec<&layouts::Layout> = all
-        .iter()
-        .filter(|l| {
-            limits::check_layout(plan, l, &temps)
-                .iter()
-                .all(|f| f.severity != limits::Severity::Reject)
-        })
-        .collect();
+    let all = passing_layouts(plan, &temps);
+    let passing: Vec<&layouts::Layout> = all.iter().collect();
     let mut g = c.benchmark_group("demo year, single thread");
     g.sample_size(10);
     g.bench_function("phase 1 (all orientations)", |b| {

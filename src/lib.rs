@@ -877,6 +877,14 @@ mod tests {
         }
     }
 
+    fn best(d: &Demo) -> &rank::LayoutOutcome {
+        d.result
+            .outcomes
+            .iter()
+            .find(|o| o.rank == Some(1))
+            .expect("a best layout")
+    }
+
     fn unmet_kwh(d: &Demo, plan: &Plan, layout: &layouts::Layout) -> f64 {
         let e = phase2::simulate_layouts(
             plan,
@@ -896,12 +904,7 @@ mod tests {
     fn extra_modules_answer_is_the_first_count_that_meets_the_target() {
         let d = demo();
         let plan = &d.result.loaded.plan;
-        let best = d
-            .result
-            .outcomes
-            .iter()
-            .find(|o| o.rank == Some(1))
-            .expect("a best layout");
+        let best = best(&d);
         let m = d.result.module_sizing.as_ref().expect("demo has a load");
         let ModuleAnswer::Found {
             modules,
@@ -931,12 +934,7 @@ mod tests {
     #[test]
     fn extra_modules_none_needed_and_not_reached() {
         let d = demo();
-        let best = d
-            .result
-            .outcomes
-            .iter()
-            .find(|o| o.rank == Some(1))
-            .expect("a best layout");
+        let best = best(&d);
         let mut lenient = d.result.loaded.plan.clone();
         if let Some(c) = lenient.consumption.as_mut() {
             c.unmet_target_wh = 1e9;
@@ -982,12 +980,7 @@ mod tests {
     fn adding_strings_stops_at_a_named_limit() {
         let d = demo();
         let plan = &d.result.loaded.plan;
-        let best = d
-            .result
-            .outcomes
-            .iter()
-            .find(|o| o.rank == Some(1))
-            .expect("a best layout");
+        let best = best(&d);
         let mut l = best.layout.clone();
         let mut added = 0;
         let why = loop {
