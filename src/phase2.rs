@@ -356,20 +356,17 @@ impl ShadeScene {
     }
 }
 
-/// Conductor resistances of one layout at an air temperature, ohm.
-fn cable_resistances(plan: &Plan, layout: &Layout, air_c: f64) -> (f64, Vec<f64>) {
+/// Conductor resistances of one layout at an air temperature, ohm: the string lead's,
+/// returned, and each input's main run, written into `r_main` (reused between intervals).
+fn cable_resistances(plan: &Plan, layout: &Layout, air_c: f64, r_main: &mut Vec<f64>) -> f64 {
     let t = air_c + plan.cables.conductor_rise_dk;
     let lead = &plan.cables.string_lead;
-    let r_lead = cable_resistance_ohm(lead.conductor, lead.length_m, lead.cross_section_mm2, t);
-    let r_main = layout
-        .inputs
-        .iter()
-        .map(|w| {
-            let run = &plan.controllers[w.controller].main_run;
-            cable_resistance_ohm(run.conductor, run.length_m, run.cross_section_mm2, t)
-        })
-        .collect();
-    (r_lead, r_main)
+    r_main.clear();
+    r_main.extend(layout.inputs.iter().map(|w| {
+        let run = &plan.controllers[w.controller].main_run;
+        cable_resistance_ohm(run.conductor, run.length_m, run.cross_section_mm2, t)
+    }));
+    cable_resistance_ohm(lead.conductor, lead.length_m, lead.cross_section_mm2, t)
 }
 
 /// Joule loss in the cables of one input at a terminal voltage, W: each string's current
@@ -469,6 +466,7 @@ fn simulate_layout_with(
     let n_inputs = layout.inputs.len();
     let mut kept_curves: Vec<ArrayCurve> = Vec::new();
     let mut kept_cable_w: Vec<f64> = Vec::new();
+    let mut r_main: Vec<f64> = Vec::with_capacity(n_inputs);
     for pass in 0..passes {
         let keep = reuse_kept && passes > 1 && pass == 0;
         let reuse = reuse_kept && pass > 0;
@@ -530,7 +528,12 @@ fn simulate_layout_with(
                 e.losses_wh[3][m] += light_after_shade - mpp * wh;
                 sub_mpp_sum += mpp;
             }
-            let (r_lead, r_main) = cable_resistances(plan, layout, info.air_temp_c);
+            // The second pass reuses curves and cable losses that already include the cables.
+            let r_lead = if reuse {
+                0.0
+            } else {
+                cable_resistances(plan, layout, info.air_temp_c, &mut r_main)
+            };
             // Cables: Joule loss in the string leads and the main run at the array's best terminal
             // point; the array maximum before cables is that best power plus this loss.
             let mut cable_w = 0.0;
@@ -740,7 +743,8 @@ pub fn layout_curves_at(
     k: usize,
 ) -> Option<Vec<(usize, ArrayCurve)>> {
     let ic = interval_curves(plan, cond, &ShadeScene::new(plan), k)?;
-    let (r_lead, r_main) = cable_resistances(plan, layout, cond.intervals[k].air_temp_c);
+    let mut r_main = Vec::new();
+    let r_lead = cable_resistances(plan, layout, cond.intervals[k].air_temp_c, &mut r_main);
     let mut scratch = Scratch::default();
     Some(
         layout

@@ -1179,36 +1179,28 @@ const MAX_INTERPOLATION_SPAN_S: f64 = 7200.0;
 /// Time resolution of the sunrise/sunset search, seconds.
 const CROSSING_TOLERANCE_S: f64 = 1.0;
 
-/// Instant at which the elevation of the sun's centre (apparent, or geometric when
-/// `apparent` is false) crosses `threshold_deg` between `t_lo` and `t_hi`, to a bracket of
-/// [`CROSSING_TOLERANCE_S`]; the answer is the midpoint of the final bracket. The sign of
-/// (elevation − threshold) must differ at the two ends.
+/// Instant at which the geometric elevation of the sun's centre crosses `target_deg`
+/// between `t_lo` and `t_hi`, to a bracket of [`CROSSING_TOLERANCE_S`]; the answer is the
+/// midpoint of the final bracket. The sign of (elevation − target) must differ at the two
+/// ends.
 ///
-/// An apparent threshold is turned into the equivalent geometric one once
-/// ([`geometric_threshold_deg`]), so the search runs on the smooth geometric elevation (the
-/// apparent one has a kink and a jump at SPA's refraction cut-off). While the bracket is
-/// longer than [`MAX_INTERPOLATION_SPAN_S`] it is halved with geocentric values from
-/// `geo`; then the geocentric values are interpolated linearly and false position, with a
-/// probe 0.9 of a tolerance beyond each estimate, closes the bracket (bisection if that
-/// stalls).
-#[allow(clippy::too_many_arguments)]
+/// An apparent threshold is searched as its geometric equivalent
+/// ([`geometric_threshold_deg`], computed by the caller once), so the search runs on the
+/// smooth geometric elevation (the apparent one has a kink and a jump at SPA's refraction
+/// cut-off). While the bracket is longer than [`MAX_INTERPOLATION_SPAN_S`] it is halved
+/// with geocentric values from `geo`; then the geocentric values are interpolated linearly
+/// and false position, with a probe 0.9 of a tolerance beyond each estimate, closes the
+/// bracket (bisection if that stalls).
 fn find_crossing(
     mut t_lo: f64,
     mut g_lo: GeoCore,
     mut t_hi: f64,
     mut g_hi: GeoCore,
     site: &Site,
-    atm: &Atmosphere,
     geo: &impl Fn(f64) -> GeoCore,
-    threshold_deg: f64,
-    apparent: bool,
+    target_deg: f64,
 ) -> f64 {
-    let target = if apparent {
-        geometric_threshold_deg(threshold_deg, atm)
-    } else {
-        threshold_deg
-    };
-    let above = |g: &GeoCore| spa_geometric_elevation_deg(g, site) - target;
+    let above = |g: &GeoCore| spa_geometric_elevation_deg(g, site) - target_deg;
     let mut f_lo = above(&g_lo);
     let up_at_lo = f_lo > 0.0;
     while t_hi - t_lo > MAX_INTERPOLATION_SPAN_S {
@@ -1281,16 +1273,19 @@ pub(crate) fn find_sun_crossing(
     apparent: bool,
 ) -> f64 {
     let geo = |t: f64| spa_geocentric(t, delta_t_s).core();
+    let target = if apparent {
+        geometric_threshold_deg(threshold_deg, atm)
+    } else {
+        threshold_deg
+    };
     find_crossing(
         t_lo,
         geo(t_lo),
         t_hi,
         geo(t_hi),
         &Site::new(obs),
-        atm,
         &geo,
-        threshold_deg,
-        apparent,
+        target,
     )
 }
 
@@ -1340,7 +1335,7 @@ fn interval_sun_from(
     let target = geometric_threshold_deg(0.0, atm);
     let up = |g: &GeoCore| spa_geometric_elevation_deg(g, site) > target;
     let crossing = |t0: f64, g0: &GeoCore, t1: f64, g1: &GeoCore| {
-        find_crossing(t0, *g0, t1, *g1, site, atm, geo, 0.0, true)
+        find_crossing(t0, *g0, t1, *g1, site, geo, target)
     };
     let (lit_from, lit_to, lit_total) = match (up(&g_start), up(&g_mid), up(&g_end)) {
         (false, false, false) => return None,
@@ -1404,8 +1399,8 @@ fn interval_sun_from(
 /// centre is 0.57° below the horizon; the upper-limb sunrise of almanacs, at −0.8333°, comes
 /// earlier, by 2.1 min in Denver in October). Then:
 /// - sunlit throughout: evaluate at the midpoint, `sunlit_frac` = 1;
-/// - sunrise (or sunset) inside: find the crossing t_c by bisection on the apparent
-///   elevation to ~1 s; evaluate at the midpoint of [t_c, end) (or [start, t_c));
+/// - sunrise (or sunset) inside: find the crossing t_c of the apparent elevation to ~1 s
+///   (searched as its geometric equivalent, see `find_crossing`); evaluate at the midpoint of [t_c, end) (or [start, t_c));
 /// - rise and set inside (polar day edges, long intervals): midpoint of [t_rise, t_set);
 /// - set then rise inside (sun grazing the horizon near midnight at high latitude): the
 ///   midpoint of the longer sunlit piece, `sunlit_frac` = both pieces together;
@@ -1416,7 +1411,7 @@ fn interval_sun_from(
 /// midpoint (elevation bound: 15.1°/h · |cos φ| + 0.02°/h): a low-precision almanac
 /// formula (error allowance 0.1°, 1900–2100 only) settles "dark throughout" without SPA,
 /// and one SPA call at the midpoint settles "sunlit throughout". Otherwise both ends get a
-/// full SPA call too, and the bisection interpolates the geocentric values linearly between
+/// full SPA call too, and the search interpolates the geocentric values linearly between
 /// full SPA calls (error < 1e-5° over 2 h), so that only the topocentric step repeats. The
 /// evaluation point always gets a full SPA call.
 ///
