@@ -181,7 +181,7 @@ struct InputChoice {
     string_kinds: Vec<(usize, Vec<usize>)>,
 }
 
-/// Every way to wire the plan's modules (MODEL.md §8, issue "every wiring"): each controller
+/// Every way to wire the plan's modules (notebooks-free-docs/method-wiring.md, issue "every wiring"): each controller
 /// input carries either nothing or p parallel strings of s modules; at least one input is
 /// used. Strings take their modules from one orientation group; with
 /// `allow_mixed_orientation`, an input may also carry strings that all share one mixed

@@ -462,7 +462,7 @@ pub struct Sizing {
 }
 
 /// The smallest battery (in the plan's steps) that brings the best layout's unmet load to the
-/// plan's target, found by simulating the year (MODEL.md §11), with the harvest the layout
+/// plan's target, found by simulating the year (notebooks-free-docs/method-battery.md), with the harvest the layout
 /// offers at the plan's battery.
 fn size_battery(
     plan: &Plan,

@@ -1,4 +1,4 @@
-//! Electrical limit checks, run before any energy is reported (MODEL.md §12).
+//! Electrical limit checks, run before any energy is reported (notebooks-free-docs/method-limits.md).
 //!
 //! A broken hard limit rejects a layout (it is listed with the rule, the numbers and the
 //! margin, never ranked); a soft finding is a warning on the layout. These are screening
@@ -117,7 +117,7 @@ pub fn voc_at_v(voc_stc_v: f64, beta_voc_v_k: f64, cell_c: f64) -> f64 {
     voc_stc_v + beta_voc_v_k * (cell_c - 25.0)
 }
 
-/// Checks every rule of MODEL.md §12 for one layout.
+/// Checks every rule of notebooks-free-docs/method-limits.md for one layout.
 pub fn check_layout(plan: &Plan, layout: &Layout, temps: &DesignTemperatures) -> Vec<Finding> {
     let mut out = Vec::new();
     for w in &layout.inputs {

@@ -27,7 +27,7 @@ use crate::simulate::Conditions;
 /// Points on each interval's shared current grid.
 pub const GRID_POINTS: usize = crate::physics::wiring::GRID_POINTS_DEFAULT;
 
-/// The loss steps of MODEL.md §10, in order.
+/// The loss steps of notebooks-free-docs/method-accounting.md, in order.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Step {
     Incidence,
@@ -443,7 +443,7 @@ fn simulate_layout_with(
         .iter()
         .map(|w| plan.controllers[w.controller].model.with_other_tracking())
         .collect();
-    // The tracker comparison is for plans with partial shade (MODEL.md §9, issue on shading):
+    // The tracker comparison is for plans with partial shade (notebooks-free-docs/method-controller.md, issue on shading):
     // without shade the array has one maximum and both trackers agree.
     let compare_trackers = !plan.shade.is_empty() || !plan.geometry.is_empty();
     let mut scratch = Scratch::default();
@@ -454,7 +454,7 @@ fn simulate_layout_with(
         .collect();
     let low_sun = plan.model.low_sun_elevation_deg;
     // With a battery model the year runs twice and the second pass is reported, so that the
-    // result does not depend on the starting state of charge (MODEL.md §11).
+    // result does not depend on the starting state of charge (notebooks-free-docs/method-battery.md).
     let spec = plan.battery.model.as_ref();
     let load = plan.consumption.as_ref().map(|c| &c.load);
     let mut state = spec.map(|b| b.initial_state());

@@ -134,7 +134,7 @@ pub struct Battery {
     /// Voltage the controller charges at when no battery model is given, V.
     pub charge_v: f64,
     /// State of charge, stages and acceptance (when the plan gives `capacity_ah`): the
-    /// charging voltage then follows the battery (MODEL.md §11).
+    /// charging voltage then follows the battery (notebooks-free-docs/method-battery.md).
     pub model: Option<BatterySpec>,
 }
 
@@ -196,7 +196,7 @@ pub struct LayoutSpec {
     pub inputs: Vec<(usize, Vec<Vec<usize>>)>,
 }
 
-/// The site's geometry for shading: horizon profiles and near obstacles (MODEL.md §5).
+/// The site's geometry for shading: horizon profiles and near obstacles (notebooks-free-docs/method-shade.md).
 #[derive(Clone, Debug, Default)]
 pub struct Geometry {
     /// Horizon seen by every module without a more specific one.

@@ -76,7 +76,7 @@ pub fn score_kwh(e: &LayoutEnergy, c: Criterion, present: &[bool; 12], winter: &
             .filter(|&m| present[m])
             .map(|m| kwh[m])
             .fold(f64::INFINITY, f64::min),
-        // With a load, winter counts what reached the load (MODEL.md §11 outlook).
+        // With a load, winter counts what reached the load (notebooks-free-docs/method-battery.md outlook).
         Criterion::Winter if e.load_served_wh.iter().any(|&x| x > 0.0) => {
             winter.iter().map(|&m| e.load_served_wh[m] / 1000.0).sum()
         }

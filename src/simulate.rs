@@ -133,8 +133,8 @@ pub struct Conditions {
 
 /// Runs phase 1 over the whole weather series.
 ///
-/// Each interval is evaluated once, at the sun position of MODEL.md §2; the weather values are
-/// interval means, so no sunlit-fraction factor is applied (MODEL.md, conventions).
+/// Each interval is evaluated once, at the sun position of notebooks-free-docs/method-sun.md; the weather values are
+/// interval means, so no sunlit-fraction factor is applied (notebooks-free-docs/conventions.md).
 pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
     let observer = Observer {
         latitude_deg: site.latitude_deg,

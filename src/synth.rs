@@ -118,7 +118,7 @@ const TAG_REDRAWS: usize = 20;
 
 /// Day length bounds for the Parton & Logan cycle, h: beyond the polar circles the day or
 /// the night vanishes and the published cycle has no shape; the bounds keep a short night or
-/// a short day so the curve stays defined (documented in method-synth.md).
+/// a short day so the curve stays defined (documented in notebooks-free-docs/method-synth.md).
 const DAY_LENGTH_BOUNDS_H: (f64, f64) = (2.0, 22.0);
 
 /// Daily range scale from clearness: R_d = R_m · clamp(½ + ½ Kt_d / K̄T, bounds).
@@ -739,7 +739,7 @@ pub struct HourSun {
     /// Hour mean of the Haurwitz clear-sky global horizontal irradiance, W/m².
     pub clear_sky_w_m2: f64,
     /// Mean cos z over the sunlit part of the hour (0 when the sun stays down): the sun the
-    /// TAG model and the Erbs split see (MODEL.md §2: the midpoint of the sunlit part).
+    /// TAG model and the Erbs split see (notebooks-free-docs/method-sun.md: the midpoint of the sunlit part).
     pub cos_zenith_sunlit: f64,
     /// Extraterrestrial normal irradiance of the day, W/m².
     pub g_on_w_m2: f64,
@@ -2127,7 +2127,7 @@ mod tests {
             );
             assert!(dhi <= w.ghi_w_m2[k] && dni >= 0.0);
         }
-        // Source: MODEL.md §1 rule (1.5 × extraterrestrial) as the weather check applies it.
+        // Source: notebooks-free-docs/weather-format.md rule (1.5 × extraterrestrial) as the weather check applies it.
         w.check_against_extraterrestrial(45.0, 7.0, 1.0).unwrap();
     }
 

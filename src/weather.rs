@@ -4,7 +4,7 @@
 //! (fixed UTC offset, no daylight saving) and the interval-mean values, copied into plain
 //! `Vec<f64>` for the simulation loop. An importer (our CSV in `io/weather_csv.rs`, later
 //! others) fills an [`UncheckedWeather`] with the values as written plus the file line of
-//! each row, and [`UncheckedWeather::validate`] applies the MODEL.md §1 rules: stamps on the
+//! each row, and [`UncheckedWeather::validate`] applies the notebooks-free-docs/weather-format.md rules: stamps on the
 //! grid, in order, without duplicates; short gaps repaired, long ones rejected; physical
 //! ranges; small night-time negatives and small diffuse-above-global excesses clamped with a
 //! counted warning. The one rule that needs the site (GHI against extraterrestrial
@@ -42,7 +42,7 @@ pub const DIFFUSE_EXCESS_CLAMP_W_M2: f64 = 5.0;
 pub const MAX_FILL_INTERVALS: i64 = 3;
 
 /// GHI may not exceed this multiple of the interval-mean extraterrestrial horizontal
-/// irradiance (MODEL.md §1).
+/// irradiance (notebooks-free-docs/weather-format.md).
 pub const EXTRATERRESTRIAL_FACTOR: f64 = 1.5;
 
 /// Added to the extraterrestrial limit so that twilight (sun just below the horizon, a few
@@ -52,7 +52,7 @@ pub const EXTRATERRESTRIAL_FACTOR: f64 = 1.5;
 /// Common practice, no source.
 pub const EXTRATERRESTRIAL_ALLOWANCE_W_M2: f64 = 10.0;
 
-/// Plausible air temperature, °C (MODEL.md §1).
+/// Plausible air temperature, °C (notebooks-free-docs/weather-format.md).
 pub const AIR_TEMP_RANGE_C: (f64, f64) = (-90.0, 60.0);
 /// Plausible wind speed at 10 m, m/s.
 pub const WIND_RANGE_M_S: (f64, f64) = (0.0, 75.0);
@@ -254,7 +254,7 @@ impl Weather {
         format_local_s(self.local_start_s[k] + shift)
     }
 
-    /// MODEL.md §1 rule that needs the sun: GHI above 1.5 × extraterrestrial horizontal
+    /// notebooks-free-docs/weather-format.md rule that needs the sun: GHI above 1.5 × extraterrestrial horizontal
     /// irradiance is an error naming the line.
     ///
     /// # Formula
@@ -267,7 +267,7 @@ impl Weather {
     ///
     /// # Source
     /// G_on: Duffie & Beckman 4th ed. eq. 1.4.1b (Spencer 1971); δ: eq. 1.6.1b; E: eq. 1.5.3;
-    /// solar time: eq. 1.5.2; cos z: eq. 1.6.5. Factor 1.5: MODEL.md §1.
+    /// solar time: eq. 1.5.2; cos z: eq. 1.6.5. Factor 1.5: notebooks-free-docs/weather-format.md.
     ///
     /// # Validity
     /// The textbook sun is within about 0.5° of the true position: ample for a limit with
@@ -382,7 +382,7 @@ const PRESSURE_RULE: RangeRule = RangeRule {
 };
 
 impl UncheckedWeather {
-    /// Checks every MODEL.md §1 rule that needs no site, repairs what can be repaired, and
+    /// Checks every notebooks-free-docs/weather-format.md rule that needs no site, repairs what can be repaired, and
     /// returns the validated series.
     ///
     /// Rules, in file order (the first violation is reported):
@@ -1039,7 +1039,7 @@ mod tests {
         let mut u = unchecked(start, 48, |_| 0.0, |_| -5.0);
         u.stamp = StampConvention::End;
         let w = u.validate().unwrap();
-        // Source: the stamp convention's definition (MODEL.md §1): start = end stamp − interval.
+        // Source: the stamp convention's definition (notebooks-free-docs/weather-format.md): start = end stamp − interval.
         assert_eq!(w.len(), 48);
         assert_eq!(w.local_start_s[0], local_s(2025, 1, 1, 0, 0));
         assert_eq!(w.local_hour(0), 0);

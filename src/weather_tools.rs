@@ -26,7 +26,7 @@ use crate::Outcome;
 
 type Monthly = Spanned<Vec<Spanned<f64>>>;
 
-/// The monthly-inputs file as written (see `method-synth.md`).
+/// The monthly-inputs file as written (see `notebooks-free-docs/method-synth.md`).
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 struct RawMonthly {

@@ -1151,7 +1151,7 @@ fn validate_controller(
                 }
             };
             let efficiency_curve = match &r.efficiency {
-                // From memory of typical small MPPT units (MODEL.md §9): flat 96 %.
+                // From memory of typical small MPPT units (notebooks-free-docs/method-controller.md): flat 96 %.
                 None => vec![(0.0, 0.96), (1.0, 0.96)],
                 Some(e) => efficiency_curve(ctx, e, &k("efficiency"))?,
             };

@@ -1,6 +1,6 @@
 //! Battery and load: the state of charge interval by interval, the voltage the controllers
 //! charge at, how much the battery accepts, what the load gets and what is curtailed
-//! (MODEL.md §11, and the battery voltage of §9).
+//! (notebooks-free-docs/method-battery.md, and the battery voltage of §9).
 //!
 //! The battery is an energy bucket: stored energy = state of charge × capacity (Ah) × nominal
 //! voltage, with a floor at 1 − usable depth of discharge. Charging follows the three-stage
@@ -593,7 +593,7 @@ impl BatterySpec {
     /// float → bulk below rebulk_soc_frac.
     ///
     /// # Source
-    /// MODEL.md §11 (load first from harvest, surplus to the battery, throttled when full);
+    /// notebooks-free-docs/method-battery.md (load first from harvest, surplus to the battery, throttled when full);
     /// stage rules: common practice of small controllers, no source.
     ///
     /// # Validity
@@ -1077,7 +1077,7 @@ mod tests {
             let load_wh = load.wh_at(y.month[k], y.hour[k], y.weekend[k], 1.0);
             let h = y.harvest_wh[k];
             let f = spec.step(&mut s, h, load_wh, 1.0);
-            // Source: MODEL.md §11 and the definition of each flow (common practice):
+            // Source: notebooks-free-docs/method-battery.md and the definition of each flow (common practice):
             // harvest = load_from_harvest + to_battery + curtailed, load = load_from_harvest
             // + from_battery + unmet, stored change = to·η_c − from/η_d; rounding only.
             close(
@@ -1181,7 +1181,7 @@ mod tests {
 
     #[test]
     fn huge_battery_without_load_accepts_every_watt_hour() {
-        // Source: MODEL.md §11 / definition: an unbounded store curtails nothing, so delivered
+        // Source: notebooks-free-docs/method-battery.md / definition: an unbounded store curtails nothing, so delivered
         // energy equals the controllers' output exactly (bit for bit).
         let y = synthetic_year(500.0);
         for chem in [Chemistry::LeadAcid, Chemistry::LiFePo4] {
@@ -1220,7 +1220,7 @@ mod tests {
 
     #[test]
     fn a_full_battery_throttles_harvest_to_the_load() {
-        // Source: MODEL.md §11 (when full, harvest is throttled to the load).
+        // Source: notebooks-free-docs/method-battery.md (when full, harvest is throttled to the load).
         let mut p = params(Chemistry::LeadAcid, 100.0, 12.0);
         p.initial_soc_frac = 1.0;
         let b = spec(p);

@@ -3,7 +3,7 @@
 //!
 //! The controller sees the array curve at its terminals (cable drops already applied). This
 //! module decides the operating point for one interval and splits the available power into
-//! the loss steps of MODEL.md §10; it keeps the wake/sleep state between intervals. It knows
+//! the loss steps of notebooks-free-docs/method-accounting.md; it keeps the wake/sleep state between intervals. It knows
 //! nothing of layouts, plans or files.
 
 use crate::physics::wiring::ArrayCurve;
@@ -11,7 +11,7 @@ use crate::physics::wiring::ArrayCurve;
 /// Which maximum an MPPT tracker settles on.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum TrackerMode {
-    /// The highest power in the window (MODEL.md §9).
+    /// The highest power in the window (notebooks-free-docs/method-controller.md).
     Global,
     /// Climbs from the open-circuit side and stops at the first maximum.
     Local,
@@ -64,7 +64,7 @@ pub struct ControllerPowers {
 /// Linear interpolation of an efficiency curve at an output fraction; flat beyond its ends.
 ///
 /// # Source
-/// MODEL.md §9 (a few points, linear interpolation).
+/// notebooks-free-docs/method-controller.md (a few points, linear interpolation).
 pub fn efficiency_at(curve: &[(f64, f64)], fraction: f64) -> f64 {
     match curve {
         [] => 1.0,
@@ -220,7 +220,7 @@ impl ControllerModel {
     /// I ≤ min(input, charge rating), delivered V_bat · I.
     ///
     /// # Source
-    /// MODEL.md §9 (behaviour common to small charge controllers; no single published source).
+    /// notebooks-free-docs/method-controller.md (behaviour common to small charge controllers; no single published source).
     pub fn operate(
         &self,
         curve: &ArrayCurve,
@@ -385,7 +385,7 @@ mod tests {
 
     #[test]
     fn never_wakes_when_voc_stays_below_battery_plus_start_offset() {
-        // Source: MODEL.md §9 start-up rule (common practice: battery + 5 V to start). One
+        // Source: notebooks-free-docs/method-controller.md start-up rule (common practice: battery + 5 V to start). One
         // 36-cell module (Voc ≈ 22 V) cannot start a 24 V-system controller charging at
         // 27.2 V, however long it waits.
         let c = curve(1, 1, 1000.0, 0.0);
@@ -403,7 +403,7 @@ mod tests {
 
     #[test]
     fn clipped_output_never_exceeds_the_charge_limit() {
-        // Source: MODEL.md §9 (output limit = max charge current × battery voltage).
+        // Source: notebooks-free-docs/method-controller.md (output limit = max charge current × battery voltage).
         let c = curve(2, 3, 1000.0, 0.0);
         let ctl = mppt(50.0, 10.0);
         let mut awake = true;
@@ -419,7 +419,7 @@ mod tests {
 
     #[test]
     fn input_current_limit_moves_the_point_toward_open_circuit() {
-        // Source: MODEL.md §9 (operating point moves up the curve so that I ≤ limit).
+        // Source: notebooks-free-docs/method-controller.md (operating point moves up the curve so that I ≤ limit).
         let c = curve(1, 4, 1000.0, 0.0);
         let ctl = mppt(20.0, 100.0);
         let mut awake = true;
@@ -464,7 +464,7 @@ mod tests {
 
     #[test]
     fn pwm_holds_the_array_at_battery_voltage() {
-        // Source: MODEL.md §9 (PWM: operating voltage = battery + switch drop, no gain).
+        // Source: notebooks-free-docs/method-controller.md (PWM: operating voltage = battery + switch drop, no gain).
         let c = curve(1, 2, 1000.0, 0.0);
         let ctl = ControllerModel::Pwm {
             switch_drop_v: 0.2,
@@ -480,7 +480,7 @@ mod tests {
 
     #[test]
     fn efficiency_interpolates_and_is_flat_outside() {
-        // Source: common practice, no source (linear interpolation, MODEL.md §9).
+        // Source: common practice, no source (linear interpolation, notebooks-free-docs/method-controller.md).
         let c = [(0.1, 0.90), (0.5, 0.96), (1.0, 0.94)];
         assert!((efficiency_at(&c, 0.0) - 0.90).abs() < 1e-12);
         assert!((efficiency_at(&c, 0.3) - 0.93).abs() < 1e-12);

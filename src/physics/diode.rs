@@ -43,7 +43,7 @@ pub const EG_TEMP_COEFF_PER_K: f64 = -0.000_267_7;
 ///
 /// # Source
 /// Common practice, no source: Schottky bypass diodes in junction boxes drop 0.4–0.6 V
-/// at module current; MODEL.md §7 fixes 0.5 V as the default.
+/// at module current; notebooks-free-docs/method-diode.md fixes 0.5 V as the default.
 pub const BYPASS_DROP_DEFAULT_V: f64 = 0.5;
 
 /// Irradiance below which the shunt resistance stops growing, W/m².
@@ -471,7 +471,7 @@ fn fit_residuals(ds: &Datasheet, x: &[f64; 3]) -> Option<[f64; 3]> {
     // g = I0/a·e^(Vd/a) + 1/Rsh.
     let g = (p.io_ref_a + id) / p.a_ref_v + 1.0 / p.rsh_ref_ohm;
     let r_slope = 1.0 - ds.vmp_v / ds.imp_a * g / (1.0 + g * p.rs_ohm);
-    // Condition 5 (MODEL.md conventions): Voc at 35 °C cell = Voc_ref + β·10 K.
+    // Condition 5 (notebooks-free-docs/conventions.md): Voc at 35 °C cell = Voc_ref + β·10 K.
     let voc35 = p.at(S_REF_W_M2, 35.0).voc_v();
     let r_voc = (voc35 - (ds.voc_v + 10.0 * ds.beta_voc_v_k)) / ds.voc_v;
     let r = [r_mpp, r_slope, r_voc];
@@ -566,7 +566,7 @@ fn clamp_unknowns(x: [f64; 3]) -> [f64; 3] {
 ///
 /// # Source
 /// De Soto, Klein & Beckman 2006, Solar Energy 80, 78–88, section 3 (the five conditions);
-/// the fifth condition's 35 °C point is MODEL.md's convention. Levenberg 1944, Marquardt 1963.
+/// the fifth condition's 35 °C point is the convention of notebooks-free-docs/conventions.md. Levenberg 1944, Marquardt 1963.
 ///
 /// # Validity
 /// Crystalline-silicon modules (Eg_ref = 1.121 eV). The result reproduces Isc, Voc, Vmp,
@@ -918,7 +918,7 @@ impl OperatingParams {
 /// driven below −Vd (constant forward drop, no diode curve).
 ///
 /// # Source
-/// MODEL.md §7; the constant-drop diode is common practice, no source.
+/// notebooks-free-docs/method-diode.md; the constant-drop diode is common practice, no source.
 pub fn substring_voltage_v(p: &OperatingParams, i: f64, bypass_drop_v: f64) -> f64 {
     p.voltage_at(i).max(-bypass_drop_v)
 }
@@ -996,8 +996,8 @@ mod tests {
 
     #[test]
     fn fit_reproduces_datasheet() {
-        // Source: MODEL.md §7 / De Soto, Klein & Beckman 2006 (the fit's five conditions);
-        // MODEL.md requires 0.5 % on Pmax, and the brief the same on Isc, Voc, Vmp, Imp.
+        // Source: notebooks-free-docs/method-diode.md / De Soto, Klein & Beckman 2006 (the fit's five conditions);
+        // The project requires 0.5 % on Pmax (notebooks-free-docs/method-diode.md), and the same on Isc, Voc, Vmp, Imp.
         check_fit_reproduces(&ds36(), 0.005);
         check_fit_reproduces(&ds60(), 0.005);
         check_fit_reproduces(&ds72(), 0.005);
@@ -1037,7 +1037,7 @@ mod tests {
 
     #[test]
     fn voc_at_35_c_matches_beta() {
-        // Source: the fit's own fifth condition (MODEL.md conventions): Voc(35 °C) = Voc + 10β.
+        // Source: the fit's own fifth condition (notebooks-free-docs/conventions.md): Voc(35 °C) = Voc + 10β.
         // Residual tolerance 1e-10 of Voc in the fit; 1e-6 relative on the slope.
         for ds in [ds36(), ds60(), ds72()] {
             check_voc_slope(&ds, 35.0, 1e-6);
@@ -1228,7 +1228,7 @@ mod tests {
 
     #[test]
     fn inconsistent_datasheets_are_rejected() {
-        // Source: MODEL.md §7 (Vmp ≥ Voc, Imp ≥ Isc, fill factor out of range).
+        // Source: notebooks-free-docs/method-diode.md (Vmp ≥ Voc, Imp ≥ Isc, fill factor out of range).
         check_rejects(
             Datasheet {
                 vmp_v: 22.4,

@@ -128,7 +128,7 @@ impl HorizonProfile {
     ///
     /// Pass the apparent (refracted) sun elevation: a skyline is measured as it is seen.
     /// The sun counts as hidden when its centre is strictly below the skyline; beam and
-    /// circumsolar light are then blocked together (MODEL.md conventions).
+    /// circumsolar light are then blocked together (notebooks-free-docs/conventions.md).
     pub fn blocks(&self, sun_elevation_deg: f64, sun_azimuth_deg: f64) -> bool {
         sun_elevation_deg < self.elevation_at(sun_azimuth_deg)
     }
@@ -275,7 +275,7 @@ fn dome_integrals(plane: &DomePlane, horizon: &HorizonProfile) -> (f64, f64) {
 ///
 /// # Source
 /// Liu & Jordan 1963 (isotropic sky, view factor (1 + cos β)/2); the masked integral is
-/// geometry (method-shade.md derives the uniform-horizon checks).
+/// geometry (notebooks-free-docs/method-shade.md derives the uniform-horizon checks).
 ///
 /// # Validity
 /// Tilt 0..=90° (clamped), any azimuth. Quadrature error below 1e-9 for piecewise-linear
@@ -1638,7 +1638,7 @@ fn elevation_span(o: &Obstacle, p: [f64; 3], h: [f64; 2]) -> Option<(f64, f64)> 
 ///
 /// `beam_frac` multiplies the beam and circumsolar parts: 0 when the horizon hides the sun,
 /// otherwise 1 − the substring's shaded fraction. `sky_frac` multiplies the isotropic sky and
-/// the Perez horizon band (the band is treated as part of the dome, MODEL.md conventions):
+/// the Perez horizon band (the band is treated as part of the dome, notebooks-free-docs/conventions.md):
 /// [`sky_view_ratio`] or [`SkyViewLoss::isotropic_factor`]. The ground-reflected part and the
 /// angle of incidence are unchanged. Both factors are clamped to 0..=1.
 pub fn shade_poa(parts: &PoaParts, beam_frac: f64, sky_frac: f64) -> PoaParts {
@@ -1809,7 +1809,7 @@ mod tests {
     #[test]
     fn horizon_blocks_sun_below_the_skyline_only() {
         let h = HorizonProfile::new(&[(90.0, 10.0), (180.0, 20.0), (270.0, 0.0)]).unwrap();
-        // Source: definition (MODEL.md §5): beam blocked while the sun is below the skyline
+        // Source: definition (notebooks-free-docs/method-shade.md): beam blocked while the sun is below the skyline
         assert!(h.blocks(14.9, 135.0));
         assert!(!h.blocks(15.1, 135.0));
         assert!(!h.blocks(0.5, 270.0));
@@ -1915,7 +1915,7 @@ mod tests {
     fn uniform_horizon_on_horizontal_plane_leaves_cos_squared() {
         for h in [5.0, 10.0, 30.0, 60.0, 89.0] {
             let c = f64::to_radians(h).cos();
-            // Source: geometry, (1/π)∫∫_{e>h} sin e cos e de dφ = cos²h (method-shade.md)
+            // Source: geometry, (1/π)∫∫_{e>h} sin e cos e de dφ = cos²h (notebooks-free-docs/method-shade.md)
             check_uniform_horizon(0.0, h, c * c);
         }
     }
@@ -1925,7 +1925,7 @@ mod tests {
         for h in [5.0, 10.0, 30.0, 60.0] {
             let hr = f64::to_radians(h);
             // Source: geometry, ratio = 1 − (2h + sin 2h)/π for a vertical plane
-            // (method-shade.md)
+            // (notebooks-free-docs/method-shade.md)
             check_uniform_horizon(90.0, h, 1.0 - (2.0 * hr + (2.0 * hr).sin()) / PI);
         }
     }
@@ -1961,7 +1961,7 @@ mod tests {
         let hp = HorizonProfile::new(&points).unwrap();
         let expected = (1.0 + h_deg.to_radians().cos()) / 2.0;
         // Source: 2-D view factor from a horizontal element to an infinite wall,
-        // F = (1 − cos h)/2 (Hottel's crossed strings; method-shade.md derives it); 1e-4
+        // F = (1 − cos h)/2 (Hottel's crossed strings; notebooks-free-docs/method-shade.md derives it); 1e-4
         // covers the 1° linear sampling of the skyline
         assert_close(
             sky_view_frac(0.0, 180.0, &hp),
@@ -1981,7 +1981,7 @@ mod tests {
         let h = f64::atan(3.0 / 5.0);
         // Source: 2-D view factor from a horizontal element to an infinite wall of angular
         // height h, (1 − cos h)/2 (Hottel's crossed strings, from memory; derived in
-        // method-shade.md); 1e-6 covers the finite 2 km wall and the 1 mm module
+        // notebooks-free-docs/method-shade.md); 1e-6 covers the finite 2 km wall and the 1 mm module
         assert_close(loss.total_frac, (1.0 - h.cos()) / 2.0, 1e-6, "wall loss");
         assert_close(
             loss.per_obstacle_frac[0],
@@ -2219,7 +2219,7 @@ mod tests {
 
     #[test]
     fn worked_example_of_the_method_page() {
-        // method-shade.md: module 1.7 m × 1.0 m portrait, tilt 30° south, centre 1 m up;
+        // notebooks-free-docs/method-shade.md: module 1.7 m × 1.0 m portrait, tilt 30° south, centre 1 m up;
         // mast 6 m × r 0.1 m at (1, −4); sun at 25° elevation, azimuth 160°.
         let m = module([0.0, 0.0, 1.0], 30.0, 180.0, 1.7, 1.0, 3, true);
         let mast = Obstacle::Pole {
@@ -2238,19 +2238,19 @@ mod tests {
             cx += (p.0 + q.0) * w / 6.0;
             cy += (p.1 + q.1) * w / 6.0;
         }
-        // Source: hand computation in method-shade.md (projected axis from (0.556082,
+        // Source: hand computation in notebooks-free-docs/method-shade.md (projected axis from (0.556082,
         // −3.210468) to (−1.478058, 3.242870), midpoint printed to 6 decimals)
         assert_close(cx / a, -0.460988, 1e-6, "centroid u");
         assert_close(cy / a, 0.016201, 1e-6, "centroid v");
         let f = fractions(&m, &[mast], &s);
-        // Source: independent ray casting against the true cylinder in method-shade.md
+        // Source: independent ray casting against the true cylinder in notebooks-free-docs/method-shade.md
         // (400 × 400 points per substring): 0.3515, 0.0203, 0; 0.01 covers the 12-gon's
         // width error (≤ 2.3 % of the stripe) and the sampling
         assert_close(f[0], 0.3515, 0.01, "substring 0");
         assert_close(f[1], 0.0203, 0.01, "substring 1");
         assert_eq!(f[2], 0.0, "substring 2");
         let loss = obstacle_sky_view_loss(&m, &[mast], &HorizonProfile::flat()).unwrap();
-        // Source: recomputed from the formula (regression guard); method-shade.md checks
+        // Source: recomputed from the formula (regression guard); notebooks-free-docs/method-shade.md checks
         // its size by hand (≈ 0.0094 … 0.010)
         assert_close(loss.total_frac, 0.009968, 1e-6, "diffuse loss");
     }
@@ -2797,7 +2797,7 @@ mod tests {
             aoi_deg: 30.0,
         };
         let s = shade_poa(&p, 0.25, 0.5);
-        // Source: definition (MODEL.md §5 and its conventions)
+        // Source: definition (notebooks-free-docs/method-shade.md and its conventions)
         assert_eq!(
             s,
             PoaParts {

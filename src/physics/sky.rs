@@ -585,7 +585,7 @@ pub fn iam_factors(cover: &GlassCover, tilt_deg: f64) -> IamFactors {
 /// ground·ground_frac; `aoi_deg` is copied unchanged.
 ///
 /// # Source
-/// MODEL.md §4 of this project; the split of circumsolar light to the beam angle follows
+/// notebooks-free-docs/method-sky.md of this project; the split of circumsolar light to the beam angle follows
 /// its treatment as coming from the sun's direction in Perez et al. 1990.
 pub fn apply_iam(parts: &PoaParts, cover: &GlassCover, factors: &IamFactors) -> PoaParts {
     let beam_frac = cover.iam(parts.aoi_deg);
@@ -623,9 +623,9 @@ mod tests {
 
     #[test]
     fn erbs_diffuse_fraction_pieces() {
-        // Source: recomputed from Erbs, Klein & Duffie 1982 (CHECK-VALUES), 4 decimals
+        // Source: recomputed from Erbs, Klein & Duffie 1982, 4 decimals
         check_erbs(0.10, 0.9910, 5e-5);
-        // Source: recomputed from Erbs, Klein & Duffie 1982 (CHECK-VALUES), 4 decimals
+        // Source: recomputed from Erbs, Klein & Duffie 1982, 4 decimals
         check_erbs(0.50, 0.6591, 5e-5);
         // Source: Erbs, Klein & Duffie 1982, constant above kt = 0.80 (text)
         check_erbs(0.90, 0.165, 1e-12);
@@ -637,7 +637,7 @@ mod tests {
 
     #[test]
     fn erbs_pieces_join_within_published_gap() {
-        // Source: CHECK-VALUES (recomputed): the pieces do not join exactly, gap ≈ 4e-4
+        // Source: recomputed from the published formula: the pieces do not join exactly, gap ≈ 4e-4
         for edge in [0.22, 0.80] {
             let below = erbs_diffuse_fraction(edge);
             let above = erbs_diffuse_fraction(edge + 1e-9);
@@ -1057,8 +1057,8 @@ mod tests {
 
     #[test]
     fn perez_coefficients_per_bin() {
-        // Source: Perez et al. 1990, all-sites composite table (text, secondary copies,
-        // as listed in CHECK-VALUES), f11 f12 f13 f21 f22 f23; one ε from inside each bin
+        // Source: Perez et al. 1990, all-sites composite table (text, secondary copies of
+        // the paper), f11 f12 f13 f21 f22 f23; one ε from inside each bin
         check_perez_bin(
             1.03,
             40.0,

@@ -7,7 +7,7 @@
 //! not know about weather files, orientations or shading; it only answers "where is the
 //! sun, seen from here, at this instant (or for this interval)".
 //!
-//! Conventions (MODEL.md): angles in degrees at the interface, azimuth clockwise from true
+//! Conventions (notebooks-free-docs/conventions.md): angles in degrees at the interface, azimuth clockwise from true
 //! north (0 = N, 90 = E, 180 = S, 270 = W) for the sun and for surfaces, tilt 0 = horizontal,
 //! longitude positive east, latitude positive north. The textbook functions that follow
 //! Duffie & Beckman keep the book's south-based angles inside and convert at the boundary.
@@ -16,7 +16,7 @@
 /// Solar constant, W/m².
 ///
 /// # Source
-/// Kopp & Lean 2011 (Geophys. Res. Lett. 38): 1360.8 ± 0.5 W/m², rounded as MODEL.md §2 asks.
+/// Kopp & Lean 2011 (Geophys. Res. Lett. 38): 1360.8 ± 0.5 W/m², rounded as notebooks-free-docs/method-sun.md asks.
 pub const SOLAR_CONSTANT_W_M2: f64 = 1361.0;
 
 /// Day angle Γ of the Spencer 1971 series, radians.
@@ -1416,7 +1416,7 @@ fn interval_sun_from(
 /// evaluation point always gets a full SPA call.
 ///
 /// # Source
-/// MODEL.md §2 (midpoint, or midpoint of the sunlit part at sunrise/sunset — common
+/// notebooks-free-docs/method-sun.md (midpoint, or midpoint of the sunlit part at sunrise/sunset — common
 /// practice for hourly data); SPA ([`solar_position`]) for every reported position.
 ///
 /// # Validity
@@ -2026,7 +2026,7 @@ mod tests {
     #[test]
     fn spa_example_time_and_earth_position() {
         let g = spa_example().geo;
-        // Source: SPA report, worked example (CHECK-VALUES.md, text); tolerances are half a
+        // Source: SPA report, worked example (text); tolerances are half a
         // unit of the last printed digit.
         check("JD", g.jd, 2452930.312847, 5e-7);
         check("L", g.l_deg, 24.01826, 5e-6);
@@ -2061,7 +2061,7 @@ mod tests {
     #[test]
     fn spa_example_topocentric() {
         let d = spa_example();
-        // Source: SPA report, worked example (CHECK-VALUES.md, text).
+        // Source: SPA report, worked example (text).
         check("H", d.topo.h_deg, 11.105902, 5e-7);
         check("e0", d.topo.e0_deg, 39.872046, 5e-7);
         // The task demands 0.0005°; the report prints six decimals and we match those too.
@@ -2267,7 +2267,7 @@ mod tests {
     // ------------------------------------------------------------ Spencer 1971 and friends
 
     /// D&B Table 1.6.1: mean day of each month and its declination.
-    // Source: Duffie & Beckman 4th ed., Table 1.6.1; declinations text (CHECK-VALUES.md),
+    // Source: Duffie & Beckman 4th ed., Table 1.6.1; declinations text,
     // day numbers from memory (17, 47, 75, 105, 135, 162, 198, 228, 258, 288, 318, 344).
     const DB_MEAN_DAYS: [(f64, f64); 12] = [
         (17.0, -20.9),
@@ -2409,7 +2409,7 @@ mod tests {
 
     #[test]
     fn kasten_young_values() {
-        // Source: Kasten & Young 1989 formula, values recomputed (CHECK-VALUES.md).
+        // Source: Kasten & Young 1989 formula, values recomputed.
         check("AM(0)", air_mass_relative(0.0).unwrap(), 0.9997, 5e-5);
         check("AM(60)", air_mass_relative(60.0).unwrap(), 1.9943, 5e-5);
         check("AM(80)", air_mass_relative(80.0).unwrap(), 5.5860, 5e-5);
@@ -2476,7 +2476,7 @@ mod tests {
 
     #[test]
     fn azimuth_conventions() {
-        // Source: MODEL.md conventions: azimuth clockwise from north. Morning sun is east,
+        // Source: notebooks-free-docs/conventions.md: azimuth clockwise from north. Morning sun is east,
         // noon sun is south in the north's mid latitudes and north in the south's.
         let air = Atmosphere {
             pressure_hpa: 1013.25,
@@ -2563,7 +2563,7 @@ mod tests {
     fn matches_pyephem_oracle() {
         // Source: PyEphem 4.2.1 (libastro), apparent topocentric alt/az with and without
         // refraction; generated once by tests/reference/sun_ephem.py. Accuracy target from
-        // MODEL.md §2: 0.01° where the sun is more than 5° up (zenith and, away from the
+        // notebooks-free-docs/method-sun.md: 0.01° where the sun is more than 5° up (zenith and, away from the
         // zenith, azimuth). The geometric (unrefracted) position is compared at every row,
         // day or night, at the same 0.01°.
         // Near the horizon the two refraction formulas differ (SPA's Bennett-type formula vs
@@ -2633,7 +2633,7 @@ mod tests {
 
     #[test]
     fn spa_example_vs_pyephem_value() {
-        // Source: CHECK-VALUES.md: PyEphem on the SPA case gives zenith 50.112334°, azimuth
+        // Source: PyEphem (general-purpose astronomy library) on the SPA case gives zenith 50.112334°, azimuth
         // 194.340233° with refraction (its refraction model differs): 0.002° / 0.001°.
         let p = solar_position(
             SPA_EXAMPLE_UNIX_S,
@@ -2649,7 +2649,7 @@ mod tests {
 
     #[test]
     fn interval_mid_day_uses_midpoint() {
-        // Source: MODEL.md §2 (midpoint rule).
+        // Source: notebooks-free-docs/method-sun.md (midpoint rule).
         let (a, b) = (unix(2003, 10, 17, 19, 0, 0), unix(2003, 10, 17, 20, 0, 0));
         let s = interval_sun(a, b, &DENVER, &DENVER_AIR, SPA_EXAMPLE_DELTA_T_S).unwrap();
         assert_eq!(s.eval_unix_s, 0.5 * (a + b));
@@ -2665,7 +2665,7 @@ mod tests {
 
     #[test]
     fn interval_sunrise_hour_uses_sunlit_part() {
-        // Source: MODEL.md §2 (midpoint of the sunlit part). Denver sunrise (upper limb) is
+        // Source: notebooks-free-docs/method-sun.md (midpoint of the sunlit part). Denver sunrise (upper limb) is
         // 06:12:43 MST = 13:12:43 UTC (SPA report); the centre clears the apparent horizon
         // about 2 min later (at 820 hPa that is at −0.45° geometric instead of −0.83°).
         let (a, b) = (unix(2003, 10, 17, 13, 0, 0), unix(2003, 10, 17, 14, 0, 0));
@@ -2693,7 +2693,7 @@ mod tests {
 
     #[test]
     fn interval_sunset_hour_uses_sunlit_part() {
-        // Source: MODEL.md §2. Denver sunset (upper limb) on 17 October is about 17:18:51 MST
+        // Source: notebooks-free-docs/method-sun.md. Denver sunset (upper limb) on 17 October is about 17:18:51 MST
         // = 00:18:51 UTC (see spa_example_sunrise_and_sunset); the centre sets ~2 min earlier.
         let (a, b) = (unix(2003, 10, 18, 0, 0, 0), unix(2003, 10, 18, 1, 0, 0));
         let s = interval_sun(a, b, &DENVER, &DENVER_AIR, DELTA_T_DEFAULT_S).unwrap();
@@ -2751,7 +2751,7 @@ mod tests {
 
     #[test]
     fn interval_of_a_whole_day_finds_rise_and_set() {
-        // Source: MODEL.md §2 rule applied to a 24 h interval (both crossings inside),
+        // Source: notebooks-free-docs/method-sun.md rule applied to a 24 h interval (both crossings inside),
         // against sampling every 30 s.
         let (a, b) = (unix(2003, 10, 17, 7, 0, 0), unix(2003, 10, 18, 7, 0, 0));
         let s = interval_sun(a, b, &DENVER, &DENVER_AIR, DELTA_T_DEFAULT_S).unwrap();

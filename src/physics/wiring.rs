@@ -209,7 +209,7 @@ pub struct SubstringCurve {
 /// `OperatingParams::clamped_voltages_at`) and Vd the bypass diode's forward drop.
 ///
 /// # Source
-/// MODEL.md §7 (bypass diodes), De Soto et al. 2006 (the curve).
+/// notebooks-free-docs/method-diode.md (bypass diodes), De Soto et al. 2006 (the curve).
 pub fn substring_curve(
     p: &OperatingParams,
     bypass_drop_v: f64,
@@ -276,7 +276,7 @@ pub fn substring_curve_into(
 /// blocking diode). Series elements carry one current, so voltages add point by point.
 ///
 /// # Source
-/// MODEL.md §8; series addition at equal current is common practice (Kirchhoff's laws).
+/// notebooks-free-docs/method-wiring.md; series addition at equal current is common practice (Kirchhoff's laws).
 ///
 /// # Validity
 /// `subs` lists one curve per substring of the string in any order (the same curve may
@@ -339,7 +339,7 @@ fn same_slice(a: &[f64], b: &[f64]) -> bool {
 /// are interpolated once). Then the main run: V_terminal = V − I_array·R_main.
 ///
 /// # Source
-/// MODEL.md §8; parallel addition at equal voltage is common practice (Kirchhoff's laws).
+/// notebooks-free-docs/method-wiring.md; parallel addition at equal voltage is common practice (Kirchhoff's laws).
 ///
 /// # Validity
 /// Every slice must hold one voltage per grid current (from [`string_curve`]). No
@@ -688,7 +688,7 @@ pub fn awg_to_mm2(awg: i32) -> f64 {
 ///
 /// # Source
 /// IEC 60028 / IEC 60228 practice (resistance at 20 °C corrected linearly to the
-/// conductor temperature); MODEL.md §8.
+/// conductor temperature); notebooks-free-docs/method-wiring.md.
 ///
 /// # Validity
 /// Expects L ≥ 0 and A > 0 (the plan validates both); conductor temperatures −40…+120 °C,
@@ -897,7 +897,7 @@ mod tests {
 
     #[test]
     fn series_adds_voltage_parallel_adds_current() {
-        // Source: common practice, no source (CHECK-VALUES.md "facts of the trade"): four
+        // Source: common practice, no source: four
         // identical modules give 4·Voc in series and 4·Isc in parallel, 4·Pmax either way.
         let p = module60();
         let sub = p.substring(3).at(900.0, 35.0);
@@ -1043,7 +1043,7 @@ mod tests {
     #[test]
     fn dark_array_is_finite_and_has_no_maxima() {
         // Source: common practice, no source: a dark array delivers nothing; every value
-        // must stay finite (MODEL.md: night is an ordinary value, not an error).
+        // must stay finite (notebooks-free-docs/conventions.md: night is an ordinary value, not an error).
         let p = module60().substring(3);
         let dark = p.at(0.0, 5.0);
         let grid = grid_for(&[dark]);
@@ -1149,7 +1149,7 @@ mod tests {
         // printed to 3 digits; our formula is solid 100 % IACS copper (we come out ~2 % low).
         check_nec(Conductor::Copper, 10, 1.24, 0.03);
         check_nec(Conductor::Copper, 12, 1.98, 0.03);
-        // Source: NEC 2017 Chapter 9 Table 8, 14/8/6 AWG stranded copper (CHECK-VALUES.md).
+        // Source: NEC 2017 Chapter 9 Table 8, 14/8/6 AWG stranded copper.
         check_nec(Conductor::Copper, 14, 3.14, 0.03);
         check_nec(Conductor::Copper, 8, 0.778, 0.03);
         check_nec(Conductor::Copper, 6, 0.491, 0.03);

@@ -232,7 +232,7 @@ fn curve_of_a_module_at_stc_reproduces_the_datasheet() {
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
     let s = text(&out.stdout);
     // Source: the demo datasheet (invented): Vmp 18.2 V × Imp 6.60 A = 120.1 W; the fit must
-    // reproduce Pmax within 0.5 % (MODEL.md §7).
+    // reproduce Pmax within 0.5 % (notebooks-free-docs/method-diode.md).
     let p: f64 = s
         .split(" W ")
         .next()

@@ -60,7 +60,7 @@ fn output_never_exceeds_the_charge_current_limit() {
             .map(|w| r.loaded.plan.controllers[w.controller].model.max_charge_a())
             .sum();
         for m in 0..12 {
-            // Source: MODEL.md §9 (clipping limit = max charge current × battery voltage).
+            // Source: notebooks-free-docs/method-controller.md (clipping limit = max charge current × battery voltage).
             assert!(
                 e.delivered_wh[m] <= limit_a * v_bat * e.awake_h[m] + 1e-6,
                 "{} month {}",
@@ -235,7 +235,7 @@ fn worst_month_ranking_can_pick_another_winner_than_annual() {
 
 #[test]
 fn a_local_tracker_never_beats_the_global_one() {
-    // Source: MODEL.md §9 — global tracking takes the best point of the window; a tracker that
+    // Source: notebooks-free-docs/method-controller.md — global tracking takes the best point of the window; a tracker that
     // stops at the first maximum from open circuit cannot do better (the demo shades one
     // substring on winter mornings, giving two maxima).
     let r = run("plan_larchwood.toml", true);
@@ -260,7 +260,7 @@ fn a_local_tracker_never_beats_the_global_one() {
 
 #[test]
 fn a_huge_battery_without_load_takes_all_the_harvest() {
-    // Source: MODEL.md §11 — with nowhere to curtail to, delivered energy equals what the
+    // Source: notebooks-free-docs/method-battery.md — with nowhere to curtail to, delivered energy equals what the
     // controllers offer (the electrical core's figure at the battery's own voltage).
     let r = run("plan_huge_battery.toml", true);
     for o in r.outcomes.iter().filter(|o| o.energy.is_some()) {

@@ -254,7 +254,7 @@ fn monthly_battery_columns_balance_and_add_up_to_the_summary() {
             // Source: definition (output-files.md: harvested = energy + curtailed), to the
             // rounding of three printed cells.
             assert!((harvested[k] - energy[k] - curtailed[k]).abs() <= 3.0 * HALF_LAST_DIGIT);
-            // Source: energy balance of the battery model (method-battery.md): the load is
+            // Source: energy balance of the battery model (notebooks-free-docs/method-battery.md): the load is
             // served or unmet, so used + unmet = the load of the month, to the rounding.
             let load_kwh = (e.load_served_wh[m] + e.unmet_wh[m]) / 1000.0;
             assert!((used[k] + unmet[k] - load_kwh).abs() <= 2.0 * HALF_LAST_DIGIT + 1e-9);

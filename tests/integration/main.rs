@@ -3,6 +3,7 @@ mod cli;
 mod electrical;
 mod enumerate;
 mod export;
+mod golden;
 mod invariants;
 mod synth;
 mod weather;

@@ -140,7 +140,7 @@ fn rejects_cell_problems_naming_line_and_column() {
 
 #[test]
 fn rejects_implausible_values_with_a_hint() {
-    // Source: MODEL.md §1 ranges (−90..60 °C); the rest are this crate's documented limits.
+    // Source: notebooks-free-docs/weather-format.md ranges (−90..60 °C); the rest are this crate's documented limits.
     check_bad(
         "temperature",
         " line 11: air_temp_c = 291.6 is outside -90..=60 °C (is it in kelvin",
@@ -326,7 +326,7 @@ fn stamp_end_shifts_starts_back_by_one_interval() {
     // Same values, stamps one hour later in the end file: the same intervals.
     assert_eq!(start.local_start_s, end.local_start_s);
     assert_eq!(start.ghi_w_m2, end.ghi_w_m2);
-    // Source: the stamp convention's definition (MODEL.md §1): the row stamped
+    // Source: the stamp convention's definition (notebooks-free-docs/weather-format.md): the row stamped
     // 2025-03-02T00:00 (end) is 1 March 23:00–24:00, day 60 of 2025.
     assert_eq!(end.stamp_text(23), "2025-03-02T00:00");
     assert_eq!(end.local_month(23), 3);
