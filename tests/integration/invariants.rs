@@ -1,4 +1,4 @@
-//! Architecture invariants that a test can check by reading the sources (ARCHITECTURE.md).
+//! Architecture invariants that a test can check by reading the sources (DEVELOPERS.md, "Invariants").
 
 use std::path::Path;
 
