@@ -6,10 +6,14 @@
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::hint::black_box;
 
+use wirerank::commands::load::load;
+use wirerank::commands::PlanSource;
+use wirerank::design::rules;
+use wirerank::input::layout;
 use wirerank::physics::sky::{self, SkyModel, SkyState, Surface};
 use wirerank::physics::sun::{self, Atmosphere, Observer};
 use wirerank::physics::thermal::CellTemperatureModel;
-use wirerank::{layouts, limits, load, phase2, simulate, PlanSource};
+use wirerank::sim::{conditions, curves, year};
 
 fn one_orientation_year(c: &mut Criterion) {
     let loaded = load(&PlanSource::Demo).expect("demo loads");
@@ -53,8 +57,9 @@ fn one_orientation_year(c: &mut Criterion) {
                 if ghi <= 0.0 {
                     continue;
                 }
-                let g_on =
-                    sun::extraterrestrial_normal_w_m2(simulate::day_of_year_utc(s.eval_unix_s));
+                let g_on = sun::extraterrestrial_normal_w_m2(
+                    wirerank::time::UtcTime(s.eval_unix_s).day_of_year_frac(),
+                );
                 let z = s.position.zenith_deg;
                 let split = sky::erbs_split(ghi, z, g_on);
                 let state = SkyState {
@@ -79,38 +84,38 @@ fn one_orientation_year(c: &mut Criterion) {
 fn demo_year(c: &mut Criterion) {
     let loaded = load(&PlanSource::Demo).expect("demo loads");
     let plan = &loaded.plan;
-    let temps = wirerank::design_temperatures(plan, &loaded.weather);
+    let temps = rules::design_temperatures(plan, &loaded.weather);
     let all = passing_layouts(plan, &temps);
-    let passing: Vec<&layouts::Layout> = all.iter().collect();
+    let passing: Vec<&layout::Layout> = all.iter().collect();
     let mut g = c.benchmark_group("demo year, single thread");
     g.sample_size(10);
     g.bench_function("phase 1 (all orientations)", |b| {
-        b.iter(|| black_box(simulate::phase1(plan, &loaded.weather, &loaded.site)))
+        b.iter(|| black_box(conditions::phase1(plan, &loaded.weather, &loaded.site)))
     });
-    let cond = simulate::phase1(plan, &loaded.weather, &loaded.site);
+    let cond = conditions::phase1(plan, &loaded.weather, &loaded.site);
     g.bench_function("phase 2: curve solving", |b| {
-        b.iter(|| black_box(phase2::all_interval_curves(plan, &cond, false)))
+        b.iter(|| black_box(curves::all_interval_curves(plan, &cond, false)))
     });
-    let curves = phase2::all_interval_curves(plan, &cond, false);
+    let curves = curves::all_interval_curves(plan, &cond, false);
     g.bench_function("phase 2: combination and controllers", |b| {
         b.iter(|| {
-            black_box(phase2::simulate_layouts(
+            black_box(year::simulate_layouts(
                 plan,
                 &cond,
                 &curves,
                 &passing,
-                phase2::RunOptions::default(),
+                year::RunOptions::default(),
             ))
         })
     });
     g.bench_function("whole run: phase 1 + phase 2", |b| {
         b.iter(|| {
-            let cond = simulate::phase1(plan, &loaded.weather, &loaded.site);
-            black_box(phase2::run(
+            let cond = conditions::phase1(plan, &loaded.weather, &loaded.site);
+            black_box(year::run(
                 plan,
                 &cond,
                 &passing,
-                phase2::RunOptions::default(),
+                year::RunOptions::default(),
             ))
         })
     });
@@ -128,10 +133,10 @@ fn every_layout_24_modules(c: &mut Criterion) {
         g.bench_function(name, |b| {
             b.iter(|| {
                 black_box(
-                    wirerank::simulate_and_rank(
+                    wirerank::commands::rank::simulate_and_rank(
                         &source,
-                        wirerank::rank::Criterion::Annual,
-                        phase2::RunOptions {
+                        wirerank::results::rank::Criterion::Annual,
+                        year::RunOptions {
                             parallel,
                             ..Default::default()
                         },
@@ -146,15 +151,15 @@ fn every_layout_24_modules(c: &mut Criterion) {
 
 /// The demo's passing layouts, with phase 1 and the shared curves of a plan.
 fn passing_layouts(
-    plan: &wirerank::plan::Plan,
-    temps: &limits::DesignTemperatures,
-) -> Vec<layouts::Layout> {
-    layouts::listed(plan)
+    plan: &wirerank::input::plan::Plan,
+    temps: &rules::DesignTemperatures,
+) -> Vec<layout::Layout> {
+    layout::listed(plan)
         .into_iter()
         .filter(|l| {
-            limits::check_layout(plan, l, temps)
+            rules::check_layout(plan, l, temps)
                 .iter()
-                .all(|f| f.severity != limits::Severity::Reject)
+                .all(|f| f.severity != rules::Severity::Reject)
         })
         .collect()
 }
@@ -168,9 +173,9 @@ fn battery_model_cost(c: &mut Criterion) {
     let mut without = loaded.plan.clone();
     without.battery.model = None;
     without.consumption = None;
-    let temps = wirerank::design_temperatures(&with, &loaded.weather);
+    let temps = rules::design_temperatures(&with, &loaded.weather);
     let layouts = passing_layouts(&with, &temps);
-    let refs: Vec<&layouts::Layout> = layouts.iter().collect();
+    let refs: Vec<&layout::Layout> = layouts.iter().collect();
     let mut g = c.benchmark_group("demo year with and without the battery model, single thread");
     g.sample_size(10);
     for (name, plan) in [
@@ -179,22 +184,17 @@ fn battery_model_cost(c: &mut Criterion) {
     ] {
         g.bench_function(name, |b| {
             b.iter(|| {
-                let cond = simulate::phase1(plan, &loaded.weather, &loaded.site);
-                black_box(phase2::run(
-                    plan,
-                    &cond,
-                    &refs,
-                    phase2::RunOptions::default(),
-                ))
+                let cond = conditions::phase1(plan, &loaded.weather, &loaded.site);
+                black_box(year::run(plan, &cond, &refs, year::RunOptions::default()))
             })
         });
     }
-    let cond = simulate::phase1(&with, &loaded.weather, &loaded.site);
-    let curves = phase2::all_interval_curves(&with, &cond, false);
-    let result = wirerank::simulate_and_rank(
+    let cond = conditions::phase1(&with, &loaded.weather, &loaded.site);
+    let curves = curves::all_interval_curves(&with, &cond, false);
+    let result = wirerank::commands::rank::simulate_and_rank(
         &PlanSource::Demo,
-        wirerank::rank::Criterion::Annual,
-        phase2::RunOptions::default(),
+        wirerank::results::rank::Criterion::Annual,
+        year::RunOptions::default(),
     )
     .expect("demo runs");
     let best = result
@@ -203,7 +203,11 @@ fn battery_model_cost(c: &mut Criterion) {
         .find(|o| o.rank == Some(1))
         .expect("a best layout");
     g.bench_function("sizing search (battery and extra modules)", |b| {
-        b.iter(|| black_box(wirerank::size_best(&with, &cond, &curves, &temps, best)))
+        b.iter(|| {
+            black_box(wirerank::design::sizing::size_best(
+                &with, &cond, &curves, &temps, best,
+            ))
+        })
     });
     g.finish();
 }
@@ -225,10 +229,10 @@ fn shading_cost(c: &mut Criterion) {
         g.bench_function(name, |b| {
             b.iter(|| {
                 black_box(
-                    wirerank::simulate_and_rank(
+                    wirerank::commands::rank::simulate_and_rank(
                         &source,
-                        wirerank::rank::Criterion::Annual,
-                        phase2::RunOptions::default(),
+                        wirerank::results::rank::Criterion::Annual,
+                        year::RunOptions::default(),
                     )
                     .expect("bench plan runs"),
                 )
@@ -244,13 +248,16 @@ fn synth_year(c: &mut Criterion) {
         .join("weather-samples/northmere-cabin.monthly.toml");
     let text = std::fs::read_to_string(&path).expect("sample monthly means");
     let climate =
-        wirerank::weather_tools::parse_monthly_toml(&text, "northmere-cabin.monthly.toml")
+        wirerank::io::monthly_toml::parse_monthly_toml(&text, "northmere-cabin.monthly.toml")
             .expect("sample parses")
             .validate()
             .expect("sample is valid");
     c.bench_function("weather synth, one hourly year", |b| {
         b.iter(|| {
-            black_box(wirerank::synth::synthesize(&climate, 7, "bench").expect("synthesizes"))
+            black_box(
+                wirerank::weather_gen::synth::synthesize(&climate, 7, "bench")
+                    .expect("synthesizes"),
+            )
         })
     });
 }

@@ -2,14 +2,14 @@
 //!
 //! `cargo run --release --example make_sample_weather -- weather-samples/larchwood-2025.csv`
 //!
-//! The numbers come from `wirerank::sample_weather` with its fixed seed, so running this
+//! The numbers come from `wirerank::weather_gen::sample` with its fixed seed, so running this
 //! again gives the same bytes. It only writes; it does not check the file into anything.
 
 use std::path::PathBuf;
 use std::process::ExitCode;
 
 use wirerank::io::weather_csv::write_weather_csv;
-use wirerank::sample_weather::{generate, larchwood_2025, LARCHWOOD_SEED};
+use wirerank::weather_gen::sample::{generate, larchwood_2025, LARCHWOOD_SEED};
 
 fn main() -> ExitCode {
     let mut args = std::env::args_os().skip(1);

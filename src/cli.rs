@@ -6,11 +6,11 @@ use std::path::PathBuf;
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
 
-use wirerank::rank::Criterion;
-use wirerank::WeatherRequest;
-use wirerank::{
+use wirerank::commands::{
     CurveRequest, CurveTarget, OutputFormat, PlanSource, RankRequest, Request, SunpathRequest,
+    WeatherRequest,
 };
+use wirerank::results::rank::Criterion;
 
 /// Ranks the ways to wire a small solar array into battery charge controllers.
 ///

@@ -332,7 +332,7 @@ pub enum Error {
     #[error(transparent)]
     Weather(#[from] WeatherError),
     #[error(transparent)]
-    Site(#[from] crate::simulate::SiteError),
+    Site(#[from] SiteError),
     /// Bad command-line values.
     #[error("{0}")]
     Usage(String),
@@ -342,5 +342,19 @@ pub enum Error {
         path: String,
         #[source]
         source: std::io::Error,
+    },
+}
+
+/// Why the plan and the weather file do not give one site.
+#[derive(Debug, thiserror::Error)]
+pub enum SiteError {
+    #[error("site.{key} is missing: give it in the plan's [site] table or as `# {key} = ...` in the weather file {weather}")]
+    Missing { key: &'static str, weather: String },
+    #[error("site.{key} conflicts: the plan says {plan_value} but the weather file {weather} says {weather_value}; make them agree or remove one")]
+    Conflict {
+        key: &'static str,
+        plan_value: f64,
+        weather_value: f64,
+        weather: String,
     },
 }

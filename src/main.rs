@@ -19,8 +19,12 @@ fn main() -> ExitCode {
         }
     };
     let request = cli.into_request();
-    let quiet = matches!(&request, wirerank::Request::Rank(r) if r.quiet);
-    match wirerank::run(request) {
+    let quiet = matches!(&request, wirerank::commands::Request::Rank(r) if r.quiet);
+    let progress = Progress::new(quiet);
+    let tick = || progress.tick();
+    let result = wirerank::run(request, &tick);
+    progress.finish();
+    match result {
         Ok(outcome) => {
             if !quiet {
                 let mut err = std::io::stderr().lock();
@@ -56,6 +60,52 @@ fn main() -> ExitCode {
             }
             eprintln!("{msg}");
             ExitCode::from(2)
+        }
+    }
+}
+
+/// A progress bar on stderr for runs longer than about a second: it stays hidden until a
+/// second has passed, and always when stderr is not a terminal or with `--quiet`.
+struct Progress {
+    bar: Option<indicatif::ProgressBar>,
+    started: std::time::Instant,
+    done: std::sync::atomic::AtomicU64,
+}
+
+impl Progress {
+    fn new(quiet: bool) -> Self {
+        use std::io::IsTerminal;
+        let bar = (!quiet && std::io::stderr().is_terminal()).then(|| {
+            let b = indicatif::ProgressBar::with_draw_target(
+                None,
+                indicatif::ProgressDrawTarget::hidden(),
+            );
+            b.set_style(
+                indicatif::ProgressStyle::with_template("simulating layouts: {pos} done {elapsed}")
+                    .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+            );
+            b
+        });
+        Progress {
+            bar,
+            started: std::time::Instant::now(),
+            done: std::sync::atomic::AtomicU64::new(0),
+        }
+    }
+
+    fn tick(&self) {
+        let n = self.done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+        if let Some(b) = &self.bar {
+            if b.is_hidden() && self.started.elapsed() > std::time::Duration::from_secs(1) {
+                b.set_draw_target(indicatif::ProgressDrawTarget::stderr());
+            }
+            b.set_position(n);
+        }
+    }
+
+    fn finish(&self) {
+        if let Some(b) = &self.bar {
+            b.finish_and_clear();
         }
     }
 }

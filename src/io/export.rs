@@ -18,15 +18,16 @@ use std::path::{Path, PathBuf};
 
 use polars::prelude::{Column, CsvWriter, DataFrame, PolarsError, SerWriter};
 
+use crate::design::cautions::CAUTIONS;
+use crate::design::rules::Severity;
 use crate::error::Error;
+use crate::io::atomic::{same_file, temp_name};
 use crate::io::plots::{self, Chart};
-use crate::limits::Severity;
-use crate::phase2::{LayoutEnergy, Step};
 use crate::physics::controller::{ControllerModel, TrackerMode};
 use crate::physics::thermal::CellTemperatureModel;
-use crate::rank::{Criterion, LayoutOutcome};
-use crate::report::CAUTIONS;
-use crate::RankResult;
+use crate::results::rank::{Criterion, LayoutOutcome};
+use crate::results::RankResult;
+use crate::sim::energy::{LayoutEnergy, Step};
 
 pub const MONTHLY_CSV: &str = "monthly.csv";
 pub const SUMMARY_CSV: &str = "summary.csv";
@@ -198,15 +199,6 @@ pub fn write_outputs(
         stage.png(chart)?;
     }
     stage.commit()
-}
-
-/// The temporary name of an output file: `<name>.tmp`, except PNG, which is encoded by a
-/// library that chooses the format from the extension, so its temporary ends in `.tmp.png`.
-pub fn temp_name(name: &str) -> String {
-    match name.strip_suffix(".png") {
-        Some(stem) => format!("{stem}.tmp.png"),
-        None => format!("{name}.tmp"),
-    }
 }
 
 fn output_error(path: &Path, source: io::Error) -> Error {
@@ -663,31 +655,16 @@ fn provenance(r: &RankResult, files: &[String], skipped: &[String]) -> String {
 
 /// True when `a` and `b` name the same existing file (same canonical path or, on Unix, the
 /// same inode: a hard link), or the same path text when either cannot be resolved.
-fn same_file(a: &Path, b: &Path) -> bool {
-    if b.as_os_str().is_empty() {
-        return false;
-    }
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::MetadataExt;
-        if let (Ok(x), Ok(y)) = (fs::metadata(a), fs::metadata(b)) {
-            if x.dev() == y.dev() && x.ino() == y.ino() {
-                return true;
-            }
-        }
-    }
-    match (fs::canonicalize(a), fs::canonicalize(b)) {
-        (Ok(x), Ok(y)) => x == y,
-        _ => a == b,
-    }
-}
-
 /// Refuses any output (or temporary) name that is the run's plan or weather file.
 fn refuse_inputs(r: &RankResult, dir: &Path, names: &[String]) -> Result<(), Error> {
     refuse_loaded_inputs(&r.loaded, dir, names)
 }
 
-fn refuse_loaded_inputs(loaded: &crate::Loaded, dir: &Path, names: &[String]) -> Result<(), Error> {
+fn refuse_loaded_inputs(
+    loaded: &crate::input::Loaded,
+    dir: &Path,
+    names: &[String],
+) -> Result<(), Error> {
     let inputs = [
         (loaded.plan.source.as_path(), "plan"),
         (loaded.plan.weather_path.as_path(), "weather"),
@@ -822,7 +799,7 @@ pub const SHADE_COLUMNS: [&str; 5] = [
 ///
 /// # Errors
 /// [`Error::Output`] naming the path; nothing is left behind.
-pub fn write_shade_csv(r: &crate::ShadeResult, dir: &Path) -> Result<Vec<PathBuf>, Error> {
+pub fn write_shade_csv(r: &crate::results::ShadeResult, dir: &Path) -> Result<Vec<PathBuf>, Error> {
     let mut module = Vec::new();
     let mut month = Vec::new();
     let mut direct = Vec::new();
@@ -893,14 +870,6 @@ pub fn write_shade_csv(r: &crate::ShadeResult, dir: &Path) -> Result<Vec<PathBuf
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn temporary_names_keep_png_last_and_end_others_in_tmp() {
-        assert_eq!(temp_name("monthly.csv"), "monthly.csv.tmp");
-        assert_eq!(temp_name("provenance.txt"), "provenance.txt.tmp");
-        assert_eq!(temp_name("gain_map.svg"), "gain_map.svg.tmp");
-        assert_eq!(temp_name("gain_map.png"), "gain_map.tmp.png");
-    }
 
     #[test]
     fn cautions_fit_on_one_line() {

@@ -3,11 +3,12 @@
 
 use serde_json::{json, Map, Value};
 
+use crate::design::cautions::CAUTIONS;
+use crate::design::rules::Severity;
+use crate::design::sizing::ModuleAnswer;
 use crate::error::Error;
-use crate::limits::Severity;
-use crate::phase2::Step;
-use crate::report::CAUTIONS;
-use crate::{ModuleAnswer, RankResult};
+use crate::results::RankResult;
+use crate::sim::energy::Step;
 
 /// Schema version of the JSON output; bumped on any incompatible change.
 pub const JSON_SCHEMA_VERSION: u32 = 1;

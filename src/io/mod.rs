@@ -3,10 +3,13 @@
 //! Each submodule owns one file format and turns it into (or out of) the validated types
 //! of the library. Nothing here simulates anything; nothing outside here opens a file.
 
+pub mod atomic;
 pub mod export;
 pub mod json;
+pub mod monthly_toml;
 pub mod plan_toml;
 pub mod plots;
+pub mod terminal;
 pub mod typical_year;
 pub mod weather_csv;
 pub mod weather_plot;

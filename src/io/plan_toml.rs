@@ -1,4 +1,4 @@
-//! The plan file: a TOML mirror (serde) and its validation into [`crate::plan::Plan`].
+//! The plan file: a TOML mirror (serde) and its validation into [`crate::input::plan::Plan`].
 //!
 //! Every error names the file, the line and column, the key and what was expected. Unknown
 //! keys are rejected so that a typo never silently falls back to a default. Nothing past
@@ -11,13 +11,13 @@ use serde::Deserialize;
 use toml::Spanned;
 
 use crate::error::PlanError;
+use crate::input::plan::*;
 use crate::physics::controller::{ControllerModel, TrackerMode};
 use crate::physics::diode::{fit_de_soto, Datasheet, BYPASS_DROP_DEFAULT_V};
 use crate::physics::shade::{HorizonProfile, ModulePlacement, Obstacle};
 use crate::physics::sky::{GlassCover, SkyModel};
 use crate::physics::thermal::CellTemperatureModel;
 use crate::physics::wiring::{awg_to_mm2, Conductor};
-use crate::plan::*;
 
 type S<T> = Spanned<T>;
 
@@ -530,7 +530,7 @@ fn validate(ctx: &Ctx, raw: RawPlan, base_dir: &Path) -> Result<Plan, PlanError>
         geometry,
         layouts,
         enumerate_all,
-        enumerate: crate::layouts::EnumerateOptions {
+        enumerate: crate::input::layout::EnumerateOptions {
             allow_unused_modules: raw
                 .enumerate
                 .as_ref()
@@ -597,11 +597,11 @@ fn validate_model(
         low_sun_elevation_deg: 15.0,
         delta_t_s: crate::physics::sun::DELTA_T_DEFAULT_S,
         albedo,
-        uncertainty: crate::uncertainty::P90Inputs::TYPICAL,
+        uncertainty: crate::results::uncertainty::P90Inputs::TYPICAL,
     };
     if let Some(m) = raw {
-        let t = crate::uncertainty::P90Inputs::TYPICAL;
-        model.uncertainty = crate::uncertainty::P90Inputs {
+        let t = crate::results::uncertainty::P90Inputs::TYPICAL;
+        model.uncertainty = crate::results::uncertainty::P90Inputs {
             variability_frac: ctx.opt_range(
                 &m.irradiance_variability_pct,
                 "model.irradiance_variability_pct",

@@ -16,8 +16,8 @@ use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
-use crate::phase2::{Step, STEPS};
-use crate::RankResult;
+use crate::results::RankResult;
+use crate::sim::energy::{Step, STEPS};
 
 /// Picture width, pixels.
 pub const WIDTH_PX: u32 = 1000;
@@ -133,7 +133,7 @@ pub enum Chart {
     DailySoc(DailySoc),
     MonthlyUnmet(MonthlyUnmet),
     /// Sun paths, horizon and obstacles seen from one group (the shade report).
-    SunPath(Box<crate::shade_view::SunPathView>),
+    SunPath(Box<crate::results::shade_view::SunPathView>),
 }
 
 /// The charts a run can draw, and a line for each one it cannot (for provenance.txt).
@@ -214,7 +214,7 @@ pub fn plan_charts(r: &RankResult) -> PlannedCharts {
         );
         return PlannedCharts { charts, skipped };
     }
-    let label = |o: &crate::rank::LayoutOutcome| {
+    let label = |o: &crate::results::rank::LayoutOutcome| {
         format!(
             "{}. {}",
             o.rank.unwrap_or(0),
@@ -282,7 +282,10 @@ pub fn plan_charts(r: &RankResult) -> PlannedCharts {
 
 fn gain_map(
     r: &RankResult,
-    ranked: &[(&crate::rank::LayoutOutcome, &crate::phase2::LayoutEnergy)],
+    ranked: &[(
+        &crate::results::rank::LayoutOutcome,
+        &crate::sim::energy::LayoutEnergy,
+    )],
 ) -> Result<GainMap, String> {
     let [(o1, e1), (o2, e2), ..] = ranked else {
         return Err("only one layout is ranked, so there is no runner-up to compare".into());
@@ -865,7 +868,7 @@ fn draw_losses<DB: DrawingBackend>(root: &DrawingArea<DB, Shift>, c: &Losses) ->
 /// The sun's paths over the year seen from a group, with the horizon and the obstacles.
 fn draw_sun_path<DB: DrawingBackend>(
     root: &DrawingArea<DB, Shift>,
-    v: &crate::shade_view::SunPathView,
+    v: &crate::results::shade_view::SunPathView,
 ) -> DrawResult<DB> {
     let top = v
         .days

@@ -33,8 +33,8 @@ use std::path::Path;
 use chrono::NaiveDate;
 
 use crate::error::WeatherError;
+use crate::input::weather::{StampConvention, UncheckedWeather, Weather, WeatherSite};
 use crate::io::weather_csv::parse_weather_csv;
-use crate::weather::{StampConvention, UncheckedWeather, Weather, WeatherSite};
 
 /// The header records in their required order (matched case-insensitively, as the start of
 /// the line up to the first comma).
@@ -209,7 +209,7 @@ pub fn parse_typical_year(text: &str, source_name: &str) -> Result<Imported, Wea
     let first_year = rows[0].year;
     let one_year = rows.iter().all(|r| r.year == first_year);
     let has_feb29 = rows.iter().any(|r| r.month == 2 && r.day == 29);
-    let keep_year = one_year && (!is_leap_year(first_year) || has_feb29);
+    let keep_year = one_year && (!crate::time::is_leap_year(i64::from(first_year)) || has_feb29);
     let year = if keep_year { first_year } else { TYPICAL_YEAR };
     if !keep_year {
         let (lo, hi) = rows.iter().fold((i32::MAX, i32::MIN), |(lo, hi), r| {
@@ -520,8 +520,4 @@ fn parse_row(file: &str, line: usize, text: &str) -> Result<Row, WeatherError> {
         wind_m_s: value(&WIND)?,
         pressure_hpa: value(&PRESSURE)?.map(|pa| pa / 100.0),
     })
-}
-
-fn is_leap_year(year: i32) -> bool {
-    (year % 4 == 0 && year % 100 != 0) || year % 400 == 0
 }

@@ -15,7 +15,7 @@
 //! against the sun (that needs the resolved site) and does not read the open typical-year
 //! format that building-energy tools exchange (a separate importer).
 
-use std::io::{Cursor, Write};
+use std::io::Cursor;
 use std::path::Path;
 use std::sync::Arc;
 
@@ -25,7 +25,9 @@ use polars::prelude::{
 };
 
 use crate::error::WeatherError;
-use crate::weather::{check_interval_min, StampConvention, UncheckedWeather, Weather, WeatherSite};
+use crate::input::weather::{
+    check_interval_min, StampConvention, UncheckedWeather, Weather, WeatherSite,
+};
 
 /// The first line of every file in this format.
 pub const FORMAT_LINE: &str = "# wirerank weather 1";
@@ -638,20 +640,11 @@ pub fn weather_csv_text(w: &Weather) -> String {
 /// # Errors
 /// [`WeatherError::Write`] naming the file when writing or renaming fails.
 pub fn write_weather_csv(w: &Weather, path: &Path) -> Result<(), WeatherError> {
-    let name = path.display().to_string();
-    let mut tmp = path.as_os_str().to_owned();
-    tmp.push(".tmp");
-    let tmp = std::path::PathBuf::from(tmp);
-    let text = weather_csv_text(w);
-    let write = || -> std::io::Result<()> {
-        let mut f = std::fs::File::create(&tmp)?;
-        f.write_all(text.as_bytes())?;
-        f.sync_all()?;
-        std::fs::rename(&tmp, path)
-    };
-    write().map_err(|source| {
-        let _ = std::fs::remove_file(&tmp);
-        WeatherError::Write { file: name, source }
+    crate::io::atomic::write_atomic(path, weather_csv_text(w).as_bytes()).map_err(|source| {
+        WeatherError::Write {
+            file: path.display().to_string(),
+            source,
+        }
     })
 }
 

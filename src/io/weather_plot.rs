@@ -7,14 +7,15 @@
 //! This module only draws: the daily values come from the caller (`weather_tools.rs`), and
 //! it knows nothing about the weather format.
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::sync::OnceLock;
 
 use plotters::prelude::*;
 use plotters::style::FontStyle;
 
 use crate::error::Error;
-use crate::weather::civil_from_local_s;
+use crate::results::weather_summary::DayPoint;
+use crate::time::LocalTime;
 
 /// Pixel size of the plot.
 pub const PLOT_SIZE: (u32, u32) = (900, 360);
@@ -22,14 +23,6 @@ pub const PLOT_SIZE: (u32, u32) = (900, 360);
 const MONTH_ABBR: [&str; 12] = [
     "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec",
 ];
-
-/// One day of the plot: its local midnight (naive seconds since 1970-01-01T00:00) and its
-/// global horizontal irradiation, kWh/m².
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub struct DayPoint {
-    pub day_start_s: i64,
-    pub ghi_kwh_m2: f64,
-}
 
 /// Registers the embedded font under "sans-serif" once; the outcome is remembered.
 fn ensure_font() -> Result<(), String> {
@@ -62,15 +55,15 @@ where
     let first = days.first().map_or(0, |d| d.day_start_s);
     let multi_year = days
         .last()
-        .is_some_and(|d| civil_from_local_s(d.day_start_s).0 != civil_from_local_s(first).0);
+        .is_some_and(|d| civil_of(d.day_start_s).0 != civil_of(first).0);
     // Month labels go at the first day of each month (every second or third month on long
     // files), drawn by hand because the axis' own labels fall on round numbers of days.
     let starts: Vec<(usize, String)> = days
         .iter()
         .enumerate()
-        .filter(|(_, d)| civil_from_local_s(d.day_start_s).2 == 1)
+        .filter(|(_, d)| civil_of(d.day_start_s).2 == 1)
         .map(|(i, d)| {
-            let (y, m, _) = civil_from_local_s(d.day_start_s);
+            let (y, m, _) = civil_of(d.day_start_s);
             let name = MONTH_ABBR[m as usize - 1];
             let label = if multi_year && m == 1 {
                 format!("{name} {y}")
@@ -163,7 +156,7 @@ where
 }
 
 fn month_key(day_start_s: i64) -> (i64, u32) {
-    let (y, m, _) = civil_from_local_s(day_start_s);
+    let (y, m, _) = civil_of(day_start_s);
     (y, m)
 }
 
@@ -197,21 +190,13 @@ pub fn write_daily_irradiation_png(
     ensure_font().map_err(output)?;
     // The bitmap encoder picks the format from the extension, so the temporary file keeps
     // `.png` at the end.
-    let tmp = temporary_path(path, "png");
-    let drawn = {
-        let area = BitMapBackend::new(&tmp, PLOT_SIZE).into_drawing_area();
-        draw(area, days, title)
-    };
-    if let Err(message) = drawn {
-        let _ = std::fs::remove_file(&tmp);
-        return Err(output(message));
-    }
-    std::fs::rename(&tmp, path).map_err(|source| {
-        let _ = std::fs::remove_file(&tmp);
-        Error::Output {
-            path: path.display().to_string(),
-            source,
-        }
+    crate::io::atomic::produce_atomic(path, |tmp| {
+        let area = BitMapBackend::new(tmp, PLOT_SIZE).into_drawing_area();
+        draw(area, days, title).map_err(std::io::Error::other)
+    })
+    .map_err(|source| Error::Output {
+        path: path.display().to_string(),
+        source,
     })
 }
 
@@ -228,24 +213,14 @@ pub fn write_daily_irradiation_svg(
         path: path.display().to_string(),
         source: std::io::Error::other(message),
     })?;
-    let tmp = temporary_path(path, "svg");
-    std::fs::write(&tmp, svg)
-        .and_then(|_| std::fs::rename(&tmp, path))
-        .map_err(|source| {
-            let _ = std::fs::remove_file(&tmp);
-            Error::Output {
-                path: path.display().to_string(),
-                source,
-            }
-        })
+    crate::io::atomic::write_atomic(path, svg.as_bytes()).map_err(|source| Error::Output {
+        path: path.display().to_string(),
+        source,
+    })
 }
 
-/// `dir/name.ext` → `dir/name.tmp.ext`.
-fn temporary_path(path: &Path, extension: &str) -> PathBuf {
-    let stem = path
-        .file_stem()
-        .map_or_else(|| "plot".into(), |s| s.to_string_lossy().into_owned());
-    path.with_file_name(format!("{stem}.tmp.{extension}"))
+fn civil_of(local_s: i64) -> (i64, u32, u32) {
+    LocalTime(local_s).civil()
 }
 
 #[cfg(test)]

@@ -1221,7 +1221,7 @@ mod tests {
         let err = fit_de_soto(&ds).expect_err("must be rejected");
         let msg = err.to_string();
         assert!(msg.contains(needle), "message {msg:?} lacks {needle:?}");
-        // STYLE.md: lower-case messages without a trailing period.
+        // The project style (DEVELOPERS.md): lower-case messages without a trailing period.
         assert!(msg.starts_with(|c: char| c.is_lowercase()), "{msg:?}");
         assert!(!msg.ends_with('.'), "{msg:?}");
     }

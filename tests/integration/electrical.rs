@@ -3,9 +3,11 @@
 
 use std::path::{Path, PathBuf};
 
-use wirerank::limits::voc_at_v;
-use wirerank::rank::Criterion;
-use wirerank::{simulate_and_rank, PlanSource, RankResult};
+use wirerank::commands::rank::simulate_and_rank;
+use wirerank::commands::PlanSource;
+use wirerank::design::rules::voc_at_v;
+use wirerank::results::rank::Criterion;
+use wirerank::results::RankResult;
 
 fn fixture(name: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))
@@ -17,7 +19,7 @@ fn run(name: &str, parallel: bool) -> RankResult {
     simulate_and_rank(
         &PlanSource::File(fixture(name)),
         Criterion::Annual,
-        wirerank::phase2::RunOptions {
+        wirerank::sim::year::RunOptions {
             parallel,
             ..Default::default()
         },
@@ -167,7 +169,7 @@ fn finding<'a>(
     r: &'a RankResult,
     label: &str,
     rule: &str,
-) -> Option<&'a wirerank::limits::Finding> {
+) -> Option<&'a wirerank::design::rules::Finding> {
     r.outcomes
         .iter()
         .find(|o| o.layout.label.as_deref() == Some(label))
@@ -188,7 +190,7 @@ fn first_volts(message: &str) -> f64 {
 fn rejects_string_too_short_for_the_mppt_window_on_a_hot_afternoon() {
     let r = run("plan_hot_site.toml", true);
     let f = finding(&r, "two in series", "hot-vmp").expect("2s is rejected on a hot site");
-    assert_eq!(f.severity, wirerank::limits::Severity::Reject);
+    assert_eq!(f.severity, wirerank::design::rules::Severity::Reject);
     // Source: worked from the datasheet coefficients (common practice: Vmp falls at about the
     // Voc coefficient in V/K). Cell at 1000 W/m², 48 °C air, 1 m/s, Sandia close-roof
     // glass/glass: 48 + 49.456 = 97.456 °C (King 2004 coefficients, recomputed); per module
@@ -222,7 +224,7 @@ fn worst_month_ranking_can_pick_another_winner_than_annual() {
     let worst = simulate_and_rank(
         &PlanSource::File(fixture("plan_winter_vs_summer.toml")),
         Criterion::WorstMonth,
-        wirerank::phase2::RunOptions {
+        wirerank::sim::year::RunOptions {
             parallel: true,
             ..Default::default()
         },
@@ -244,8 +246,8 @@ fn a_local_tracker_never_beats_the_global_one() {
         let e = o.energy.as_ref().expect("simulated");
         for m in 0..12 {
             // What the controllers offered: delivered plus what a full battery curtailed.
-            let offered =
-                e.delivered_wh[m] + e.step_total_wh_month(wirerank::phase2::Step::Curtailed, m);
+            let offered = e.delivered_wh[m]
+                + e.step_total_wh_month(wirerank::sim::energy::Step::Curtailed, m);
             assert!(
                 e.other_tracking_wh[m] <= offered + 1e-6,
                 "{} month {}",
@@ -266,7 +268,7 @@ fn a_huge_battery_without_load_takes_all_the_harvest() {
     for o in r.outcomes.iter().filter(|o| o.energy.is_some()) {
         let e = o.energy.as_ref().expect("simulated");
         let curtailed: f64 = (0..12)
-            .map(|m| e.step_total_wh_month(wirerank::phase2::Step::Curtailed, m))
+            .map(|m| e.step_total_wh_month(wirerank::sim::energy::Step::Curtailed, m))
             .sum();
         assert_eq!(curtailed, 0.0, "{}", o.layout.display_name());
         assert_eq!(e.unmet_wh.iter().sum::<f64>(), 0.0);
@@ -286,6 +288,6 @@ fn several_weather_years_give_an_empirical_spread() {
         .expect("ranked")
         .complete_year_totals_kwh();
     assert_eq!(totals.len(), 2, "{totals:?}");
-    let spread = wirerank::uncertainty::empirical_variability(&totals).expect("two years");
+    let spread = wirerank::results::uncertainty::empirical_variability(&totals).expect("two years");
     assert!(spread.sd_frac > 0.0 && spread.sd_frac < 0.15, "{spread:?}");
 }

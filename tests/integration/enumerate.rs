@@ -2,9 +2,10 @@
 
 use std::path::Path;
 
+use wirerank::design::candidates::enumerate;
+use wirerank::input::layout::EnumerateOptions;
+use wirerank::input::plan::Plan;
 use wirerank::io::plan_toml::parse_plan;
-use wirerank::layouts::{enumerate, EnumerateOptions};
-use wirerank::plan::Plan;
 
 /// A plan with the given groups (name, count, azimuth) and controller inputs, no listed layouts.
 /// Inputs differ in their main-run length (so they are not interchangeable) unless their

@@ -9,15 +9,16 @@ use std::sync::OnceLock;
 
 use polars::prelude::{CsvReadOptions, DataFrame, DataType, SerReader};
 
+use wirerank::commands::PlanSource;
 use wirerank::error::Error;
 use wirerank::io::export::{
     write_outputs, ExportOptions, DELIVERED_STEP, HOURLY_COLUMNS, HOURLY_CSV, LOSSES_COLUMNS,
     LOSSES_CSV, MONTHLY_COLUMNS, MONTHLY_CSV, POTENTIAL_STEP, PROVENANCE_TXT, SUMMARY_COLUMNS,
     SUMMARY_CSV,
 };
-use wirerank::phase2::Step;
-use wirerank::rank::Criterion;
-use wirerank::{PlanSource, RankResult};
+use wirerank::results::rank::Criterion;
+use wirerank::results::RankResult;
+use wirerank::sim::energy::Step;
 
 /// Half a unit of the last printed decimal of every CSV number (3 decimals).
 const HALF_LAST_DIGIT: f64 = 0.0005;
@@ -26,10 +27,10 @@ const HALF_LAST_DIGIT: f64 = 0.0005;
 fn demo() -> &'static RankResult {
     static DEMO: OnceLock<RankResult> = OnceLock::new();
     DEMO.get_or_init(|| {
-        wirerank::simulate_and_rank(
+        wirerank::commands::rank::simulate_and_rank(
             &PlanSource::Demo,
             Criterion::Annual,
-            wirerank::phase2::RunOptions {
+            wirerank::sim::year::RunOptions {
                 parallel: true,
                 hourly: true,
                 on_layout_done: None,
@@ -461,7 +462,7 @@ fn provenance_names_version_inputs_models_criterion_and_cautions() {
         // Source: the demo plan's design temperatures (-20 °C, 34 °C), which the terminal
         // table prints too.
         "coldest air -20.0 °C, hottest air 34.0 °C",
-        wirerank::report::CAUTIONS,
+        wirerank::design::cautions::CAUTIONS,
     ] {
         assert!(p.contains(needle), "provenance lacks {needle:?}:\n{p}");
     }

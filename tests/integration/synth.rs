@@ -7,12 +7,14 @@
 
 use std::path::{Path, PathBuf};
 
+use wirerank::commands::weather::{import, inspect, synth_from_file};
+use wirerank::input::weather::Weather;
+use wirerank::io::monthly_toml::parse_monthly_climate;
 use wirerank::io::typical_year::{
     looks_like_typical_year, parse_typical_year, read_any_weather, read_typical_year, TYPICAL_YEAR,
 };
 use wirerank::io::weather_csv::{read_weather_csv, weather_csv_text};
-use wirerank::weather::Weather;
-use wirerank::weather_tools::{import, inspect, parse_monthly_climate, summarize, synth_from_file};
+use wirerank::results::weather_summary::summarize;
 
 /// The four invented sample sites and the seeds their committed files were made with.
 const SAMPLE_SITES: [(&str, u64); 4] = [

@@ -8,9 +8,9 @@ use std::path::{Path, PathBuf};
 
 use chrono::Datelike;
 
+use wirerank::input::weather::{StampConvention, WeatherWarning};
 use wirerank::io::weather_csv::{parse_weather_csv, read_weather_csv, weather_csv_text};
-use wirerank::sample_weather::{generate, larchwood_2025, LARCHWOOD_2025_CSV, LARCHWOOD_SEED};
-use wirerank::weather::{StampConvention, WeatherWarning};
+use wirerank::weather_gen::sample::{generate, larchwood_2025, LARCHWOOD_2025_CSV, LARCHWOOD_SEED};
 
 fn fixture(name: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))

@@ -3,7 +3,7 @@
 //!
 //! Pure bookkeeping: no physics and no formatting.
 
-use crate::simulate::Conditions;
+use crate::sim::conditions::Conditions;
 
 /// Light and temperature on one orientation group, month by month (January first).
 #[derive(Clone, Debug, PartialEq)]

@@ -3,10 +3,10 @@
 //!
 //! Pure geometry; drawing lives in `io::plots`.
 
+use crate::input::plan::Plan;
+use crate::input::site::Site;
 use crate::physics::shade::Obstacle;
 use crate::physics::sun::{self, Atmosphere, Observer};
-use crate::plan::Plan;
-use crate::simulate::Site;
 
 /// Everything the sun-path picture shows for one group.
 #[derive(Clone, Debug, PartialEq)]

@@ -16,13 +16,13 @@ use rand::rngs::StdRng;
 use rand::{RngExt, SeedableRng};
 
 use crate::error::WeatherError;
-use crate::weather::{
-    civil_from_local_s, cos_zenith_textbook, day_of_year_from_local_s, StampConvention,
-    UncheckedWeather, Weather, WeatherSite,
+use crate::input::weather::{
+    cos_zenith_textbook, StampConvention, UncheckedWeather, Weather, WeatherSite,
 };
+use crate::time::{days_from_civil, LocalTime};
 
 /// The bundled demo year as CSV text (written by `examples/make_sample_weather.rs`).
-pub const LARCHWOOD_2025_CSV: &str = include_str!("../weather-samples/larchwood-2025.csv");
+pub const LARCHWOOD_2025_CSV: &str = include_str!("../../weather-samples/larchwood-2025.csv");
 
 /// Seed of the bundled demo year.
 pub const LARCHWOOD_SEED: u64 = 20_250_101;
@@ -210,7 +210,7 @@ pub fn generate(climate: &SampleClimate, seed: u64) -> Result<Weather, WeatherEr
             (d, (hour_mid - 12.0) / 24.0)
         };
         let a = anomaly[d0] + (anomaly[d0 + 1] - anomaly[d0]) * frac;
-        let day_of_year = f64::from(day_of_year_from_local_s(t0)) + hour_mid / 24.0;
+        let day_of_year = f64::from(LocalTime(t0).day_of_year()) + hour_mid / 24.0;
         let mean_c = seasonal(&climate.air_temp_mean_c, day_of_year, n_days as f64);
         let range_m = seasonal(&climate.air_temp_range_dk, day_of_year, n_days as f64);
         let range_d = range_m * (0.4 + 0.6 * clearness[d] / climate.clearness_mean_frac[m]);
@@ -261,7 +261,7 @@ fn round1(v: f64) -> f64 {
 }
 
 fn month_index(local_s: i64) -> usize {
-    civil_from_local_s(local_s).1 as usize - 1
+    LocalTime(local_s).civil().1 as usize - 1
 }
 
 /// A monthly value interpolated linearly between mid-month days, cyclic over the year.
@@ -274,20 +274,6 @@ fn seasonal(monthly: &[f64; 12], day_of_year: f64, days_in_year: f64) -> f64 {
     let i = (lo as i64).rem_euclid(12) as usize;
     let j = (i + 1) % 12;
     monthly[i] + (monthly[j] - monthly[i]) * frac
-}
-
-/// Days since 1970-01-01 of a proleptic Gregorian date.
-///
-/// # Source
-/// H. Hinnant, "chrono-Compatible Low-Level Date Algorithms", `days_from_civil`.
-fn days_from_civil(year: i64, month: i64, day: i64) -> i64 {
-    let y = if month <= 2 { year - 1 } else { year };
-    let era = y.div_euclid(400);
-    let yoe = y.rem_euclid(400);
-    let mp = (month + 9) % 12;
-    let doy = (153 * mp + 2) / 5 + day - 1;
-    let doe = yoe * 365 + yoe / 4 - yoe / 100 + doy;
-    era * 146_097 + doe - 719_468
 }
 
 #[cfg(test)]
@@ -320,27 +306,6 @@ mod tests {
         // Source: recomputed from the formula (regression guard).
         assert!((diurnal_air_temp_c(10.0, 8.0, 15.0) - 14.0).abs() < 1e-12);
         assert!((diurnal_air_temp_c(10.0, 8.0, 3.0) - 6.0).abs() < 1e-12);
-    }
-
-    #[test]
-    fn days_from_civil_matches_chrono() {
-        // Source: chrono 0.4 as a general-purpose calendar oracle.
-        for (y, m, d) in [
-            (1970, 1, 1),
-            (2025, 1, 1),
-            (2024, 2, 29),
-            (1901, 3, 1),
-            (2099, 12, 31),
-        ] {
-            let chrono_days = chrono::NaiveDate::from_ymd_opt(y as i32, m as u32, d as u32)
-                .unwrap()
-                .and_hms_opt(0, 0, 0)
-                .unwrap()
-                .and_utc()
-                .timestamp()
-                / 86_400;
-            assert_eq!(days_from_civil(y, m, d), chrono_days);
-        }
     }
 
     #[test]

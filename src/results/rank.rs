@@ -3,9 +3,9 @@
 //! Rejected layouts are never ranked. Ties break by annual energy, then by name, so the order
 //! is deterministic.
 
-use crate::layouts::Layout;
-use crate::limits::{Finding, Severity};
-use crate::phase2::LayoutEnergy;
+use crate::design::rules::{Finding, Severity};
+use crate::input::layout::Layout;
+use crate::sim::energy::LayoutEnergy;
 
 /// What the ranking maximises.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -45,7 +45,7 @@ pub struct LayoutOutcome {
     /// The value the criterion ranked on, kWh.
     pub score_kwh: Option<f64>,
     /// Annual energy exceeded with 90 % probability (one year, ten-year mean), kWh.
-    pub p90: Option<crate::uncertainty::P90>,
+    pub p90: Option<crate::results::uncertainty::P90>,
 }
 
 impl LayoutOutcome {

@@ -58,7 +58,7 @@ pub struct ModelOptions {
     /// Albedo used when the weather file has no albedo column.
     pub albedo: Albedo,
     /// Year-to-year variability of the resource and model uncertainty (P50/P90).
-    pub uncertainty: crate::uncertainty::P90Inputs,
+    pub uncertainty: crate::results::uncertainty::P90Inputs,
 }
 
 /// One module type from its datasheet, with the single-diode parameters fitted once.
@@ -245,7 +245,7 @@ pub struct Plan {
     /// `layouts = "all"`: also enumerate every regular wiring.
     pub enumerate_all: bool,
     /// What enumeration may do (`[enumerate]`).
-    pub enumerate: crate::layouts::EnumerateOptions,
+    pub enumerate: crate::input::layout::EnumerateOptions,
 }
 
 impl ControllerInput {

@@ -42,13 +42,13 @@ use statrs::distribution::{Gamma, Normal};
 use thiserror::Error;
 
 use crate::error::WeatherError;
+use crate::input::weather::{
+    cos_zenith_from_angles, solar_time_h, StampConvention, UncheckedWeather, Weather, WeatherSite,
+};
 use crate::physics::sky::erbs_split;
 use crate::physics::sun::{declination_spencer_deg, extraterrestrial_normal_w_m2};
-use crate::sample_weather::haurwitz_ghi_w_m2;
-use crate::weather::{
-    civil_from_local_s, cos_zenith_from_angles, day_of_year_from_local_s, solar_time_h,
-    StampConvention, UncheckedWeather, Weather, WeatherSite,
-};
+use crate::time::{is_leap_year, LocalTime};
+use crate::weather_gen::sample::haurwitz_ghi_w_m2;
 
 /// Month names as messages use them, index 0 = January.
 pub const MONTH_NAMES: [&str; 12] = [
@@ -662,10 +662,6 @@ impl MonthlyInputs {
     }
 }
 
-fn is_leap_year(year: i32) -> bool {
-    (year % 4 == 0 && year % 100 != 0) || year % 400 == 0
-}
-
 // =======================================================================================
 // Sun: extraterrestrial and clear-sky irradiation
 // =======================================================================================
@@ -724,9 +720,13 @@ fn year_calendar(year: i32) -> Option<(i64, Vec<usize>)> {
         .and_hms_opt(0, 0, 0)?
         .and_utc()
         .timestamp();
-    let days = if is_leap_year(year) { 366 } else { 365 };
+    let days = if is_leap_year(i64::from(year)) {
+        366
+    } else {
+        365
+    };
     let months = (0..days)
-        .map(|d| civil_from_local_s(start + 86_400 * d as i64).1 as usize - 1)
+        .map(|d| LocalTime(start + 86_400 * d as i64).civil().1 as usize - 1)
         .collect();
     Some((start, months))
 }
@@ -787,7 +787,7 @@ fn day_hours_sun(
     utc_offset_h: f64,
     out: &mut [HourSun],
 ) {
-    let day_of_year = f64::from(day_of_year_from_local_s(day_start_s));
+    let day_of_year = f64::from(LocalTime(day_start_s).day_of_year());
     let g_on = extraterrestrial_normal_w_m2(day_of_year);
     let delta = declination_spencer_deg(day_of_year);
     let dt_h = 1.0 / SUBSTEPS as f64;
@@ -1776,7 +1776,7 @@ mod tests {
             let t = start + 3600 * k;
             for (lat, lon, utc) in [(45.0, 7.0, 1.0), (-33.9, 18.4, 2.0), (64.0, -21.9, 0.0)] {
                 let ours = hour_sun(t, lat, lon, utc).extraterrestrial_w_m2;
-                let theirs = crate::weather::mean_extraterrestrial_horizontal_w_m2(
+                let theirs = crate::input::weather::mean_extraterrestrial_horizontal_w_m2(
                     t, 3600, 12, lat, lon, utc,
                 );
                 assert!(

@@ -3,358 +3,21 @@
 //!
 //! Substring curves depend only on (irradiance, cell temperature, module type), so each
 //! distinct one is computed once per interval and shared by every module and every layout
-//! (ARCHITECTURE.md). Layouts run in parallel (rayon); each layout's arithmetic is the same
+//! (DEVELOPERS.md, invariants). Layouts run in parallel (rayon); each layout's arithmetic is the same
 //! whether it runs alone or beside others, so results are identical bit for bit.
 
 use rayon::prelude::*;
 
-use crate::layouts::Layout;
+use crate::input::layout::Layout;
+use crate::input::plan::Plan;
 use crate::physics::battery::{BatterySpec, BatteryState, LoadProfile};
 use crate::physics::controller::ControllerPowers;
-use crate::physics::diode::OperatingParams;
-use crate::physics::shade::{
-    obstacle_sky_view_loss, shaded_fractions_prepared, sky_view_ratio, HorizonProfile,
-    PreparedModule, PreparedObstacle, SunDirection,
-};
 use crate::physics::wiring::{
-    array_curve, cable_resistance_ohm, string_curve, substring_curve, substring_knees_a,
-    ArrayCurve, CurrentGrid, SubstringCurve,
+    array_curve, cable_resistance_ohm, string_curve, ArrayCurve, CurrentGrid, SubstringCurve,
 };
-use crate::plan::HorizonRef;
-use crate::plan::Plan;
-use crate::simulate::Conditions;
-
-/// Points on each interval's shared current grid.
-pub const GRID_POINTS: usize = crate::physics::wiring::GRID_POINTS_DEFAULT;
-
-/// The loss steps of notebooks-free-docs/method-accounting.md, in order.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Step {
-    Incidence,
-    Soiling,
-    Shading,
-    TemperatureLowLight,
-    Mismatch,
-    Cables,
-    WindowStartup,
-    InputLimit,
-    Clipping,
-    Conversion,
-    /// Harvest the battery could not take (full) beyond what the load used.
-    Curtailed,
-}
-
-/// Number of loss steps.
-pub const STEPS: usize = 11;
-
-impl Step {
-    pub const ALL: [Step; STEPS] = [
-        Step::Incidence,
-        Step::Soiling,
-        Step::Shading,
-        Step::TemperatureLowLight,
-        Step::Mismatch,
-        Step::Cables,
-        Step::WindowStartup,
-        Step::InputLimit,
-        Step::Clipping,
-        Step::Conversion,
-        Step::Curtailed,
-    ];
-
-    /// Key used in JSON and CSV.
-    pub fn key(self) -> &'static str {
-        match self {
-            Step::Incidence => "incidence",
-            Step::Soiling => "soiling",
-            Step::Shading => "shading",
-            Step::TemperatureLowLight => "temperature_low_light",
-            Step::Mismatch => "mismatch",
-            Step::Cables => "cables",
-            Step::WindowStartup => "window_startup",
-            Step::InputLimit => "input_limit",
-            Step::Clipping => "clipping",
-            Step::Conversion => "conversion",
-            Step::Curtailed => "curtailed",
-        }
-    }
-}
-
-/// One layout's energy over the run, month by month (January first), Wh.
-#[derive(Clone, Debug, Default, PartialEq)]
-pub struct LayoutEnergy {
-    /// Plane-of-array light on the wired modules × their STC efficiency (the DC potential).
-    pub potential_wh: [f64; 12],
-    /// Energy lost at each step (index = `Step::ALL` order). A negative value is a gain
-    /// (cells colder than 25 °C).
-    pub losses_wh: [[f64; 12]; STEPS],
-    /// Delivered by the controllers to the battery and the load (without a battery model:
-    /// to the battery at its fixed charging voltage).
-    pub delivered_wh: [f64; 12],
-    /// With a load: the load served (from harvest and battery), Wh.
-    pub load_served_wh: [f64; 12],
-    /// With a load: the part of it served straight from the harvest, Wh.
-    pub load_from_harvest_wh: [f64; 12],
-    /// With a load: load the battery could not serve (at its floor), Wh.
-    pub unmet_wh: [f64; 12],
-    /// With a load: days with some unmet load.
-    pub unmet_days: [u32; 12],
-    /// With a battery model: the lowest state of charge reached, fraction (NaN without).
-    pub min_soc_frac: [f64; 12],
-    /// With a battery model: state of charge at the end of each local day (for the plot).
-    pub daily_soc_frac: Vec<f64>,
-    /// Delivered while the sun was low (above 0°, below the plan's threshold).
-    pub low_sun_wh: [f64; 12],
-    /// Hours with at least one controller input awake.
-    pub awake_h: [f64; 12],
-    /// Delivered with the other MPPT tracking behaviour on every MPPT input (local instead of
-    /// global, or global instead of local); PWM inputs count as they are.
-    pub other_tracking_wh: [f64; 12],
-    /// One row per weather interval, when asked for (`--hourly`); empty otherwise.
-    pub hourly: Vec<HourRow>,
-    /// Delivered per calendar year of the weather file: (year, hours covered, Wh).
-    pub yearly: Vec<(i32, f64, f64)>,
-}
-
-impl LayoutEnergy {
-    /// Annual totals of the calendar years the weather file covers completely, kWh.
-    pub fn complete_year_totals_kwh(&self) -> Vec<f64> {
-        self.yearly
-            .iter()
-            .filter(|(_, h, _)| *h >= 8759.0)
-            .map(|(_, _, wh)| wh / 1000.0)
-            .collect()
-    }
-}
-
-/// One layout in one interval, for the hourly export (powers are interval means, W).
-#[derive(Clone, Copy, Debug, Default, PartialEq)]
-pub struct HourRow {
-    /// Light on the wired modules × STC efficiency.
-    pub potential_w: f32,
-    /// Best power the array offers at the controller terminals.
-    pub available_w: f32,
-    /// Delivered to the battery and the load (after curtailment by a full battery).
-    pub delivered_w: f32,
-    /// What the controllers offered before any curtailment.
-    pub harvest_w: f32,
-    /// Lost to output clipping.
-    pub clipped_w: f32,
-    /// At least one controller input awake.
-    pub awake: bool,
-}
-
-impl LayoutEnergy {
-    pub fn annual_delivered_kwh(&self) -> f64 {
-        self.delivered_wh.iter().sum::<f64>() / 1000.0
-    }
-
-    pub fn monthly_kwh(&self) -> [f64; 12] {
-        self.delivered_wh.map(|w| w / 1000.0)
-    }
-
-    /// One step's loss in one month (index 0 = January), Wh.
-    pub fn step_total_wh_month(&self, step: Step, month_index: usize) -> f64 {
-        self.losses_wh[step as usize][month_index]
-    }
-
-    pub fn step_total_wh(&self, step_index: usize) -> f64 {
-        self.losses_wh[step_index].iter().sum()
-    }
-}
-
-/// One distinct substring state in an interval.
-struct SubCurve {
-    curve: SubstringCurve,
-    mpp_w: f64,
-}
-
-/// Per-interval shared state: the current grid and every distinct substring curve.
-pub struct IntervalCurves {
-    grid: CurrentGrid,
-    curves: Vec<SubCurve>,
-    /// For each module, for each substring: index into `curves`.
-    module_subs: Vec<Vec<u16>>,
-    /// For each module, for each substring: shaded (blocked) fraction of direct light.
-    blocked: Vec<Vec<f64>>,
-    /// For each module: factor on its isotropic sky and horizon-band light.
-    diffuse_factor: Vec<f64>,
-}
-
-/// Beam and circumsolar fraction blocked by the plan's shade schedule for a module's
-/// substring in an interval (several rules combine multiplicatively on what passes).
-fn schedule_blocked(plan: &Plan, module: usize, sub: usize, month: u32, hour: u32) -> f64 {
-    let mut pass = 1.0;
-    for r in &plan.shade {
-        if r.module == module
-            && r.substrings.contains(&sub)
-            && r.months.contains(&month)
-            && r.hours.contains(&hour)
-        {
-            pass *= 1.0 - r.beam_blocked_frac;
-        }
-    }
-    1.0 - pass
-}
-
-/// Builds every distinct substring curve of one interval. `None` when no light reaches any
-/// module (night).
-fn interval_curves(
-    plan: &Plan,
-    cond: &Conditions,
-    scene: &ShadeScene,
-    k: usize,
-) -> Option<IntervalCurves> {
-    let info = &cond.intervals[k];
-    let sun = info.sun?;
-    if cond
-        .groups
-        .iter()
-        .all(|g| g.effective[k].total_w_m2() <= 0.0)
-    {
-        return None;
-    }
-    let sun_dir = SunDirection::from_position(&sun.position);
-    let (sun_el, sun_az) = (sun.position.elevation_deg(), sun.position.azimuth_deg);
-    // Distinct states: (group, blocked fraction, diffuse factor), both rounded to 1e-4 so that
-    // modules in practically the same light share one curve.
-    let q = |x: f64| (x * 1e4).round() as i64;
-    let mut keys: Vec<(usize, i64, i64)> = Vec::new();
-    let mut params: Vec<OperatingParams> = Vec::new();
-    let mut module_subs = Vec::with_capacity(plan.modules.len());
-    let mut blocked_all = Vec::with_capacity(plan.modules.len());
-    let mut near = [0.0; crate::physics::shade::MAX_SUBSTRINGS as usize];
-    for (m, module) in plan.modules.iter().enumerate() {
-        let t = &plan.module_types[module.module_type];
-        let g = &cond.groups[module.group];
-        let ms = &scene.modules[m];
-        let parts = &g.effective[k];
-        let direct = parts.beam_w_m2 + parts.circumsolar_w_m2;
-        let sky = parts.isotropic_w_m2 + parts.horizon_w_m2;
-        let ground = parts.ground_w_m2;
-        let b = t.bypass_diodes as usize;
-        // Far shade: the sun below this module's horizon line blocks beam and circumsolar.
-        let far = ms
-            .horizon
-            .and_then(|h| plan.geometry_horizon(h))
-            .is_some_and(|h| h.blocks(sun_el, sun_az));
-        near[..b].iter_mut().for_each(|x| *x = 0.0);
-        if !far && direct > 0.0 {
-            if let Some(pm) = &ms.placed {
-                shaded_fractions_prepared(pm, &scene.obstacles, &sun_dir, &mut near[..b]);
-            }
-        }
-        let mut subs = Vec::with_capacity(b);
-        let mut blocked = Vec::with_capacity(b);
-        for (j, near_j) in near[..b].iter().enumerate() {
-            let sched = schedule_blocked(plan, m, j, info.month, info.hour);
-            let f = if far {
-                1.0
-            } else {
-                1.0 - (1.0 - near_j) * (1.0 - sched)
-            };
-            let key = (module.group, q(f), q(ms.diffuse_factor));
-            let idx = match keys.iter().position(|x| *x == key) {
-                Some(i) => i,
-                None => {
-                    let e = (direct * (1.0 - f) + sky * ms.diffuse_factor + ground).max(0.0);
-                    params.push(t.substring.at(e, g.cell_temp_c[k]));
-                    keys.push(key);
-                    keys.len() - 1
-                }
-            };
-            subs.push(idx as u16);
-            blocked.push(f);
-        }
-        module_subs.push(subs);
-        blocked_all.push(blocked);
-    }
-    let i_max = params.iter().map(|p| p.il_a).fold(0.0, f64::max);
-    if i_max <= 0.0 {
-        return None;
-    }
-    let knees: Vec<f64> = params
-        .iter()
-        .zip(&keys)
-        .flat_map(|(p, (group, _, _))| {
-            let drop = plan.module_types[plan.groups[*group].module_type].bypass_drop_v;
-            substring_knees_a(p, drop)
-        })
-        .collect();
-    let grid = CurrentGrid::with_knees(i_max * 1.02, GRID_POINTS, &knees);
-    let curves = params
-        .into_iter()
-        .zip(&keys)
-        .map(|(p, (group, _, _))| {
-            let drop = plan.module_types[plan.groups[*group].module_type].bypass_drop_v;
-            SubCurve {
-                curve: substring_curve(&p, drop, &grid),
-                mpp_w: p.max_power_point().p,
-            }
-        })
-        .collect();
-    Some(IntervalCurves {
-        grid,
-        curves,
-        module_subs,
-        blocked: blocked_all,
-        diffuse_factor: scene.modules.iter().map(|m| m.diffuse_factor).collect(),
-    })
-}
-
-/// One module's fixed shading data, prepared once per run.
-struct ModuleShade {
-    /// Which horizon applies (see `Plan::geometry_horizon`).
-    horizon: Option<HorizonRef>,
-    /// The module's placement, when its group has one and there are obstacles.
-    placed: Option<PreparedModule>,
-    /// Factor on the isotropic sky and horizon-band light: the horizon's sky-view ratio less
-    /// the obstacles' share of the module's sky view (1 without either).
-    diffuse_factor: f64,
-}
-
-/// Horizon profiles and obstacles, prepared once per run and shared by every interval.
-pub struct ShadeScene {
-    modules: Vec<ModuleShade>,
-    obstacles: Vec<PreparedObstacle>,
-}
-
-impl ShadeScene {
-    /// Prepares the plan's geometry: horizon per module, placements, diffuse factors
-    /// (numerical sky-dome integrals, once per module).
-    pub fn new(plan: &Plan) -> ShadeScene {
-        let geo = &plan.geometry;
-        let obstacles_raw: Vec<_> = geo.obstacles.iter().map(|(_, o)| *o).collect();
-        let obstacles = obstacles_raw.iter().map(|o| o.prepare()).collect();
-        let modules = plan
-            .modules
-            .iter()
-            .enumerate()
-            .map(|(m, module)| {
-                let g = &plan.groups[module.group];
-                let horizon = plan.horizon_ref(m, module.group);
-                let profile = horizon.and_then(|h| plan.geometry_horizon(h));
-                let placement = geo.placements.get(m).copied().flatten();
-                let diffuse_factor = match (placement, obstacles_raw.is_empty()) {
-                    (Some(p), false) => {
-                        let flat = HorizonProfile::flat();
-                        obstacle_sky_view_loss(&p, &obstacles_raw, profile.unwrap_or(&flat))
-                            .map_or(1.0, |l| l.isotropic_factor())
-                    }
-                    _ => profile.map_or(1.0, |h| sky_view_ratio(g.tilt_deg, g.azimuth_deg, h)),
-                };
-                ModuleShade {
-                    horizon,
-                    placed: placement
-                        .filter(|_| !obstacles_raw.is_empty())
-                        .map(|p| p.prepare()),
-                    diffuse_factor,
-                }
-            })
-            .collect();
-        ShadeScene { modules, obstacles }
-    }
-}
+use crate::sim::conditions::Conditions;
+use crate::sim::curves::{all_interval_curves, interval_curves, IntervalCurves, ShadeScene};
+use crate::sim::energy::{HourRow, LayoutEnergy};
 
 /// Conductor resistances of one layout at an air temperature, ohm: the string lead's,
 /// returned, and each input's main run, written into `r_main` (reused between intervals).
@@ -649,7 +312,7 @@ fn settle(
     st: &mut BatteryState,
     e: &mut LayoutEnergy,
     day: &mut DayTrack,
-    info: &crate::simulate::IntervalInfo,
+    info: &crate::sim::conditions::IntervalInfo,
     harvest_wh: f64,
 ) {
     let m = (info.month - 1) as usize;
@@ -691,7 +354,7 @@ fn settle(
 fn build_input_curves(
     plan: &Plan,
     ic: &IntervalCurves,
-    w: &crate::layouts::InputWiring,
+    w: &crate::input::layout::InputWiring,
     r_lead: f64,
     r_main: f64,
     s: &mut Scratch,
@@ -759,48 +422,6 @@ pub fn layout_curves_at(
     )
 }
 
-/// Per module and month (January first): direct light (beam and circumsolar, after incidence
-/// losses and soiling) reaching the module, and the part of it that shade blocks, Wh/m².
-pub fn direct_light_lost(
-    plan: &Plan,
-    cond: &Conditions,
-    curves: &[Option<IntervalCurves>],
-) -> Vec<[(f64, f64); 12]> {
-    let mut out = vec![[(0.0, 0.0); 12]; plan.modules.len()];
-    for (k, info) in cond.intervals.iter().enumerate() {
-        let Some(ic) = &curves[k] else { continue };
-        let m = (info.month - 1) as usize;
-        for (mi, module) in plan.modules.iter().enumerate() {
-            let parts = &cond.groups[module.group].effective[k];
-            let direct = (parts.beam_w_m2 + parts.circumsolar_w_m2) * info.hours;
-            let b = ic.blocked[mi].len().max(1) as f64;
-            let lost: f64 = ic.blocked[mi].iter().map(|f| f * direct / b).sum();
-            out[mi][m].0 += direct;
-            out[mi][m].1 += lost;
-        }
-    }
-    out
-}
-
-/// Every interval's distinct substring curves (the curve-solving half of phase 2).
-pub fn all_interval_curves(
-    plan: &Plan,
-    cond: &Conditions,
-    parallel: bool,
-) -> Vec<Option<IntervalCurves>> {
-    let scene = ShadeScene::new(plan);
-    if parallel {
-        (0..cond.intervals.len())
-            .into_par_iter()
-            .map(|k| interval_curves(plan, cond, &scene, k))
-            .collect()
-    } else {
-        (0..cond.intervals.len())
-            .map(|k| interval_curves(plan, cond, &scene, k))
-            .collect()
-    }
-}
-
 /// How phase 2 runs.
 #[derive(Clone, Copy, Default)]
 pub struct RunOptions<'a> {
@@ -849,7 +470,10 @@ pub fn run(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::{layouts, load, simulate, PlanSource};
+    use crate::commands::load::load;
+    use crate::commands::PlanSource;
+    use crate::input::layout;
+    use crate::sim::conditions;
 
     /// The second pass's reuse of the first pass's array curves and cable losses is an
     /// optimisation only: results must be bit-identical to rebuilding them.
@@ -859,9 +483,9 @@ mod tests {
         let loaded = load(&PlanSource::Demo).expect("demo loads");
         let plan = &loaded.plan;
         assert!(plan.battery.model.is_some(), "the demo has a battery model");
-        let cond = simulate::phase1(plan, &loaded.weather, &loaded.site);
+        let cond = conditions::phase1(plan, &loaded.weather, &loaded.site);
         let curves = all_interval_curves(plan, &cond, false);
-        for layout in layouts::listed(plan).iter().take(4) {
+        for layout in layout::listed(plan).iter().take(4) {
             let a = simulate_layout_with(plan, &cond, &curves, layout, true, true);
             let b = simulate_layout_with(plan, &cond, &curves, layout, true, false);
             assert_eq!(a, b, "{}", layout.display_name());

@@ -4,10 +4,11 @@
 //! margin, never ranked); a soft finding is a warning on the layout. These are screening
 //! checks, not a code-compliance review. This module does not simulate.
 
-use crate::layouts::{InputWiring, Layout};
+use crate::input::layout::{InputWiring, Layout};
+use crate::input::plan::{CableRun, Plan};
+use crate::input::weather::Weather;
 use crate::physics::controller::ControllerModel;
 use crate::physics::wiring::{cable_resistance_ohm, Conductor};
-use crate::plan::{CableRun, Plan};
 
 /// NEC 690.8(A)(1): maximum circuit current = 1.25 × the sum of parallel Isc.
 pub const ISC_FACTOR: f64 = 1.25;
@@ -367,13 +368,25 @@ fn push(out: &mut Vec<Finding>, severity: Severity, rule: &'static str, message:
     });
 }
 
+/// What one input would carry, for a pruning rule: the input, modules in series, strings in
+/// parallel, and the orientation groups the strings draw on.
+#[derive(Clone, Copy, Debug)]
+pub struct InputDraft<'a> {
+    pub controller: usize,
+    pub series: usize,
+    pub parallel: usize,
+    /// Modules per string from each group (one entry per group; single-group strings have one
+    /// non-zero entry), for every kind of string on the input.
+    pub compositions: &'a [(usize, Vec<usize>)],
+}
+
 /// The hard limits that depend only on what one input carries (modules in series, strings in
 /// parallel, their module types): enumeration skips such choices before building layouts.
 /// Returns the rule broken, as named in [`check_layout`].
 pub fn input_hard_limit(
     plan: &Plan,
     temps: &DesignTemperatures,
-    draft: &crate::layouts::InputDraft,
+    draft: &InputDraft,
 ) -> Option<&'static str> {
     let c = &plan.controllers[draft.controller];
     let battery_v = plan.battery.charge_v;
@@ -414,5 +427,19 @@ pub fn input_hard_limit(
         }
         ControllerModel::Pwm { .. } if voc_cold_max <= battery_v => Some("never-charges"),
         _ => None,
+    }
+}
+/// The temperatures the limit checks use: the weather's extremes widened by the plan's design
+/// values.
+pub fn design_temperatures(plan: &Plan, weather: &Weather) -> DesignTemperatures {
+    let (lo, hi) = weather
+        .air_temp_c
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &t| {
+            (a.min(t), b.max(t))
+        });
+    DesignTemperatures {
+        min_air_c: plan.site.design_min_air_c.map_or(lo, |d| d.min(lo)),
+        max_air_c: plan.site.design_max_air_c.map_or(hi, |d| d.max(hi)),
     }
 }

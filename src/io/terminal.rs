@@ -5,29 +5,22 @@
 
 use std::fmt::Write as _;
 
-use chrono::{Duration, NaiveDate, NaiveDateTime};
-
-use crate::error::Error;
-use crate::limits::Severity;
-use crate::phase2::Step;
-use crate::physics::sun::{self, Atmosphere, Observer};
-use crate::physics::wiring::ArrayCurve;
-use crate::tally::GroupMonthly;
-use crate::{
-    CheckResult, CurveRequest, CurveTarget, Loaded, ModuleAnswer, Outcome, RankResult, ShadeResult,
-    SunpathRequest,
-};
+use crate::design::cautions::CAUTIONS;
+use crate::design::rules::Severity;
+use crate::design::sizing::ModuleAnswer;
+use crate::input::weather::Weather;
+use crate::input::Loaded;
+use crate::results::light::GroupMonthly;
+use crate::results::uncertainty::empirical_variability;
+use crate::results::weather_summary::WeatherSummary;
+use crate::results::{CheckResult, RankResult, ShadeResult};
+use crate::sim::energy::Step;
+use crate::time::LocalTime;
+use crate::weather_gen::synth::MONTH_NAMES;
 
 const MONTHS: [&str; 12] = [
     "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec",
 ];
-
-/// The cautions every report carries.
-pub const CAUTIONS: &str = "\
-Cautions: a DC array is live whenever light falls on it and cannot be switched off at the
-modules. Cold raises module voltage. The limits checked here are screening checks, not a
-code-compliance review: follow your local electrical code (e.g. NEC Article 690,
-IEC 60364-7-712) and have a licensed professional check the design before building it.";
 
 /// Site line shared by the reports.
 fn site_header(out: &mut String, l: &Loaded) {
@@ -96,7 +89,7 @@ pub fn ranking(r: &RankResult) -> String {
         out,
         "Ranked by {}{} — {} layouts ranked, {} rejected",
         r.criterion.describe(),
-        if r.criterion == crate::rank::Criterion::Winter {
+        if r.criterion == crate::results::rank::Criterion::Winter {
             format!(" ({})", winter.join(", "))
         } else {
             String::new()
@@ -211,10 +204,10 @@ pub fn ranking(r: &RankResult) -> String {
             u.variability_frac * 100.0,
             u.model_frac * 100.0
         );
-        let z = crate::uncertainty::z_90();
+        let z = crate::results::uncertainty::z_90();
         for o in &ranked {
             if let Some(spread) = o.energy.as_ref().and_then(|e| {
-                crate::uncertainty::empirical_variability(&e.complete_year_totals_kwh())
+                crate::results::uncertainty::empirical_variability(&e.complete_year_totals_kwh())
             }) {
                 let _ = writeln!(
                     out,
@@ -388,7 +381,7 @@ pub fn check(r: &CheckResult) -> String {
 }
 
 /// The off-grid owner's view: the load over the year and in the darkest months.
-fn outlook(r: &RankResult, ranked: &[&crate::rank::LayoutOutcome]) -> String {
+fn outlook(r: &RankResult, ranked: &[&crate::results::rank::LayoutOutcome]) -> String {
     let mut out = String::new();
     let plan = &r.loaded.plan;
     let spec = plan.battery.model.as_ref();
@@ -589,334 +582,6 @@ fn light_rows(
     out
 }
 
-fn parse_date(s: &str, what: &str) -> Result<NaiveDate, Error> {
-    NaiveDate::parse_from_str(s, "%Y-%m-%d")
-        .map_err(|_| Error::Usage(format!("{what} = {s:?} is not a date; write YYYY-MM-DD")))
-}
-
-/// `wirerank sunpath`: the sun's position over a date range at a fixed step.
-///
-/// # Errors
-/// Missing or out-of-range site values, bad dates, or a plan that fails to load.
-pub fn sunpath(r: &SunpathRequest) -> Result<Outcome, Error> {
-    let from_plan = match &r.plan {
-        Some(p) => Some(crate::load(&crate::PlanSource::File(p.clone()))?.site),
-        None => None,
-    };
-    let pick = |given: Option<f64>,
-                plan: Option<f64>,
-                key: &str,
-                lo: f64,
-                hi: f64|
-     -> Result<f64, Error> {
-        let v = given.or(plan).ok_or_else(|| {
-            Error::Usage(format!(
-                "--{} is missing (or give --plan)",
-                key.replace('_', "-")
-            ))
-        })?;
-        if !v.is_finite() || v < lo || v > hi {
-            return Err(Error::Usage(format!(
-                "--{} = {v} is outside {lo}..={hi}",
-                key.replace('_', "-")
-            )));
-        }
-        Ok(v)
-    };
-    let lat = pick(
-        r.latitude_deg,
-        from_plan.as_ref().map(|s| s.latitude_deg),
-        "latitude_deg",
-        -90.0,
-        90.0,
-    )?;
-    let lon = pick(
-        r.longitude_deg,
-        from_plan.as_ref().map(|s| s.longitude_deg),
-        "longitude_deg",
-        -180.0,
-        180.0,
-    )?;
-    let offset = pick(
-        r.utc_offset_h,
-        from_plan.as_ref().map(|s| s.utc_offset_h),
-        "utc_offset_h",
-        -12.0,
-        14.0,
-    )?;
-    let elev = r
-        .elevation_m
-        .or(from_plan.as_ref().map(|s| s.elevation_m))
-        .unwrap_or(0.0);
-    if !(-500.0..=9000.0).contains(&elev) {
-        return Err(Error::Usage(format!(
-            "--elevation-m = {elev} is outside -500..=9000"
-        )));
-    }
-    if r.step_min == 0 || r.step_min > 1440 {
-        return Err(Error::Usage(format!(
-            "--step-min = {} is outside 1..=1440",
-            r.step_min
-        )));
-    }
-    let from = parse_date(&r.from, "--date")?;
-    let to = match &r.to {
-        Some(t) => parse_date(t, "--to")?,
-        None => from,
-    };
-    if to < from {
-        return Err(Error::Usage(format!("--to {to} is before --date {from}")));
-    }
-    if (to - from).num_days() > 366 {
-        return Err(Error::Usage(
-            "--date .. --to spans more than 366 days".into(),
-        ));
-    }
-    let observer = Observer {
-        latitude_deg: lat,
-        longitude_deg: lon,
-        elevation_m: elev,
-    };
-    let atmosphere = Atmosphere {
-        pressure_hpa: sun::pressure_from_elevation_hpa(elev),
-        temperature_c: 12.0,
-    };
-    let mut out = String::new();
-    if r.csv {
-        out.push_str("time_local,zenith_deg,elevation_deg,azimuth_deg\n");
-    } else {
-        let _ = writeln!(
-            out,
-            "Sun at {lat:.4}°, {lon:.4}°, {elev:.0} m; local standard time UTC{offset:+} (no daylight saving)"
-        );
-        let _ = writeln!(
-            out,
-            "{:<17} {:>10} {:>11}",
-            "time", "elevation°", "azimuth°"
-        );
-    }
-    let start: NaiveDateTime = from.and_hms_opt(0, 0, 0).unwrap_or_default();
-    let end: NaiveDateTime = to.and_hms_opt(0, 0, 0).unwrap_or_default() + Duration::days(1);
-    let step = Duration::minutes(r.step_min as i64);
-    let mut t = start;
-    while t < end {
-        let unix = t.and_utc().timestamp() as f64 - offset * 3600.0;
-        let p = sun::solar_position(
-            unix,
-            &observer,
-            &atmosphere,
-            crate::physics::sun::DELTA_T_DEFAULT_S,
-        );
-        let el = p.elevation_deg();
-        if el <= 0.0 && !r.include_night {
-            // Below the horizon: listed only with --all.
-        } else if r.csv {
-            let _ = writeln!(
-                out,
-                "{},{:.4},{:.4},{:.4}",
-                t.format("%Y-%m-%dT%H:%M"),
-                p.zenith_deg,
-                el,
-                p.azimuth_deg
-            );
-        } else {
-            let _ = writeln!(
-                out,
-                "{:<17} {:>10.2} {:>11.2}",
-                t.format("%Y-%m-%d %H:%M"),
-                el,
-                p.azimuth_deg
-            );
-        }
-        t += step;
-    }
-    Ok(Outcome {
-        stdout: out,
-        ..Outcome::default()
-    })
-}
-
-/// Points of one curve, evenly spaced in voltage from 0 to Voc, as (V, I, P).
-fn sample_curve(voc_v: f64, n: usize, current_at: impl Fn(f64) -> f64) -> Vec<(f64, f64, f64)> {
-    let n = n.max(2);
-    (0..n)
-        .map(|k| {
-            let v = voc_v * k as f64 / (n - 1) as f64;
-            let i = current_at(v).max(0.0);
-            (v, i, v * i)
-        })
-        .collect()
-}
-
-fn print_points(out: &mut String, label: &str, pts: &[(f64, f64, f64)], csv: bool) {
-    for (v, i, p) in pts {
-        if csv {
-            let _ = writeln!(out, "{label},{v:.4},{i:.4},{p:.4}");
-        } else {
-            let _ = writeln!(out, "  {v:>9.3} {i:>9.4} {p:>10.3}");
-        }
-    }
-}
-
-/// `wirerank curve`: I–V and P–V points with the maximum power point(s).
-///
-/// # Errors
-/// A plan that fails to load, an unknown module type, layout or stamp, or out-of-range values.
-pub fn curve(r: &CurveRequest) -> Result<Outcome, Error> {
-    if r.points < 2 || r.points > 10_000 {
-        return Err(Error::Usage(format!(
-            "--points = {} is outside 2..=10000",
-            r.points
-        )));
-    }
-    let mut out = String::new();
-    if r.csv {
-        out.push_str("curve,voltage_v,current_a,power_w\n");
-    }
-    match &r.target {
-        CurveTarget::Module {
-            module_type,
-            irradiance_w_m2,
-            cell_temp_c,
-        } => {
-            let plan = match &r.plan {
-                crate::PlanSource::Demo => crate::io::plan_toml::parse_plan(
-                    crate::DEMO_PLAN,
-                    "demo plan",
-                    std::path::Path::new(""),
-                )?,
-                crate::PlanSource::File(p) => crate::io::plan_toml::read_plan(p)?,
-            };
-            if !(0.0..=2000.0).contains(irradiance_w_m2) {
-                return Err(Error::Usage(format!(
-                    "--irradiance-w-m2 = {irradiance_w_m2} is outside 0..=2000"
-                )));
-            }
-            if !(-60.0..=100.0).contains(cell_temp_c) {
-                return Err(Error::Usage(format!(
-                    "--cell-temp-c = {cell_temp_c} is outside -60..=100"
-                )));
-            }
-            let t = match module_type {
-                Some(id) => plan
-                    .module_types
-                    .iter()
-                    .find(|t| &t.id == id)
-                    .ok_or_else(|| {
-                        let known: Vec<&str> =
-                            plan.module_types.iter().map(|t| t.id.as_str()).collect();
-                        Error::Usage(format!(
-                            "--module-type {id:?} is not in the plan; known: {}",
-                            known.join(", ")
-                        ))
-                    })?,
-                None => &plan.module_types[0],
-            };
-            let op = t.reference.at(*irradiance_w_m2, *cell_temp_c);
-            let mpp = op.max_power_point();
-            let pts = sample_curve(op.voc_v(), r.points, |v| op.current_at(v));
-            if !r.csv {
-                let _ = writeln!(
-                    out,
-                    "module type {} at {irradiance_w_m2:.0} W/m², cell {cell_temp_c:.1} °C (De Soto 2006 single-diode fit)",
-                    t.id
-                );
-                let _ = writeln!(
-                    out,
-                    "  Voc {:.3} V  Isc {:.4} A  MPP {:.3} V × {:.4} A = {:.2} W   (datasheet STC: Voc {} V, Isc {} A, Vmp {} V, Imp {} A)",
-                    op.voc_v(),
-                    op.isc_a(),
-                    mpp.v,
-                    mpp.i,
-                    mpp.p,
-                    t.datasheet.voc_v,
-                    t.datasheet.isc_a,
-                    t.datasheet.vmp_v,
-                    t.datasheet.imp_a
-                );
-                let _ = writeln!(out, "  {:>9} {:>9} {:>10}", "V", "A", "W");
-            }
-            print_points(&mut out, &t.id, &pts, r.csv);
-        }
-        CurveTarget::Layout { layout, at } => {
-            let loaded = crate::load(&r.plan)?;
-            let plan = &loaded.plan;
-            let temps = crate::design_temperatures(plan, &loaded.weather);
-            let candidates = crate::candidate_layouts(plan, &temps)?;
-            let chosen = match layout.parse::<usize>() {
-                Ok(n) if n >= 1 && n <= candidates.layouts.len() => &candidates.layouts[n - 1],
-                _ => candidates
-                    .layouts
-                    .iter()
-                    .find(|l| &l.code == layout || l.label.as_deref() == Some(layout.as_str()))
-                    .ok_or_else(|| {
-                        Error::Usage(format!(
-                            "--layout {layout:?} is neither a number 1..={} nor a layout code or name of the plan",
-                            candidates.layouts.len()
-                        ))
-                    })?,
-            };
-            let k = (0..loaded.weather.len())
-                .find(|&k| &loaded.weather.stamp_text(k) == at)
-                .ok_or_else(|| {
-                    Error::Usage(format!(
-                        "--at {at:?} is not a stamp of {} (write it as in the file, e.g. {})",
-                        loaded.weather.source,
-                        loaded.weather.stamp_text(0)
-                    ))
-                })?;
-            let cond = crate::simulate::phase1(plan, &loaded.weather, &loaded.site);
-            if !r.csv {
-                let _ = writeln!(
-                    out,
-                    "layout {} at {at} (weather line {}), as each controller input sees it (cables included)",
-                    chosen.display_name(),
-                    loaded.weather.source_line.get(k).copied().unwrap_or(0)
-                );
-            }
-            match crate::phase2::layout_curves_at(plan, &cond, chosen, k) {
-                None => {
-                    if !r.csv {
-                        let _ = writeln!(out, "  no light on the modules in this interval");
-                    }
-                }
-                Some(curves) => {
-                    for (c, curve) in curves {
-                        let ctl = &plan.controllers[c];
-                        print_array(&mut out, &ctl.id, &curve, r.points, r.csv);
-                    }
-                }
-            }
-        }
-    }
-    Ok(Outcome {
-        stdout: out,
-        ..Outcome::default()
-    })
-}
-
-fn print_array(out: &mut String, label: &str, curve: &ArrayCurve, points: usize, csv: bool) {
-    let voc = curve.voc_v();
-    let pts = sample_curve(voc, points, |v| curve.current_at(v));
-    if !csv {
-        let maxima = curve.local_maxima(0.0, voc);
-        let _ = writeln!(
-            out,
-            "input {label}: Voc {voc:.2} V, {} local power maxima",
-            maxima.len()
-        );
-        for m in &maxima {
-            let _ = writeln!(
-                out,
-                "  maximum at {:.2} V × {:.3} A = {:.1} W",
-                m.v, m.i, m.p
-            );
-        }
-        let _ = writeln!(out, "  {:>9} {:>9} {:>10}", "V", "A", "W");
-    }
-    print_points(out, label, &pts, csv);
-}
-
 /// `wirerank shade`: the share of direct light lost to shade per module and month.
 pub fn shade(r: &ShadeResult) -> String {
     let mut out = String::new();
@@ -967,6 +632,114 @@ pub fn shade(r: &ShadeResult) -> String {
         }
         let year = if d > 0.0 { l / d * 100.0 } else { 0.0 };
         let _ = writeln!(out, "{year:>7.1}");
+    }
+    out
+}
+/// The `inspect` report as text.
+pub fn summary_text(w: &Weather, s: &WeatherSummary) -> String {
+    let mut out = String::new();
+    let _ = writeln!(out, "weather: {}", w.source);
+    let site = &w.site;
+    let number =
+        |v: Option<f64>, unit: &str| v.map_or("not given".to_string(), |v| format!("{v}{unit}"));
+    let _ = writeln!(
+        out,
+        "site: {} (latitude {}, longitude {}, elevation {}, UTC offset {})",
+        site.name.as_deref().unwrap_or("no name"),
+        number(site.latitude_deg, "°"),
+        number(site.longitude_deg, "°"),
+        number(site.elevation_m, " m"),
+        number(site.utc_offset_h, " h"),
+    );
+    if let (Some(first), Some(last)) = (w.local_start_s.first(), w.local_start_s.last()) {
+        let _ = writeln!(
+            out,
+            "rows: {} of {} min (stamps mark the {}), {} … {}",
+            s.rows,
+            s.interval_s / 60,
+            w.stamp.as_str(),
+            LocalTime(*first).format(),
+            LocalTime(*last).format()
+        );
+    }
+    let mut columns = vec!["ghi_w_m2"];
+    for (name, present) in [
+        ("dni_w_m2", w.dni_w_m2.is_some()),
+        ("dhi_w_m2", w.dhi_w_m2.is_some()),
+        ("air_temp_c", true),
+        ("wind_m_s", w.wind_m_s.is_some()),
+        ("albedo_frac", w.albedo_frac.is_some()),
+        ("pressure_hpa", w.pressure_hpa.is_some()),
+    ] {
+        if present {
+            columns.push(name);
+        }
+    }
+    let _ = writeln!(out, "columns: {}", columns.join(", "));
+    let _ = writeln!(
+        out,
+        "repairs: {} gaps filled ({} intervals), {} values clamped",
+        s.filled_gaps, s.filled_intervals, s.clamped_values
+    );
+    let _ = writeln!(out);
+    let multi_year = s
+        .months
+        .first()
+        .zip(s.months.last())
+        .is_some_and(|(a, b)| a.year != b.year);
+    let _ = writeln!(
+        out,
+        "{:<9} {:>5} {:>8} {:>9} {:>7} {:>9} {:>9} {:>7} {:>7}",
+        "month", "days", "GHI", "GHI/day", "mean", "day min", "day max", "lowest", "highest"
+    );
+    let _ = writeln!(
+        out,
+        "{:<9} {:>5} {:>8} {:>9} {:>7} {:>9} {:>9} {:>7} {:>7}",
+        "", "", "kWh/m²", "kWh/m²", "°C", "°C", "°C", "°C", "°C"
+    );
+    for m in &s.months {
+        let label = if multi_year {
+            format!("{} {}", &MONTH_NAMES[m.month as usize - 1][..3], m.year)
+        } else {
+            MONTH_NAMES[m.month as usize - 1][..3].to_string()
+        };
+        let _ = writeln!(
+            out,
+            "{:<9} {:>5.1} {:>8.1} {:>9.2} {:>7.1} {:>9.1} {:>9.1} {:>7.1} {:>7.1}",
+            label,
+            m.days,
+            m.ghi_kwh_m2,
+            m.ghi_kwh_m2_day,
+            m.air_mean_c,
+            m.air_daily_min_c,
+            m.air_daily_max_c,
+            m.air_lowest_c,
+            m.air_highest_c
+        );
+    }
+    let total: f64 = s.months.iter().map(|m| m.ghi_kwh_m2).sum();
+    let days: f64 = s.months.iter().map(|m| m.days).sum();
+    let _ = writeln!(out, "{:<9} {:>5.1} {:>8.1}", "total", days, total);
+    let _ = writeln!(out);
+    let _ = writeln!(
+        out,
+        "lowest air temperature: {:.1} °C at {}",
+        s.lowest.0, s.lowest.1
+    );
+    let _ = writeln!(
+        out,
+        "highest air temperature: {:.1} °C at {}",
+        s.highest.0, s.highest.1
+    );
+    let totals: Vec<f64> = s.complete_years.iter().map(|y| y.1).collect();
+    if let Some(spread) = empirical_variability(&totals) {
+        let _ = writeln!(
+            out,
+            "year-to-year: {} complete years, mean {:.1} kWh/m², standard deviation {:.1} % (usable for P90 instead of the default)",
+            spread.years,
+            spread.mean,
+            spread.sd_frac * 100.0
+        );
     }
     out
 }

@@ -203,7 +203,7 @@ mod tests {
         // Source: standard normal table (Abramowitz & Stegun 1964, Table 26.5): z(0.90) =
         // 1.2816 to 4 decimals, tolerance half a unit in the last place.
         assert!((z_90() - 1.2816).abs() <= 5e-5, "{}", z_90());
-        // Source: same table, z(0.10) = −1.2816 (symmetry), as CRATES.md notes for statrs.
+        // Source: same table, z(0.10) = −1.2816 (symmetry); statrs gives −1.281552.
         assert!((Normal::standard().inverse_cdf(0.1) + 1.2816).abs() <= 5e-5);
     }
 

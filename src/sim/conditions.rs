@@ -4,81 +4,16 @@
 //! Phase 1 is the same for every wiring, so it runs once and its results are shared by every
 //! layout in phase 2. It does no file I/O and knows no file format.
 
+use crate::input::plan::Plan;
+use crate::input::site::Site;
+use crate::input::weather::Weather;
 use crate::physics::sky::{self, PoaParts, SkyState, Surface};
 use crate::physics::sun::{self, Atmosphere, IntervalSun, Observer};
-use crate::plan::Plan;
-use crate::weather::Weather;
+use crate::time::{LocalTime, UtcTime};
 
 /// Wind speed assumed when the weather file has none, m/s (the NOCT test condition, IEC 61215).
+/// Wind speed assumed when the weather file has none, m/s (the NOCT test condition, IEC 61215).
 pub const WIND_DEFAULT_M_S: f64 = 1.0;
-
-/// The site after merging the plan and the weather header.
-#[derive(Clone, Debug, PartialEq)]
-pub struct Site {
-    pub name: String,
-    pub latitude_deg: f64,
-    pub longitude_deg: f64,
-    pub elevation_m: f64,
-    pub utc_offset_h: f64,
-}
-
-/// Why the plan and the weather file do not give one site.
-#[derive(Debug, thiserror::Error)]
-pub enum SiteError {
-    #[error("site.{key} is missing: give it in the plan's [site] table or as `# {key} = ...` in the weather file {weather}")]
-    Missing { key: &'static str, weather: String },
-    #[error("site.{key} conflicts: the plan says {plan_value} but the weather file {weather} says {weather_value}; make them agree or remove one")]
-    Conflict {
-        key: &'static str,
-        plan_value: f64,
-        weather_value: f64,
-        weather: String,
-    },
-}
-
-/// Merges the plan's site with the weather header's; a value given by both must agree.
-///
-/// # Errors
-/// Latitude, longitude or UTC offset given by neither, or a conflict beyond a small tolerance
-/// (0.01° for angles, 25 m for elevation, exactly for the UTC offset).
-pub fn resolve_site(plan: &Plan, weather: &Weather) -> Result<Site, SiteError> {
-    let pick = |key: &'static str,
-                p: Option<f64>,
-                w: Option<f64>,
-                tol: f64|
-     -> Result<Option<f64>, SiteError> {
-        match (p, w) {
-            (Some(a), Some(b)) if (a - b).abs() > tol => Err(SiteError::Conflict {
-                key,
-                plan_value: a,
-                weather_value: b,
-                weather: weather.source.clone(),
-            }),
-            (Some(a), _) => Ok(Some(a)),
-            (None, b) => Ok(b),
-        }
-    };
-    let missing = |key: &'static str| SiteError::Missing {
-        key,
-        weather: weather.source.clone(),
-    };
-    let ws = &weather.site;
-    let ps = &plan.site;
-    Ok(Site {
-        name: ps
-            .name
-            .clone()
-            .or_else(|| ws.name.clone())
-            .unwrap_or_else(|| "unnamed site".to_string()),
-        latitude_deg: pick("latitude_deg", ps.latitude_deg, ws.latitude_deg, 0.01)?
-            .ok_or_else(|| missing("latitude_deg"))?,
-        longitude_deg: pick("longitude_deg", ps.longitude_deg, ws.longitude_deg, 0.01)?
-            .ok_or_else(|| missing("longitude_deg"))?,
-        elevation_m: pick("elevation_m", ps.elevation_m, ws.elevation_m, 25.0)?.unwrap_or(0.0),
-        utc_offset_h: pick("utc_offset_h", ps.utc_offset_h, ws.utc_offset_h, 1e-9)?
-            .ok_or_else(|| missing("utc_offset_h"))?,
-    })
-}
 
 /// What every layout sees in one interval, independent of orientation.
 #[derive(Clone, Copy, Debug)]
@@ -131,6 +66,19 @@ pub struct Conditions {
     pub groups: Vec<GroupConditions>,
 }
 
+impl Conditions {
+    /// Years covered by the conditions' intervals, as a factor that turns a total over the
+    /// file into a mean year (1 for a year or less).
+    pub fn per_year_factor(&self) -> f64 {
+        let hours: f64 = self.intervals.iter().map(|i| i.hours).sum();
+        if hours > 8784.0 {
+            8760.0 / hours
+        } else {
+            1.0
+        }
+    }
+}
+
 /// Runs phase 1 over the whole weather series.
 ///
 /// Each interval is evaluated once, at the sun position of notebooks-free-docs/method-sun.md; the weather values are
@@ -144,17 +92,21 @@ pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
     let prepared = observer.prepare();
     let default_pressure = sun::pressure_from_elevation_hpa(site.elevation_m);
     let n = weather.len();
-    let offset_s = site.utc_offset_h * 3600.0;
     let dt_s = weather.interval_s as f64;
 
     // The observer-independent part of SPA, once per day of the file (SunEphemeris).
-    let span = |k: usize| weather.local_start_s[k] as f64 - offset_s;
+    let span = |k: usize| {
+        LocalTime(weather.local_start_s[k])
+            .to_utc(site.utc_offset_h)
+            .0
+    };
     let ephemeris =
         (n > 0).then(|| sun::SunEphemeris::new(span(0), span(n - 1) + dt_s, plan.model.delta_t_s));
     let mut intervals = Vec::with_capacity(n);
     let mut skies: Vec<Option<SkyState>> = Vec::with_capacity(n);
     for k in 0..n {
-        let start = weather.local_start_s[k] as f64 - offset_s;
+        let local = LocalTime(weather.local_start_s[k]);
+        let start = local.to_utc(site.utc_offset_h).0;
         let air = weather.air_temp_c[k];
         let atmosphere = Atmosphere {
             pressure_hpa: weather
@@ -179,17 +131,9 @@ pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
             hours: dt_s / 3600.0,
             month: weather.local_month(k),
             hour: weather.local_hour(k),
-            year: chrono::DateTime::from_timestamp(weather.local_start_s[k], 0).map_or(0, |d| {
-                use chrono::Datelike;
-                d.year()
-            }),
+            year: local.year() as i32,
             day_of_year: weather.local_day_of_year(k),
-            weekend: chrono::DateTime::from_timestamp(weather.local_start_s[k], 0).is_some_and(
-                |d| {
-                    use chrono::Datelike;
-                    d.weekday().number_from_monday() >= 6
-                },
-            ),
+            weekend: local.is_weekend(),
             sun: sun_now,
             ghi_w_m2: ghi,
             dni_w_m2: 0.0,
@@ -198,7 +142,7 @@ pub fn phase1(plan: &Plan, weather: &Weather, site: &Site) -> Conditions {
             wind_m_s: weather.wind_m_s.as_ref().map_or(WIND_DEFAULT_M_S, |w| w[k]),
         };
         let sky_state = sun_now.filter(|_| ghi > 0.0).map(|s| {
-            let doy = day_of_year_utc(s.eval_unix_s);
+            let doy = UtcTime(s.eval_unix_s).day_of_year_frac();
             let g_on = sun::extraterrestrial_normal_w_m2(doy);
             let z = s.position.zenith_deg;
             let (dni, dhi) = match (&weather.dni_w_m2, &weather.dhi_w_m2) {
@@ -284,29 +228,5 @@ pub fn scale_parts(p: &PoaParts, f: f64) -> PoaParts {
         horizon_w_m2: p.horizon_w_m2 * f,
         ground_w_m2: p.ground_w_m2 * f,
         aoi_deg: p.aoi_deg,
-    }
-}
-
-/// Day of year (1 = 1 January, fractional) of a UTC instant, for the Spencer series.
-pub fn day_of_year_utc(unix_s: f64) -> f64 {
-    use chrono::Datelike;
-    let day_start = (unix_s / 86_400.0).floor();
-    let ordinal =
-        chrono::DateTime::from_timestamp(day_start as i64 * 86_400, 0).map_or(1, |d| d.ordinal());
-    ordinal as f64 + (unix_s / 86_400.0 - day_start)
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn day_of_year_known_dates() {
-        // Source: common practice, no source (calendar arithmetic): 2025-01-01T00:00Z is
-        // unix 1735689600; 2024-12-31T12:00Z is day 366.5 of a leap year.
-        assert!((day_of_year_utc(1_735_689_600.0) - 1.0).abs() < 1e-9);
-        assert!((day_of_year_utc(1_735_689_600.0 - 43_200.0) - 366.5).abs() < 1e-9);
-        // 2025-03-01 is day 60 of a common year.
-        assert!((day_of_year_utc(1_740_787_200.0) - 60.0).abs() < 1e-9);
     }
 }

@@ -22,6 +22,7 @@ use crate::error::WeatherError;
 use crate::physics::sun::{
     declination_spencer_deg, equation_of_time_min, extraterrestrial_normal_w_m2,
 };
+use crate::time::LocalTime;
 
 /// Night-time irradiance down to this far below zero is sensor offset: clamped to 0 with a
 /// counted warning. Anything more negative is an error.
@@ -215,7 +216,7 @@ impl Weather {
     /// month of its own hour: with `stamp = end`, the row stamped `2026-01-01T00:00`
     /// covers 23:00–24:00 on 31 December and counts in December.
     pub fn local_month(&self, k: usize) -> u32 {
-        civil_from_local_s(self.local_start_s[k]).1
+        LocalTime(self.local_start_s[k]).civil().1
     }
 
     /// Hour of day 0..=23 of the interval's START in local standard time.
@@ -225,7 +226,7 @@ impl Weather {
 
     /// Day of year 1..=366 of the interval's START in local standard time.
     pub fn local_day_of_year(&self, k: usize) -> u32 {
-        day_of_year_from_local_s(self.local_start_s[k])
+        LocalTime(self.local_start_s[k]).day_of_year()
     }
 
     /// Which months (index 0 = January) hold at least one interval start.
@@ -251,7 +252,7 @@ impl Weather {
             StampConvention::Start => 0,
             StampConvention::End => self.interval_s,
         };
-        format_local_s(self.local_start_s[k] + shift)
+        LocalTime(self.local_start_s[k] + shift).format()
     }
 
     /// notebooks-free-docs/weather-format.md rule that needs the sun: GHI above 1.5 × extraterrestrial horizontal
@@ -463,7 +464,7 @@ impl UncheckedWeather {
                 return Err(WeatherError::OffGrid {
                     file,
                     line,
-                    value: format_local_s(stamp),
+                    value: LocalTime(stamp).format(),
                     interval_min: interval_s / 60,
                 });
             }
@@ -474,7 +475,7 @@ impl UncheckedWeather {
                     return Err(WeatherError::DuplicateStamp {
                         file,
                         line,
-                        value: format_local_s(stamp),
+                        value: LocalTime(stamp).format(),
                         first_line: self.line[k - 1],
                     });
                 }
@@ -482,8 +483,8 @@ impl UncheckedWeather {
                     return Err(WeatherError::OutOfOrder {
                         file,
                         line,
-                        value: format_local_s(stamp),
-                        previous: format_local_s(previous),
+                        value: LocalTime(stamp).format(),
+                        previous: LocalTime(previous).format(),
                         previous_line: self.line[k - 1],
                     });
                 }
@@ -492,8 +493,8 @@ impl UncheckedWeather {
                     return Err(WeatherError::Gap {
                         file,
                         line,
-                        value: format_local_s(stamp),
-                        previous: format_local_s(previous),
+                        value: LocalTime(stamp).format(),
+                        previous: LocalTime(previous).format(),
                         missing,
                         max_fill: MAX_FILL_INTERVALS,
                     });
@@ -503,7 +504,7 @@ impl UncheckedWeather {
                 }
             }
 
-            let day_of_year = day_of_year_from_local_s(stamp - shift) as f64;
+            let day_of_year = LocalTime(stamp - shift).day_of_year() as f64;
             let dni_max_w_m2 =
                 extraterrestrial_normal_w_m2(day_of_year) + EXTRATERRESTRIAL_ALLOWANCE_W_M2;
             let irradiance: [(&str, Option<&mut Vec<f64>>, f64); 3] = [
@@ -613,7 +614,7 @@ impl UncheckedWeather {
             weather.warnings.push(WeatherWarning::FilledGaps {
                 gaps: gaps.len(),
                 intervals: intervals as usize,
-                first_missing: format_local_s(first_missing),
+                first_missing: LocalTime(first_missing).format(),
             });
         }
         let covered = weather.months_covered();
@@ -801,7 +802,7 @@ pub(crate) fn mean_extraterrestrial_horizontal_w_m2(
     let mut sum = 0.0;
     for j in 0..substeps {
         let t = local_start_s as f64 + (j as f64 + 0.5) * dt;
-        let day_of_year = day_of_year_from_local_s(t.floor() as i64) as f64;
+        let day_of_year = LocalTime(t.floor() as i64).day_of_year() as f64;
         let cos_z = cos_zenith_textbook(t, latitude_deg, longitude_deg, utc_offset_h);
         sum += extraterrestrial_normal_w_m2(day_of_year) * cos_z.max(0.0);
     }
@@ -830,7 +831,7 @@ pub(crate) fn cos_zenith_textbook(
     utc_offset_h: f64,
 ) -> f64 {
     let whole_s = local_s.floor() as i64;
-    let day_of_year = day_of_year_from_local_s(whole_s) as f64;
+    let day_of_year = LocalTime(whole_s).day_of_year() as f64;
     let clock_h =
         (whole_s.rem_euclid(SECONDS_PER_DAY) as f64 + (local_s - whole_s as f64)) / 3600.0;
     let solar_h = solar_time_h(clock_h, day_of_year, longitude_deg, utc_offset_h);
@@ -879,57 +880,10 @@ pub(crate) fn cos_zenith_from_angles(
     phi.cos() * delta.cos() * omega.cos() + phi.sin() * delta.sin()
 }
 
-/// Proleptic Gregorian (year, month, day) from days since 1970-01-01.
-///
-/// # Source
-/// H. Hinnant, "chrono-Compatible Low-Level Date Algorithms", `civil_from_days`
-/// (public-domain algorithm); pure integer arithmetic, so it cannot panic on any stamp.
-fn civil_from_days(days: i64) -> (i64, u32, u32) {
-    let z = days + 719_468;
-    let era = z.div_euclid(146_097);
-    let doe = z.rem_euclid(146_097);
-    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
-    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
-    let mp = (5 * doy + 2) / 153;
-    let day = (doy - (153 * mp + 2) / 5 + 1) as u32;
-    let month = if mp < 10 { mp + 3 } else { mp - 9 } as u32;
-    let year = yoe + era * 400 + i64::from(month <= 2);
-    (year, month, day)
-}
-
-fn is_leap_year(year: i64) -> bool {
-    (year % 4 == 0 && year % 100 != 0) || year % 400 == 0
-}
-
-/// (year, month, day) of a naive local time in seconds since 1970-01-01T00:00.
-pub(crate) fn civil_from_local_s(local_s: i64) -> (i64, u32, u32) {
-    civil_from_days(local_s.div_euclid(SECONDS_PER_DAY))
-}
-
-/// Day of year 1..=366 of a naive local time in seconds since 1970-01-01T00:00.
-pub(crate) fn day_of_year_from_local_s(local_s: i64) -> u32 {
-    const CUMULATIVE: [u32; 12] = [0, 31, 59, 90, 120, 151, 181, 212, 243, 273, 304, 334];
-    let (year, month, day) = civil_from_local_s(local_s);
-    let leap = u32::from(month > 2 && is_leap_year(year));
-    CUMULATIVE[month as usize - 1] + day + leap
-}
-
-/// `YYYY-MM-DDTHH:MM`, with `:SS` only when the seconds are not zero.
-pub fn format_local_s(local_s: i64) -> String {
-    let (year, month, day) = civil_from_local_s(local_s);
-    let secs = local_s.rem_euclid(SECONDS_PER_DAY);
-    let (h, m, s) = (secs / 3600, secs % 3600 / 60, secs % 60);
-    if s == 0 {
-        format!("{year:04}-{month:02}-{day:02}T{h:02}:{m:02}")
-    } else {
-        format!("{year:04}-{month:02}-{day:02}T{h:02}:{m:02}:{s:02}")
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
-    use chrono::{Datelike, NaiveDate};
+    use chrono::NaiveDate;
 
     fn local_s(y: i32, mo: u32, d: u32, h: u32, mi: u32) -> i64 {
         NaiveDate::from_ymd_opt(y, mo, d)
@@ -962,28 +916,6 @@ mod tests {
             albedo_frac: None,
             pressure_hpa: None,
         }
-    }
-
-    #[test]
-    fn calendar_helpers_agree_with_chrono_over_four_centuries_of_days() {
-        // Source: chrono 0.4 as a general-purpose calendar oracle (independent code).
-        let mut day = NaiveDate::from_ymd_opt(1900, 1, 1).unwrap();
-        let end = NaiveDate::from_ymd_opt(2300, 12, 31).unwrap();
-        while day <= end {
-            let s = day.and_hms_opt(13, 0, 0).unwrap().and_utc().timestamp();
-            let (y, m, d) = civil_from_local_s(s);
-            assert_eq!((y as i32, m, d), (day.year(), day.month(), day.day()));
-            assert_eq!(day_of_year_from_local_s(s), day.ordinal());
-            day = day.succ_opt().unwrap();
-        }
-    }
-
-    #[test]
-    fn stamp_formatting_round_trips_through_chrono() {
-        // Source: chrono 0.4 formatting as an oracle.
-        let s = local_s(2024, 2, 29, 23, 45);
-        assert_eq!(format_local_s(s), "2024-02-29T23:45");
-        assert_eq!(format_local_s(s + 7), "2024-02-29T23:45:07");
     }
 
     fn check_zenith_deg(lat: f64, decl: f64, omega: f64, expected_deg: f64) {

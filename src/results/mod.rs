@@ -1,0 +1,56 @@
+//! Results: what each run produced, computed once, for every writer to format. Ranking,
+//! P50/P90, the monthly light sums and the sun-path views live here.
+
+pub mod light;
+pub mod rank;
+pub mod shade_view;
+pub mod uncertainty;
+pub mod weather_summary;
+
+use crate::design::candidates::Candidates;
+use crate::design::rules::{self};
+use crate::design::sizing::{ModuleSizing, Sizing};
+use crate::input::Loaded;
+
+/// Everything a ranking run produced, for the report writers.
+#[derive(Clone, Debug)]
+pub struct RankResult {
+    pub loaded: Loaded,
+    pub criterion: rank::Criterion,
+    pub temps: rules::DesignTemperatures,
+    pub horizontal_kwh_m2: [f64; 12],
+    pub months_present: [bool; 12],
+    pub winter_months: Vec<usize>,
+    pub light: Vec<light::GroupMonthly>,
+    /// Ranked layouts first (best first), then rejected ones.
+    pub outcomes: Vec<rank::LayoutOutcome>,
+    /// Layouts listed in the plan (the rest were enumerated).
+    pub listed: usize,
+    /// Enumerated input choices skipped for breaking a hard limit on their own, by rule.
+    pub pruned: Vec<(&'static str, usize)>,
+    /// With a load and a battery: the smallest battery for the best layout.
+    pub sizing: Option<Sizing>,
+    /// With a load and a battery: the fewest extra modules for the best layout.
+    pub module_sizing: Option<ModuleSizing>,
+}
+
+/// Every candidate layout with its limit findings, without simulating.
+#[derive(Clone, Debug)]
+pub struct CheckResult {
+    pub loaded: Loaded,
+    pub temps: rules::DesignTemperatures,
+    pub candidates: Candidates,
+    /// Findings per layout, in `candidates.layouts` order.
+    pub findings: Vec<Vec<rules::Finding>>,
+}
+
+/// Direct light lost to shade, per module and month.
+#[derive(Clone, Debug)]
+pub struct ShadeResult {
+    pub loaded: Loaded,
+    /// Per module: per month (direct Wh/m², lost Wh/m²).
+    pub direct: Vec<[(f64, f64); 12]>,
+    pub months_present: [bool; 12],
+    /// The sky seen from each placed group (sun-path pictures).
+    pub views: Vec<shade_view::SunPathView>,
+}

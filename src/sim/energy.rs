@@ -1,0 +1,138 @@
+//! What a layout's year produced: energy per month, the loss steps (an enum-indexed array),
+//! the battery's figures and, when asked, one row per interval.
+
+/// The loss steps of notebooks-free-docs/method-accounting.md, in order.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Step {
+    Incidence,
+    Soiling,
+    Shading,
+    TemperatureLowLight,
+    Mismatch,
+    Cables,
+    WindowStartup,
+    InputLimit,
+    Clipping,
+    Conversion,
+    /// Harvest the battery could not take (full) beyond what the load used.
+    Curtailed,
+}
+
+/// Number of loss steps.
+pub const STEPS: usize = 11;
+
+impl Step {
+    pub const ALL: [Step; STEPS] = [
+        Step::Incidence,
+        Step::Soiling,
+        Step::Shading,
+        Step::TemperatureLowLight,
+        Step::Mismatch,
+        Step::Cables,
+        Step::WindowStartup,
+        Step::InputLimit,
+        Step::Clipping,
+        Step::Conversion,
+        Step::Curtailed,
+    ];
+
+    /// Key used in JSON and CSV.
+    pub fn key(self) -> &'static str {
+        match self {
+            Step::Incidence => "incidence",
+            Step::Soiling => "soiling",
+            Step::Shading => "shading",
+            Step::TemperatureLowLight => "temperature_low_light",
+            Step::Mismatch => "mismatch",
+            Step::Cables => "cables",
+            Step::WindowStartup => "window_startup",
+            Step::InputLimit => "input_limit",
+            Step::Clipping => "clipping",
+            Step::Conversion => "conversion",
+            Step::Curtailed => "curtailed",
+        }
+    }
+}
+
+/// One layout's energy over the run, month by month (January first), Wh.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct LayoutEnergy {
+    /// Plane-of-array light on the wired modules × their STC efficiency (the DC potential).
+    pub potential_wh: [f64; 12],
+    /// Energy lost at each step (index = `Step::ALL` order). A negative value is a gain
+    /// (cells colder than 25 °C).
+    pub losses_wh: [[f64; 12]; STEPS],
+    /// Delivered by the controllers to the battery and the load (without a battery model:
+    /// to the battery at its fixed charging voltage).
+    pub delivered_wh: [f64; 12],
+    /// With a load: the load served (from harvest and battery), Wh.
+    pub load_served_wh: [f64; 12],
+    /// With a load: the part of it served straight from the harvest, Wh.
+    pub load_from_harvest_wh: [f64; 12],
+    /// With a load: load the battery could not serve (at its floor), Wh.
+    pub unmet_wh: [f64; 12],
+    /// With a load: days with some unmet load.
+    pub unmet_days: [u32; 12],
+    /// With a battery model: the lowest state of charge reached, fraction (NaN without).
+    pub min_soc_frac: [f64; 12],
+    /// With a battery model: state of charge at the end of each local day (for the plot).
+    pub daily_soc_frac: Vec<f64>,
+    /// Delivered while the sun was low (above 0°, below the plan's threshold).
+    pub low_sun_wh: [f64; 12],
+    /// Hours with at least one controller input awake.
+    pub awake_h: [f64; 12],
+    /// Delivered with the other MPPT tracking behaviour on every MPPT input (local instead of
+    /// global, or global instead of local); PWM inputs count as they are.
+    pub other_tracking_wh: [f64; 12],
+    /// One row per weather interval, when asked for (`--hourly`); empty otherwise.
+    pub hourly: Vec<HourRow>,
+    /// Delivered per calendar year of the weather file: (year, hours covered, Wh).
+    pub yearly: Vec<(i32, f64, f64)>,
+}
+
+impl LayoutEnergy {
+    /// Annual totals of the calendar years the weather file covers completely, kWh.
+    pub fn complete_year_totals_kwh(&self) -> Vec<f64> {
+        self.yearly
+            .iter()
+            .filter(|(_, h, _)| *h >= 8759.0)
+            .map(|(_, _, wh)| wh / 1000.0)
+            .collect()
+    }
+}
+
+/// One layout in one interval, for the hourly export (powers are interval means, W).
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct HourRow {
+    /// Light on the wired modules × STC efficiency.
+    pub potential_w: f32,
+    /// Best power the array offers at the controller terminals.
+    pub available_w: f32,
+    /// Delivered to the battery and the load (after curtailment by a full battery).
+    pub delivered_w: f32,
+    /// What the controllers offered before any curtailment.
+    pub harvest_w: f32,
+    /// Lost to output clipping.
+    pub clipped_w: f32,
+    /// At least one controller input awake.
+    pub awake: bool,
+}
+
+impl LayoutEnergy {
+    pub fn annual_delivered_kwh(&self) -> f64 {
+        self.delivered_wh.iter().sum::<f64>() / 1000.0
+    }
+
+    pub fn monthly_kwh(&self) -> [f64; 12] {
+        self.delivered_wh.map(|w| w / 1000.0)
+    }
+
+    /// One step's loss in one month (index 0 = January), Wh.
+    pub fn step_total_wh_month(&self, step: Step, month_index: usize) -> f64 {
+        self.losses_wh[step as usize][month_index]
+    }
+
+    pub fn step_total_wh(&self, step_index: usize) -> f64 {
+        self.losses_wh[step_index].iter().sum()
+    }
+}
