@@ -8,6 +8,7 @@ use crate::error::Error;
 use crate::io;
 use crate::results::{light, shade_view, ShadeResult};
 use crate::sim::{conditions, curves};
+use crate::time::LocalTime;
 
 /// Runs phase 1 and the shading of phase 2 for every module.
 ///
@@ -19,12 +20,12 @@ pub fn shade_losses(source: &PlanSource) -> Result<ShadeResult, Error> {
     let curves = curves::all_interval_curves(&loaded.plan, &cond, true);
     let direct = curves::direct_light_lost(&loaded.plan, &cond, &curves);
     let months_present = light::months_present(&cond);
-    let year = loaded.weather.local_start_s.first().map_or(2025, |&s| {
-        chrono::DateTime::from_timestamp(s, 0).map_or(2025, |d| {
-            use chrono::Datelike;
-            d.year()
-        })
-    });
+    // The year of the file's first stamp (the sun paths are drawn for it).
+    let year = loaded
+        .weather
+        .local_start_s
+        .first()
+        .map_or(2025, |&s| LocalTime(s).year() as i32);
     let views = shade_view::sun_path_views(
         &loaded.plan,
         &loaded.site,

@@ -8,6 +8,7 @@ use crate::commands::load::load;
 use crate::commands::{Outcome, SunpathRequest};
 use crate::error::Error;
 use crate::physics::sun::{self, Atmosphere, Observer};
+use crate::time::LocalTime;
 
 fn parse_date(s: &str, what: &str) -> Result<NaiveDate, Error> {
     NaiveDate::parse_from_str(s, "%Y-%m-%d")
@@ -120,7 +121,7 @@ pub fn sunpath(r: &SunpathRequest) -> Result<Outcome, Error> {
     let step = Duration::minutes(r.step_min as i64);
     let mut t = start;
     while t < end {
-        let unix = t.and_utc().timestamp() as f64 - offset * 3600.0;
+        let unix = LocalTime(t.and_utc().timestamp()).to_utc(offset).0;
         let p = sun::solar_position(
             unix,
             &observer,

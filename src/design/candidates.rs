@@ -2,13 +2,13 @@
 //! putting parallel strings of modules in series on each controller input. Enumeration skips
 //! input choices that break a hard limit on their own (the same rules as the checks).
 
-use crate::design::rules::{self, InputDraft};
+use crate::design::rules::{self, InputDraft, Rule};
 use crate::error::Error;
 use crate::input::layout::{self, make_layout, EnumerateOptions, InputWiring, Layout};
 use crate::input::plan::Plan;
 
 /// Input choices skipped by enumeration, counted per broken rule.
-pub type PrunedCounts = Vec<(&'static str, usize)>;
+pub type PrunedCounts = Vec<(Rule, usize)>;
 
 /// Largest number of candidates enumeration will produce before giving up.
 pub const MAX_CANDIDATES: usize = 20_000;
@@ -49,12 +49,12 @@ pub fn enumerate(plan: &Plan, opts: EnumerateOptions) -> Result<Vec<Layout>, Too
 pub fn enumerate_pruned(
     plan: &Plan,
     opts: EnumerateOptions,
-    reject: &dyn Fn(&Plan, &InputDraft) -> Option<&'static str>,
+    reject: &dyn Fn(&Plan, &InputDraft) -> Option<Rule>,
 ) -> Result<(Vec<Layout>, PrunedCounts), TooManyLayouts> {
     let counts: Vec<usize> = plan.groups.iter().map(|g| g.count).collect();
     let mut out = Vec::new();
     let mut chosen: Vec<Option<InputChoice>> = Vec::new();
-    let mut pruned: Vec<(&'static str, usize)> = Vec::new();
+    let mut pruned: PrunedCounts = Vec::new();
     let mut ctx = Walk {
         plan,
         opts,
@@ -68,8 +68,8 @@ pub fn enumerate_pruned(
 struct Walk<'a, 'p> {
     plan: &'a Plan,
     opts: EnumerateOptions,
-    reject: &'a dyn Fn(&Plan, &InputDraft) -> Option<&'static str>,
-    pruned: &'p mut Vec<(&'static str, usize)>,
+    reject: &'a dyn Fn(&Plan, &InputDraft) -> Option<Rule>,
+    pruned: &'p mut PrunedCounts,
 }
 
 fn recurse(
@@ -258,7 +258,7 @@ pub struct Candidates {
     /// How many were listed in the plan.
     pub listed: usize,
     /// Enumerated input choices skipped because they break a hard limit on their own, by rule.
-    pub pruned: Vec<(&'static str, usize)>,
+    pub pruned: PrunedCounts,
 }
 
 /// The plan's listed layouts, then (with `layouts = "all"`) every enumerated one that is not

@@ -24,12 +24,98 @@ pub enum Severity {
     Warn,
 }
 
+/// Every screening rule, by the name reports use. The checks ([`check_layout`]) and
+/// enumeration's pruning ([`input_hard_limit`]) both decide through this one list, so a rule
+/// cannot mean one thing when screening and another when pruning.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum Rule {
+    /// String Voc at the coldest temperature above the controller's maximum input voltage.
+    ColdVoc,
+    /// String Voc at the coldest temperature above the modules' maximum system voltage.
+    ModuleSystemVoltage,
+    /// An MPPT input whose highest possible string Voc never reaches its start-up voltage.
+    NeverWakes,
+    /// A PWM input whose highest possible string Voc never exceeds the battery voltage.
+    NeverCharges,
+    /// String Vmp in hot full sun below the MPPT window.
+    HotVmp,
+    /// String Vmp in cold full sun above the MPPT window.
+    ColdVmp,
+    /// A PWM input holding a high-Vmp string at battery voltage.
+    PwmHighVmp,
+    /// 1.25 × the summed Isc above the controller's input current rating.
+    InputCurrent,
+    /// String lead ampacity below 1.56 × Isc.
+    LeadAmpacity,
+    /// Main run ampacity below 1.56 × the summed Isc.
+    MainRunAmpacity,
+    /// Three or more parallel strings: string fuses (rejected when none can exist).
+    StringFuse,
+    /// Cable voltage drop at STC above the plan's target.
+    VoltageDrop,
+    /// A string mixing module types.
+    MixedTypes,
+}
+
+impl Rule {
+    /// Every rule, in the order reports list them.
+    pub const ALL: [Rule; 13] = [
+        Rule::ColdVoc,
+        Rule::ModuleSystemVoltage,
+        Rule::NeverWakes,
+        Rule::NeverCharges,
+        Rule::HotVmp,
+        Rule::ColdVmp,
+        Rule::PwmHighVmp,
+        Rule::InputCurrent,
+        Rule::LeadAmpacity,
+        Rule::MainRunAmpacity,
+        Rule::StringFuse,
+        Rule::VoltageDrop,
+        Rule::MixedTypes,
+    ];
+
+    /// The hard rules that depend only on what one input carries (modules in series,
+    /// strings in parallel, their module types), in the order enumeration tries them.
+    pub const INPUT_ONLY: [Rule; 5] = [
+        Rule::ColdVoc,
+        Rule::ModuleSystemVoltage,
+        Rule::InputCurrent,
+        Rule::NeverWakes,
+        Rule::NeverCharges,
+    ];
+
+    /// The rule's name in reports, JSON and CSV.
+    pub fn key(self) -> &'static str {
+        match self {
+            Rule::ColdVoc => "cold-voc",
+            Rule::ModuleSystemVoltage => "module-system-voltage",
+            Rule::NeverWakes => "never-wakes",
+            Rule::NeverCharges => "never-charges",
+            Rule::HotVmp => "hot-vmp",
+            Rule::ColdVmp => "cold-vmp",
+            Rule::PwmHighVmp => "pwm-high-vmp",
+            Rule::InputCurrent => "input-current",
+            Rule::LeadAmpacity => "lead-ampacity",
+            Rule::MainRunAmpacity => "main-run-ampacity",
+            Rule::StringFuse => "string-fuse",
+            Rule::VoltageDrop => "voltage-drop",
+            Rule::MixedTypes => "mixed-types",
+        }
+    }
+}
+
+impl std::fmt::Display for Rule {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.key())
+    }
+}
+
 /// One rule's verdict on one layout, with its numbers.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Finding {
     pub severity: Severity,
-    /// Short rule name, e.g. `cold-voc`.
-    pub rule: &'static str,
+    pub rule: Rule,
     /// What was found, with the numbers and the margin.
     pub message: String,
 }
@@ -127,40 +213,93 @@ pub fn check_layout(plan: &Plan, layout: &Layout, temps: &DesignTemperatures) ->
     out
 }
 
-fn check_input(plan: &Plan, w: &InputWiring, temps: &DesignTemperatures, out: &mut Vec<Finding>) {
-    let c = &plan.controllers[w.controller];
-    let battery_v = plan.battery.charge_v;
-    let s = w.series();
-    let p = w.parallel();
-    let tag = if plan.controllers.len() > 1 {
-        format!("{}: ", c.id)
-    } else {
-        String::new()
-    };
+/// What the input-only hard rules need to know of one input's strings.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct InputExtremes {
+    /// Highest string Voc at the coldest temperature, V.
+    pub voc_cold_max_v: f64,
+    /// Lowest maximum system voltage of the modules, V.
+    pub max_system_v: f64,
+    /// Sum over strings of each string's Isc (its weakest module's), A.
+    pub isc_sum_a: f64,
+}
 
-    // Per string: cold Voc, hot Vmp, Isc (strings may mix module types).
-    let mut voc_cold_max: f64 = 0.0;
-    let mut vmp_hot_min = f64::INFINITY;
-    let mut vmp_cold_max: f64 = 0.0;
-    let mut vmp_stc_min = f64::INFINITY;
-    let mut isc_sum = 0.0;
-    let mut isc_string_max: f64 = 0.0;
-    let mut imp_sum = 0.0;
-    let mut max_system_v = f64::INFINITY;
-    let mut fuse_min = f64::INFINITY;
-    let mut types_mixed = false;
+/// An input-only hard rule broken: the measured value and the limit it breaks.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Breach {
+    pub rule: Rule,
+    pub value: f64,
+    pub limit: f64,
+}
+
+/// The verdict of one input-only hard rule on one input; `None` when it holds or does not
+/// apply to the controller's kind. The one definition both screening and pruning use.
+pub fn input_only_breach(
+    rule: Rule,
+    plan: &Plan,
+    controller: usize,
+    x: &InputExtremes,
+) -> Option<Breach> {
+    let c = &plan.controllers[controller];
+    let battery_v = plan.battery.charge_v;
+    let breach = |value: f64, limit: f64| Breach { rule, value, limit };
+    match (rule, &c.model) {
+        (Rule::ColdVoc, _) if x.voc_cold_max_v > c.max_input_v => {
+            Some(breach(x.voc_cold_max_v, c.max_input_v))
+        }
+        (Rule::ModuleSystemVoltage, _) if x.voc_cold_max_v > x.max_system_v => {
+            Some(breach(x.voc_cold_max_v, x.max_system_v))
+        }
+        (Rule::InputCurrent, _) if ISC_FACTOR * x.isc_sum_a > c.model.max_input_a() => {
+            Some(breach(ISC_FACTOR * x.isc_sum_a, c.model.max_input_a()))
+        }
+        (Rule::NeverWakes, ControllerModel::Mppt { start_offset_v, .. })
+            if x.voc_cold_max_v < battery_v + start_offset_v =>
+        {
+            Some(breach(x.voc_cold_max_v, battery_v + start_offset_v))
+        }
+        (Rule::NeverCharges, ControllerModel::Pwm { .. }) if x.voc_cold_max_v <= battery_v => {
+            Some(breach(x.voc_cold_max_v, battery_v))
+        }
+        _ => None,
+    }
+}
+
+/// Per-input figures the full check uses (strings may mix module types).
+struct InputFigures {
+    extremes: InputExtremes,
+    vmp_hot_min_v: f64,
+    vmp_cold_max_v: f64,
+    vmp_stc_min_v: f64,
+    isc_string_max_a: f64,
+    imp_sum_a: f64,
+    fuse_min_a: f64,
+    types_mixed: bool,
+}
+
+fn input_figures(plan: &Plan, w: &InputWiring, temps: &DesignTemperatures) -> InputFigures {
+    let mut f = InputFigures {
+        extremes: InputExtremes {
+            voc_cold_max_v: 0.0,
+            max_system_v: f64::INFINITY,
+            isc_sum_a: 0.0,
+        },
+        vmp_hot_min_v: f64::INFINITY,
+        vmp_cold_max_v: 0.0,
+        vmp_stc_min_v: f64::INFINITY,
+        isc_string_max_a: 0.0,
+        imp_sum_a: 0.0,
+        fuse_min_a: f64::INFINITY,
+        types_mixed: false,
+    };
     for st in &w.strings {
-        let mut voc_cold = 0.0;
-        let mut vmp_hot = 0.0;
-        let mut vmp_cold = 0.0;
-        let mut vmp_stc = 0.0;
-        let mut isc_min = f64::INFINITY;
-        let mut imp_min = f64::INFINITY;
+        let (mut voc_cold, mut vmp_hot, mut vmp_cold, mut vmp_stc) = (0.0, 0.0, 0.0, 0.0);
+        let (mut isc_min, mut imp_min) = (f64::INFINITY, f64::INFINITY);
         for &m in st {
             let module = &plan.modules[m];
             let t = &plan.module_types[module.module_type];
             if module.module_type != plan.modules[st[0]].module_type {
-                types_mixed = true;
+                f.types_mixed = true;
             }
             let g = &plan.groups[module.group];
             voc_cold += voc_at_v(t.datasheet.voc_v, t.datasheet.beta_voc_v_k, temps.min_air_c);
@@ -170,197 +309,199 @@ fn check_input(plan: &Plan, w: &InputWiring, temps: &DesignTemperatures, out: &m
             vmp_stc += t.datasheet.vmp_v;
             isc_min = isc_min.min(t.datasheet.isc_a);
             imp_min = imp_min.min(t.datasheet.imp_a);
-            max_system_v = max_system_v.min(t.max_system_v);
-            fuse_min = fuse_min.min(t.max_series_fuse_a);
+            f.extremes.max_system_v = f.extremes.max_system_v.min(t.max_system_v);
+            f.fuse_min_a = f.fuse_min_a.min(t.max_series_fuse_a);
         }
-        voc_cold_max = voc_cold_max.max(voc_cold);
-        vmp_hot_min = vmp_hot_min.min(vmp_hot);
-        vmp_cold_max = vmp_cold_max.max(vmp_cold);
-        vmp_stc_min = vmp_stc_min.min(vmp_stc);
-        isc_sum += isc_min;
-        imp_sum += imp_min;
-        isc_string_max = isc_string_max.max(isc_min);
+        f.extremes.voc_cold_max_v = f.extremes.voc_cold_max_v.max(voc_cold);
+        f.vmp_hot_min_v = f.vmp_hot_min_v.min(vmp_hot);
+        f.vmp_cold_max_v = f.vmp_cold_max_v.max(vmp_cold);
+        f.vmp_stc_min_v = f.vmp_stc_min_v.min(vmp_stc);
+        f.extremes.isc_sum_a += isc_min;
+        f.imp_sum_a += imp_min;
+        f.isc_string_max_a = f.isc_string_max_a.max(isc_min);
+    }
+    f
+}
+
+/// What one input is checked against: the plan, its controller, the figures and a message
+/// prefix naming the input when the plan has several.
+struct InputCheck<'a> {
+    plan: &'a Plan,
+    w: &'a InputWiring,
+    temps: &'a DesignTemperatures,
+    f: InputFigures,
+    tag: String,
+}
+
+impl InputCheck<'_> {
+    fn breach(&self, rule: Rule) -> Option<Breach> {
+        input_only_breach(rule, self.plan, self.w.controller, &self.f.extremes)
     }
 
-    if voc_cold_max > c.max_input_v {
-        push(
-            out,
-            Severity::Reject,
-            "cold-voc",
-            format!(
-                "{tag}string Voc at {:.0} °C is {voc_cold_max:.1} V ({s} in series), above the controller's {:.0} V maximum input by {:.1} V",
-                temps.min_air_c,
-                c.max_input_v,
-                voc_cold_max - c.max_input_v
-            ),
-        );
+    /// Cold Voc against the controller and the modules, and whether the controller can ever
+    /// start (MPPT) or charge (PWM).
+    fn voltage_limits(&self, out: &mut Vec<Finding>) {
+        let (tag, s, t_min) = (&self.tag, self.w.series(), self.temps.min_air_c);
+        if let Some(b) = self.breach(Rule::ColdVoc) {
+            push(out, Severity::Reject, b.rule, format!(
+                "{tag}string Voc at {t_min:.0} °C is {:.1} V ({s} in series), above the controller's {:.0} V maximum input by {:.1} V",
+                b.value, b.limit, b.value - b.limit
+            ));
+        }
+        if let Some(b) = self.breach(Rule::ModuleSystemVoltage) {
+            push(out, Severity::Reject, b.rule, format!(
+                "{tag}string Voc at {t_min:.0} °C is {:.1} V, above the modules' {:.0} V maximum system voltage by {:.1} V",
+                b.value, b.limit, b.value - b.limit
+            ));
+        }
     }
-    if voc_cold_max > max_system_v {
-        push(
-            out,
-            Severity::Reject,
-            "module-system-voltage",
-            format!(
-                "{tag}string Voc at {:.0} °C is {voc_cold_max:.1} V, above the modules' {max_system_v:.0} V maximum system voltage by {:.1} V",
-                temps.min_air_c,
-                voc_cold_max - max_system_v
-            ),
-        );
-    }
-    match &c.model {
-        ControllerModel::Mppt { start_offset_v, .. } => {
-            let wake = battery_v + start_offset_v;
-            if voc_cold_max < wake {
-                push(
-                    out,
-                    Severity::Reject,
-                    "never-wakes",
-                    format!(
-                        "{tag}string Voc is at most {voc_cold_max:.1} V (coldest cell, full sun), below the {wake:.1} V the controller needs to start (battery {battery_v:.1} V + {start_offset_v:.1} V)"
-                    ),
-                );
+
+    /// Start-up, the tracking window (MPPT) or the battery clamp (PWM).
+    fn controller_window(&self, out: &mut Vec<Finding>) {
+        let c = &self.plan.controllers[self.w.controller];
+        let battery_v = self.plan.battery.charge_v;
+        let (tag, f) = (&self.tag, &self.f);
+        match &c.model {
+            ControllerModel::Mppt {
+                start_offset_v,
+                mppt_max_v,
+                ..
+            } => {
+                if let Some(b) = self.breach(Rule::NeverWakes) {
+                    push(out, Severity::Reject, b.rule, format!(
+                        "{tag}string Voc is at most {:.1} V (coldest cell, full sun), below the {:.1} V the controller needs to start (battery {battery_v:.1} V + {start_offset_v:.1} V)",
+                        b.value, b.limit
+                    ));
+                }
+                let lo = c.model.window_low_v(battery_v);
+                if f.vmp_hot_min_v < lo {
+                    push(out, Severity::Reject, Rule::HotVmp, format!(
+                        "{tag}string Vmp at full sun and {:.0} °C air is {:.1} V, below the MPPT window's lower edge {lo:.1} V by {:.1} V",
+                        self.temps.max_air_c, f.vmp_hot_min_v, lo - f.vmp_hot_min_v
+                    ));
+                }
+                if f.vmp_cold_max_v > *mppt_max_v {
+                    push(out, Severity::Warn, Rule::ColdVmp, format!(
+                        "{tag}string Vmp in cold full sun is {:.1} V, above the MPPT window's upper edge {mppt_max_v:.0} V: the tracker cannot reach the maximum then",
+                        f.vmp_cold_max_v
+                    ));
+                }
             }
-            let lo = c.model.window_low_v(battery_v);
-            if vmp_hot_min < lo {
-                push(
-                    out,
-                    Severity::Reject,
-                    "hot-vmp",
-                    format!(
-                        "{tag}string Vmp at full sun and {:.0} °C air is {vmp_hot_min:.1} V, below the MPPT window's lower edge {lo:.1} V by {:.1} V",
-                        temps.max_air_c,
-                        lo - vmp_hot_min
-                    ),
-                );
-            }
-            if let ControllerModel::Mppt { mppt_max_v, .. } = &c.model {
-                if vmp_cold_max > *mppt_max_v {
-                    push(out, Severity::Warn, "cold-vmp", format!(
-                            "{tag}string Vmp in cold full sun is {vmp_cold_max:.1} V, above the MPPT window's upper edge {mppt_max_v:.0} V: the tracker cannot reach the maximum then"
-                        ),
-);
+            ControllerModel::Pwm { .. } => {
+                if let Some(b) = self.breach(Rule::NeverCharges) {
+                    push(out, Severity::Reject, b.rule, format!(
+                        "{tag}string Voc is at most {:.1} V, not above the battery's {battery_v:.1} V: a PWM controller can never charge",
+                        b.value
+                    ));
+                }
+                // Common practice, no source: a PWM controller pins the array near battery
+                // voltage, so a string whose Vmp is far above it wastes most of its power.
+                if f.vmp_stc_min_v > 1.6 * battery_v {
+                    push(out, Severity::Warn, Rule::PwmHighVmp, format!(
+                        "{tag}string Vmp is {:.1} V but a PWM controller holds it near the battery's {battery_v:.1} V: most of its power is lost; use MPPT or fewer modules in series",
+                        f.vmp_stc_min_v
+                    ));
                 }
             }
         }
-        ControllerModel::Pwm { .. } => {
-            if voc_cold_max <= battery_v {
-                push(
-                    out,
-                    Severity::Reject,
-                    "never-charges",
-                    format!(
-                        "{tag}string Voc is at most {voc_cold_max:.1} V, not above the battery's {battery_v:.1} V: a PWM controller can never charge"
-                    ),
-                );
-            }
-            // Common practice, no source: a PWM controller pins the array near battery
-            // voltage, so a string whose Vmp is far above it wastes most of its power.
-            if vmp_stc_min > 1.6 * battery_v {
-                push(out, Severity::Warn, "pwm-high-vmp", format!(
-                        "{tag}string Vmp is {vmp_stc_min:.1} V but a PWM controller holds it near the battery's {battery_v:.1} V: most of its power is lost; use MPPT or fewer modules in series"
-                    ),
-);
-            }
+    }
+
+    /// Input current, conductor ampacity (NEC 690.8) and string fuses.
+    fn currents(&self, out: &mut Vec<Finding>) {
+        let c = &self.plan.controllers[self.w.controller];
+        let (tag, f, p) = (&self.tag, &self.f, self.w.parallel());
+        if let Some(b) = self.breach(Rule::InputCurrent) {
+            push(out, Severity::Reject, b.rule, format!(
+                "{tag}1.25 × Isc of {p} parallel strings is {:.1} A, above the controller's {:.0} A input rating by {:.1} A",
+                b.value, b.limit, b.value - b.limit
+            ));
         }
-    }
-    let i_max = ISC_FACTOR * isc_sum;
-    let limit = c.model.max_input_a();
-    if i_max > limit {
-        push(
-            out,
-            Severity::Reject,
-            "input-current",
-            format!(
-                "{tag}1.25 × Isc of {p} parallel strings is {i_max:.1} A, above the controller's {limit:.0} A input rating by {:.1} A",
-                i_max - limit
-            ),
-        );
-    }
-    let lead_need = CONDUCTOR_FACTOR * ISC_FACTOR * isc_string_max;
-    let lead_amp = ampacity_a(&plan.cables.string_lead);
-    if lead_need > lead_amp {
-        push(
-            out,
-            Severity::Reject,
-            "lead-ampacity",
-            format!(
+        let lead_need = CONDUCTOR_FACTOR * ISC_FACTOR * f.isc_string_max_a;
+        let lead_amp = ampacity_a(&self.plan.cables.string_lead);
+        if lead_need > lead_amp {
+            push(out, Severity::Reject, Rule::LeadAmpacity, format!(
                 "{tag}string lead must carry 1.56 × Isc = {lead_need:.1} A but its ampacity is {lead_amp:.0} A"
-            ),
-        );
-    }
-    let main_need = CONDUCTOR_FACTOR * i_max;
-    let main_amp = ampacity_a(&c.main_run);
-    if main_need > main_amp {
-        push(
-            out,
-            Severity::Reject,
-            "main-run-ampacity",
-            format!(
+            ));
+        }
+        let main_need = CONDUCTOR_FACTOR * ISC_FACTOR * f.extremes.isc_sum_a;
+        let main_amp = ampacity_a(&c.main_run);
+        if main_need > main_amp {
+            push(out, Severity::Reject, Rule::MainRunAmpacity, format!(
                 "{tag}main run must carry 1.56 × the summed Isc = {main_need:.1} A but its ampacity is {main_amp:.0} A"
-            ),
-        );
-    }
-    if p >= 3 {
-        let fuse_low = CONDUCTOR_FACTOR * ISC_FACTOR * isc_string_max;
-        if fuse_low > fuse_min {
-            push(
-                out,
-                Severity::Reject,
-                "string-fuse",
-                format!(
+            ));
+        }
+        if p >= 3 {
+            let fuse_low = CONDUCTOR_FACTOR * ISC_FACTOR * f.isc_string_max_a;
+            let fuse_min = f.fuse_min_a;
+            if fuse_low > fuse_min {
+                push(out, Severity::Reject, Rule::StringFuse, format!(
                     "{tag}{p} strings in parallel need string fuses of at least {fuse_low:.1} A, above the modules' {fuse_min:.0} A maximum series fuse"
-                ),
-            );
-        } else {
-            push(out, Severity::Warn, "string-fuse", format!(
+                ));
+            } else {
+                push(out, Severity::Warn, Rule::StringFuse, format!(
                     "{tag}{p} strings in parallel: fit each string with overcurrent protection rated {fuse_low:.1}..={fuse_min:.0} A"
-                ),
-);
+                ));
+            }
         }
     }
-    // Voltage drop at STC: Imp through the lead and the summed Imp through the main run, with
-    // the conductor at 25 °C air + the plan's rise.
-    let t_cond = 25.0 + plan.cables.conductor_rise_dk;
-    let lead = &plan.cables.string_lead;
-    let r_lead = cable_resistance_ohm(
-        lead.conductor,
-        lead.length_m,
-        lead.cross_section_mm2,
-        t_cond,
-    );
-    let main = &c.main_run;
-    let r_main = cable_resistance_ohm(
-        main.conductor,
-        main.length_m,
-        main.cross_section_mm2,
-        t_cond,
-    );
-    let imp_string = if p > 0 { imp_sum / p as f64 } else { 0.0 };
-    let drop = imp_string * r_lead + imp_sum * r_main;
-    let frac = if vmp_stc_min > 0.0 {
-        drop / vmp_stc_min
-    } else {
-        0.0
-    };
-    if frac > plan.cables.voltage_drop_target_frac {
-        push(out, Severity::Warn, "voltage-drop", format!(
-                "{tag}cable voltage drop at STC is {drop:.2} V = {:.1} % of {vmp_stc_min:.1} V, above the {:.1} % target",
+
+    /// Voltage drop at STC: Imp through the lead and the summed Imp through the main run,
+    /// with the conductor at 25 °C air + the plan's rise.
+    fn voltage_drop(&self, out: &mut Vec<Finding>) {
+        let plan = self.plan;
+        let (tag, f, p) = (&self.tag, &self.f, self.w.parallel());
+        let t_cond = 25.0 + plan.cables.conductor_rise_dk;
+        let resistance = |r: &CableRun| {
+            cable_resistance_ohm(r.conductor, r.length_m, r.cross_section_mm2, t_cond)
+        };
+        let r_lead = resistance(&plan.cables.string_lead);
+        let r_main = resistance(&plan.controllers[self.w.controller].main_run);
+        let imp_string = if p > 0 { f.imp_sum_a / p as f64 } else { 0.0 };
+        let drop = imp_string * r_lead + f.imp_sum_a * r_main;
+        let vmp = f.vmp_stc_min_v;
+        let frac = if vmp > 0.0 { drop / vmp } else { 0.0 };
+        let target = plan.cables.voltage_drop_target_frac;
+        if frac > target {
+            push(out, Severity::Warn, Rule::VoltageDrop, format!(
+                "{tag}cable voltage drop at STC is {drop:.2} V = {:.1} % of {vmp:.1} V, above the {:.1} % target",
                 frac * 100.0,
-                plan.cables.voltage_drop_target_frac * 100.0
-            ),
-);
+                target * 100.0
+            ));
+        }
     }
-    if types_mixed {
+}
+
+fn check_input(plan: &Plan, w: &InputWiring, temps: &DesignTemperatures, out: &mut Vec<Finding>) {
+    let tag = if plan.controllers.len() > 1 {
+        format!("{}: ", plan.controllers[w.controller].id)
+    } else {
+        String::new()
+    };
+    let check = InputCheck {
+        plan,
+        w,
+        temps,
+        f: input_figures(plan, w, temps),
+        tag,
+    };
+    check.voltage_limits(out);
+    check.controller_window(out);
+    check.currents(out);
+    check.voltage_drop(out);
+    if check.f.types_mixed {
         push(
             out,
             Severity::Warn,
-            "mixed-types",
-            format!("{tag}a string mixes module types: its current is set by the weakest"),
+            Rule::MixedTypes,
+            format!(
+                "{}a string mixes module types: its current is set by the weakest",
+                check.tag
+            ),
         );
     }
 }
 
-fn push(out: &mut Vec<Finding>, severity: Severity, rule: &'static str, message: String) {
+fn push(out: &mut Vec<Finding>, severity: Severity, rule: Rule, message: String) {
     out.push(Finding {
         severity,
         rule,
@@ -382,18 +523,19 @@ pub struct InputDraft<'a> {
 
 /// The hard limits that depend only on what one input carries (modules in series, strings in
 /// parallel, their module types): enumeration skips such choices before building layouts.
-/// Returns the rule broken, as named in [`check_layout`].
+/// Returns the first rule of [`Rule::INPUT_ONLY`] broken, decided by [`input_only_breach`] as
+/// in [`check_layout`].
 pub fn input_hard_limit(
     plan: &Plan,
     temps: &DesignTemperatures,
     draft: &InputDraft,
-) -> Option<&'static str> {
-    let c = &plan.controllers[draft.controller];
-    let battery_v = plan.battery.charge_v;
+) -> Option<Rule> {
     let type_of = |g: usize| &plan.module_types[plan.groups[g].module_type];
-    let mut voc_cold_max: f64 = 0.0;
-    let mut max_system_v = f64::INFINITY;
-    let mut isc_sum = 0.0;
+    let mut x = InputExtremes {
+        voc_cold_max_v: 0.0,
+        max_system_v: f64::INFINITY,
+        isc_sum_a: 0.0,
+    };
     for (n, comp) in draft.compositions {
         let mut voc = 0.0;
         let mut isc = f64::INFINITY;
@@ -405,30 +547,17 @@ pub fn input_hard_limit(
             voc += count as f64
                 * voc_at_v(t.datasheet.voc_v, t.datasheet.beta_voc_v_k, temps.min_air_c);
             isc = isc.min(t.datasheet.isc_a);
-            max_system_v = max_system_v.min(t.max_system_v);
+            x.max_system_v = x.max_system_v.min(t.max_system_v);
         }
-        voc_cold_max = voc_cold_max.max(voc);
-        isc_sum += *n as f64 * isc;
+        x.voc_cold_max_v = x.voc_cold_max_v.max(voc);
+        x.isc_sum_a += *n as f64 * isc;
     }
-    if voc_cold_max > c.max_input_v {
-        return Some("cold-voc");
-    }
-    if voc_cold_max > max_system_v {
-        return Some("module-system-voltage");
-    }
-    if ISC_FACTOR * isc_sum > c.model.max_input_a() {
-        return Some("input-current");
-    }
-    match &c.model {
-        ControllerModel::Mppt { start_offset_v, .. }
-            if voc_cold_max < battery_v + start_offset_v =>
-        {
-            Some("never-wakes")
-        }
-        ControllerModel::Pwm { .. } if voc_cold_max <= battery_v => Some("never-charges"),
-        _ => None,
-    }
+    Rule::INPUT_ONLY
+        .into_iter()
+        .find_map(|rule| input_only_breach(rule, plan, draft.controller, &x))
+        .map(|b| b.rule)
 }
+
 /// The temperatures the limit checks use: the weather's extremes widened by the plan's design
 /// values.
 pub fn design_temperatures(plan: &Plan, weather: &Weather) -> DesignTemperatures {
@@ -441,5 +570,117 @@ pub fn design_temperatures(plan: &Plan, weather: &Weather) -> DesignTemperatures
     DesignTemperatures {
         min_air_c: plan.site.design_min_air_c.map_or(lo, |d| d.min(lo)),
         max_air_c: plan.site.design_max_air_c.map_or(hi, |d| d.max(hi)),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::design::candidates::enumerate;
+    use crate::io::plan_toml::parse_plan;
+
+    /// The draft enumeration would build for an input wiring: strings grouped by their
+    /// per-group module counts.
+    fn draft_compositions(plan: &Plan, w: &InputWiring) -> Vec<(usize, Vec<usize>)> {
+        let mut comps: Vec<(usize, Vec<usize>)> = Vec::new();
+        for st in &w.strings {
+            let mut comp = vec![0; plan.groups.len()];
+            for &m in st {
+                comp[plan.modules[m].group] += 1;
+            }
+            match comps.iter_mut().find(|(_, c)| *c == comp) {
+                Some((n, _)) => *n += 1,
+                None => comps.push((1, comp)),
+            }
+        }
+        comps
+    }
+
+    fn plans() -> Vec<Plan> {
+        let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+        let mut out = vec![parse_plan(
+            crate::commands::load::DEMO_PLAN,
+            "demo plan",
+            std::path::Path::new(""),
+        )
+        .expect("demo plan parses")];
+        for rel in [
+            "tests/fixtures/plan_pwm_vs_mppt.toml",
+            "tests/fixtures/plan_hot_site.toml",
+            "tests/fixtures/plan_cold_site.toml",
+            "benches/data/plan_24_modules.toml",
+        ] {
+            let path = root.join(rel);
+            let text = std::fs::read_to_string(&path).expect("fixture reads");
+            out.push(parse_plan(&text, rel, &path).expect("fixture parses"));
+        }
+        out
+    }
+
+    /// Screening and pruning must agree on every input-only hard rule: for every input of
+    /// every enumerated layout of several plans and design temperatures, the rules the full
+    /// check rejects on are exactly the breaches of the draft, and pruning names the first.
+    /// Source: definition (one rule list for both paths; common practice, no source).
+    #[test]
+    fn screening_and_pruning_agree_on_every_input_only_rule() {
+        let mut seen = std::collections::BTreeSet::new();
+        let mut inputs_checked = 0;
+        for plan in plans() {
+            let layouts = enumerate(&plan, plan.enumerate).expect("enumerates");
+            for (min_air_c, max_air_c) in [(-40.0, 45.0), (-20.0, 34.0), (5.0, 50.0), (20.0, 25.0)]
+            {
+                let temps = DesignTemperatures {
+                    min_air_c,
+                    max_air_c,
+                };
+                for layout in &layouts {
+                    for w in &layout.inputs {
+                        let mut findings = Vec::new();
+                        check_input(&plan, w, &temps, &mut findings);
+                        let screened: Vec<Rule> = findings
+                            .iter()
+                            .filter(|f| {
+                                f.severity == Severity::Reject && Rule::INPUT_ONLY.contains(&f.rule)
+                            })
+                            .map(|f| f.rule)
+                            .collect();
+                        let comps = draft_compositions(&plan, w);
+                        let draft = InputDraft {
+                            controller: w.controller,
+                            series: w.series(),
+                            parallel: w.parallel(),
+                            compositions: &comps,
+                        };
+                        let pruned = input_hard_limit(&plan, &temps, &draft);
+                        let first = Rule::INPUT_ONLY.into_iter().find(|r| screened.contains(r));
+                        assert_eq!(pruned, first, "{} at {min_air_c} °C", layout.code);
+                        seen.extend(screened);
+                        inputs_checked += 1;
+                    }
+                }
+            }
+        }
+        assert!(inputs_checked > 100, "{inputs_checked} inputs");
+        // The plans exercise the voltage and current rules and both start-up rules.
+        for rule in [
+            Rule::ColdVoc,
+            Rule::InputCurrent,
+            Rule::NeverWakes,
+            Rule::NeverCharges,
+        ] {
+            assert!(seen.contains(&rule), "{rule} never broken: {seen:?}");
+        }
+    }
+
+    #[test]
+    fn rule_keys_are_unique_and_listed_once() {
+        // Source: definition (keys join reports, JSON and CSV).
+        let mut keys: Vec<&str> = Rule::ALL.iter().map(|r| r.key()).collect();
+        keys.sort_unstable();
+        keys.dedup();
+        assert_eq!(keys.len(), Rule::ALL.len());
+        for r in Rule::INPUT_ONLY {
+            assert!(Rule::ALL.contains(&r));
+        }
     }
 }

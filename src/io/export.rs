@@ -242,11 +242,6 @@ where
     Column::new(name.into(), values)
 }
 
-/// Index of a step in `Step::ALL` (and in `LayoutEnergy::losses_wh`).
-fn step_index(step: Step) -> usize {
-    Step::ALL.iter().position(|&s| s == step).unwrap_or(0)
-}
-
 /// The battery-and-load figures of one layout in one month (or the year, `None`): cells
 /// that stay empty without a load (used, unmet, days) or without a battery model (lowest
 /// state of charge).
@@ -265,7 +260,7 @@ fn battery_cells(r: &RankResult, e: &LayoutEnergy, month: Option<usize>) -> Batt
         None => (0..12).collect(),
     };
     let sum = |v: &[f64; 12]| months.iter().map(|&m| v[m]).sum::<f64>();
-    let curtailed = sum(&e.losses_wh[step_index(Step::Curtailed)]);
+    let curtailed = sum(&e.losses_wh[Step::Curtailed]);
     let with_load = r.loaded.plan.consumption.is_some();
     // NaN marks a month without intervals (or no battery model): no lowest value there.
     let lowest = months
@@ -322,7 +317,6 @@ impl BatteryColumns {
 }
 
 fn monthly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
-    let clip = step_index(Step::Clipping);
     let (mut layout, mut rank, mut month) = (Vec::new(), Vec::new(), Vec::new());
     let (mut energy, mut low_sun, mut awake, mut clipped) =
         (Vec::new(), Vec::new(), Vec::new(), Vec::new());
@@ -336,7 +330,7 @@ fn monthly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
             energy.push(e.delivered_wh[m] / 1000.0);
             low_sun.push(e.low_sun_wh[m] / 1000.0);
             awake.push(e.awake_h[m]);
-            clipped.push(e.losses_wh[clip][m] / 1000.0);
+            clipped.push(e.losses_wh[Step::Clipping][m] / 1000.0);
             battery.push(Some(battery_cells(r, e, Some(m))));
         }
     }
@@ -456,8 +450,7 @@ fn losses_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
         rows.extend(
             Step::ALL
                 .iter()
-                .enumerate()
-                .map(|(k, s)| (s.key(), e.step_total_wh(k) / 1000.0)),
+                .map(|&s| (s.key(), e.step_total_wh(s) / 1000.0)),
         );
         rows.push((DELIVERED_STEP, e.annual_delivered_kwh()));
         for (s, kwh) in rows {

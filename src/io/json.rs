@@ -130,15 +130,15 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
             });
             if let Some(e) = &o.energy {
                 let mut losses = Map::new();
-                for (k, s) in Step::ALL.iter().enumerate() {
-                    losses.insert(s.key().to_string(), json!(r3(e.step_total_wh(k) / 1000.0)));
+                for s in Step::ALL {
+                    losses.insert(s.key().to_string(), json!(r3(e.step_total_wh(s) / 1000.0)));
                 }
                 v["annual_kwh"] = json!(r3(e.annual_delivered_kwh()));
                 v["monthly_kwh"] = json!(e.monthly_kwh().map(r3));
                 v["low_sun_kwh"] = json!(r3(e.low_sun_wh.iter().sum::<f64>() / 1000.0));
                 v["awake_hours"] = json!(r3(e.awake_h.iter().sum::<f64>()));
                 v["potential_kwh"] = json!(r3(e.potential_wh.iter().sum::<f64>() / 1000.0));
-                let curtailed = e.step_total_wh(Step::Curtailed as usize);
+                let curtailed = e.step_total_wh(Step::Curtailed);
                 v["curtailed_kwh"] = json!(r3(curtailed / 1000.0));
                 v["harvested_kwh"] =
                     json!(r3((e.delivered_wh.iter().sum::<f64>() + curtailed) / 1000.0));

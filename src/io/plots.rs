@@ -237,12 +237,7 @@ pub fn plan_charts(r: &RankResult) -> PlannedCharts {
     charts.push(Chart::Losses(Losses {
         layouts: best
             .iter()
-            .map(|(o, e)| {
-                (
-                    label(o),
-                    std::array::from_fn(|k| e.step_total_wh(k) / 1000.0),
-                )
-            })
+            .map(|(o, e)| (label(o), Step::ALL.map(|s| e.step_total_wh(s) / 1000.0)))
             .collect(),
         ranked: ranked.len(),
     }));

@@ -125,7 +125,7 @@ pub fn ranking(r: &RankResult) -> String {
             .fold((0, f64::INFINITY), |a, b| if b.1 < a.1 { b } else { a });
         let mut notes: Vec<String> = Vec::new();
         for f in o.findings.iter().filter(|f| f.severity == Severity::Warn) {
-            if !notes.iter().any(|n| n == f.rule) {
+            if !notes.iter().any(|n| n == f.rule.key()) {
                 notes.push(f.rule.to_string());
             }
         }
@@ -241,7 +241,7 @@ pub fn ranking(r: &RankResult) -> String {
         .filter_map(|o| {
             let e = o.energy.as_ref()?;
             // Both as offered by the controllers (before a full battery curtails).
-            let own = e.annual_delivered_kwh() + e.step_total_wh(Step::Curtailed as usize) / 1000.0;
+            let own = e.annual_delivered_kwh() + e.step_total_wh(Step::Curtailed) / 1000.0;
             let other = e.other_tracking_wh.iter().sum::<f64>() / 1000.0;
             ((own - other).abs() >= 0.05).then_some((o, own, other))
         })
@@ -302,8 +302,8 @@ pub fn ranking(r: &RankResult) -> String {
                 o.layout.display_name(),
                 e.potential_wh.iter().sum::<f64>() / 1000.0
             );
-            for k in 0..Step::ALL.len() {
-                let _ = write!(out, " {:>9.1}", e.step_total_wh(k) / 1000.0);
+            for s in Step::ALL {
+                let _ = write!(out, " {:>9.1}", e.step_total_wh(s) / 1000.0);
             }
             let _ = writeln!(out, " {:>9.1}", e.annual_delivered_kwh());
         }
@@ -430,7 +430,7 @@ fn outlook(r: &RankResult, ranked: &[&crate::results::rank::LayoutOutcome]) -> S
             .fold(f64::INFINITY, f64::min);
         let low = w(&|m| e.low_sun_wh[m]) / 1000.0;
         let year_unmet = e.unmet_wh.iter().sum::<f64>() / 1000.0;
-        let curtailed = e.step_total_wh(Step::Curtailed as usize) / 1000.0;
+        let curtailed = e.step_total_wh(Step::Curtailed) / 1000.0;
         let year_days: u32 = e.unmet_days.iter().sum();
         let _ = writeln!(
             out,

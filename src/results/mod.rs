@@ -27,7 +27,7 @@ pub struct RankResult {
     /// Layouts listed in the plan (the rest were enumerated).
     pub listed: usize,
     /// Enumerated input choices skipped for breaking a hard limit on their own, by rule.
-    pub pruned: Vec<(&'static str, usize)>,
+    pub pruned: crate::design::candidates::PrunedCounts,
     /// With a load and a battery: the smallest battery for the best layout.
     pub sizing: Option<Sizing>,
     /// With a load and a battery: the fewest extra modules for the best layout.

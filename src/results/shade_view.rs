@@ -7,6 +7,7 @@ use crate::input::plan::Plan;
 use crate::input::site::Site;
 use crate::physics::shade::Obstacle;
 use crate::physics::sun::{self, Atmosphere, Observer};
+use crate::time::LocalTime;
 
 /// Everything the sun-path picture shows for one group.
 #[derive(Clone, Debug, PartialEq)]
@@ -86,10 +87,9 @@ pub fn sun_path_views(plan: &Plan, site: &Site, year: i32, delta_t_s: f64) -> Ve
     let paths: Vec<(String, Vec<(f64, f64)>)> = days
         .iter()
         .map(|&(month, label)| {
-            let midnight = chrono::NaiveDate::from_ymd_opt(year, month, 21)
-                .and_then(|d| d.and_hms_opt(0, 0, 0))
-                .map_or(0.0, |t| t.and_utc().timestamp() as f64)
-                - site.utc_offset_h * 3600.0;
+            let midnight = LocalTime::from_civil(i64::from(year), month, 21)
+                .to_utc(site.utc_offset_h)
+                .0;
             let pts = (0..=288)
                 .filter_map(|k| {
                     let p = sun::solar_position(

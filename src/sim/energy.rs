@@ -54,6 +54,23 @@ impl Step {
     }
 }
 
+/// One value per loss step, indexed by [`Step`] (never by a bare number).
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct PerStep<T>([T; STEPS]);
+
+impl<T> std::ops::Index<Step> for PerStep<T> {
+    type Output = T;
+    fn index(&self, step: Step) -> &T {
+        &self.0[step as usize]
+    }
+}
+
+impl<T> std::ops::IndexMut<Step> for PerStep<T> {
+    fn index_mut(&mut self, step: Step) -> &mut T {
+        &mut self.0[step as usize]
+    }
+}
+
 /// One layout's energy over the run, month by month (January first), Wh.
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct LayoutEnergy {
@@ -61,7 +78,7 @@ pub struct LayoutEnergy {
     pub potential_wh: [f64; 12],
     /// Energy lost at each step (index = `Step::ALL` order). A negative value is a gain
     /// (cells colder than 25 °C).
-    pub losses_wh: [[f64; 12]; STEPS],
+    pub losses_wh: PerStep<[f64; 12]>,
     /// Delivered by the controllers to the battery and the load (without a battery model:
     /// to the battery at its fixed charging voltage).
     pub delivered_wh: [f64; 12],
@@ -129,10 +146,11 @@ impl LayoutEnergy {
 
     /// One step's loss in one month (index 0 = January), Wh.
     pub fn step_total_wh_month(&self, step: Step, month_index: usize) -> f64 {
-        self.losses_wh[step as usize][month_index]
+        self.losses_wh[step][month_index]
     }
 
-    pub fn step_total_wh(&self, step_index: usize) -> f64 {
-        self.losses_wh[step_index].iter().sum()
+    /// One step's loss over the run, Wh.
+    pub fn step_total_wh(&self, step: Step) -> f64 {
+        self.losses_wh[step].iter().sum()
     }
 }

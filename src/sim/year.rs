@@ -17,7 +17,7 @@ use crate::physics::wiring::{
 };
 use crate::sim::conditions::Conditions;
 use crate::sim::curves::{all_interval_curves, interval_curves, IntervalCurves, ShadeScene};
-use crate::sim::energy::{HourRow, LayoutEnergy};
+use crate::sim::energy::{HourRow, LayoutEnergy, Step};
 
 /// Conductor resistances of one layout at an air temperature, ohm: the string lead's,
 /// returned, and each input's main run, written into `r_main` (reused between intervals).
@@ -180,15 +180,15 @@ fn simulate_layout_with(
                 let shaded: f64 = ic.blocked[mi].iter().map(|f| f * direct / b).sum::<f64>()
                     + (1.0 - ic.diffuse_factor[mi]) * sky;
                 e.potential_wh[m] += poa * scale;
-                e.losses_wh[0][m] += (poa - after_iam) * scale;
-                e.losses_wh[1][m] += (after_iam - eff) * scale;
-                e.losses_wh[2][m] += shaded * scale;
+                e.losses_wh[Step::Incidence][m] += (poa - after_iam) * scale;
+                e.losses_wh[Step::Soiling][m] += (after_iam - eff) * scale;
+                e.losses_wh[Step::Shading][m] += shaded * scale;
                 let light_after_shade = (eff - shaded) * scale;
                 let mpp: f64 = ic.module_subs[mi]
                     .iter()
                     .map(|&s| ic.curves[s as usize].mpp_w)
                     .sum();
-                e.losses_wh[3][m] += light_after_shade - mpp * wh;
+                e.losses_wh[Step::TemperatureLowLight][m] += light_after_shade - mpp * wh;
                 sub_mpp_sum += mpp;
             }
             // The second pass reuses curves and cable losses that already include the cables.
@@ -248,12 +248,14 @@ fn simulate_layout_with(
                 sum(&mut powers, &p);
             }
             sunlit += 1;
-            e.losses_wh[4][m] += (sub_mpp_sum - powers.available_w - cable_w) * wh;
-            e.losses_wh[5][m] += cable_w * wh;
-            e.losses_wh[6][m] += (powers.available_w - powers.after_window_w) * wh;
-            e.losses_wh[7][m] += (powers.after_window_w - powers.after_input_limit_w) * wh;
-            e.losses_wh[8][m] += (powers.after_input_limit_w - powers.input_w) * wh;
-            e.losses_wh[9][m] += (powers.input_w - powers.output_w) * wh;
+            e.losses_wh[Step::Mismatch][m] += (sub_mpp_sum - powers.available_w - cable_w) * wh;
+            e.losses_wh[Step::Cables][m] += cable_w * wh;
+            e.losses_wh[Step::WindowStartup][m] +=
+                (powers.available_w - powers.after_window_w) * wh;
+            e.losses_wh[Step::InputLimit][m] +=
+                (powers.after_window_w - powers.after_input_limit_w) * wh;
+            e.losses_wh[Step::Clipping][m] += (powers.after_input_limit_w - powers.input_w) * wh;
+            e.losses_wh[Step::Conversion][m] += (powers.input_w - powers.output_w) * wh;
             e.delivered_wh[m] += powers.output_w * wh;
             year_add(&mut e.yearly, info.year, 0.0, powers.output_w * wh);
             if any_awake {
@@ -334,7 +336,7 @@ fn settle(
             row.delivered_w -= (f.curtailed_wh / info.hours) as f32;
         }
     }
-    e.losses_wh[10][m] += f.curtailed_wh;
+    e.losses_wh[Step::Curtailed][m] += f.curtailed_wh;
     e.delivered_wh[m] -= f.curtailed_wh;
     year_add(&mut e.yearly, info.year, 0.0, -f.curtailed_wh);
     e.load_served_wh[m] += f.load_from_harvest_wh + f.from_battery_wh;

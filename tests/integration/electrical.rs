@@ -158,7 +158,7 @@ fn the_demo_rejects_the_long_string_on_cold_mornings() {
     let f = rejected
         .findings
         .iter()
-        .find(|f| f.rule == "cold-voc")
+        .find(|f| f.rule.key() == "cold-voc")
         .expect("cold-voc finding");
     // Source: recomputed from the datasheet — 4 × 22.4 V × (1 − 0.0030 × (−20 − 25)) =
     // 101.7 V against the 100 V maximum input.
@@ -173,7 +173,7 @@ fn finding<'a>(
     r.outcomes
         .iter()
         .find(|o| o.layout.label.as_deref() == Some(label))
-        .and_then(|o| o.findings.iter().find(|f| f.rule == rule))
+        .and_then(|o| o.findings.iter().find(|f| f.rule.key() == rule))
 }
 
 /// The first number followed by " V" in a message.
