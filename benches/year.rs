@@ -205,7 +205,12 @@ fn battery_model_cost(c: &mut Criterion) {
     g.bench_function("sizing search (battery and extra modules)", |b| {
         b.iter(|| {
             black_box(wirerank::design::sizing::size_best(
-                &with, &cond, &curves, &temps, best,
+                &with,
+                &cond,
+                &curves,
+                &temps,
+                &best.layout,
+                best.energy.as_ref(),
             ))
         })
     });

@@ -69,7 +69,14 @@ pub fn simulate_and_rank(
     let winter_months = rank::winter_months(&horizontal_kwh_m2, &months_present);
     rank::rank(&mut outcomes, criterion, &months_present, &winter_months);
     let (sizing, module_sizing) = match outcomes.iter().find(|o| o.rank == Some(1)) {
-        Some(best) => size_best(plan, &conditions, &curves, &temps, best),
+        Some(best) => size_best(
+            plan,
+            &conditions,
+            &curves,
+            &temps,
+            &best.layout,
+            best.energy.as_ref(),
+        ),
         None => (None, None),
     };
     Ok(RankResult {

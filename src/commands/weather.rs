@@ -12,7 +12,8 @@ use std::fmt::Write as _;
 use std::path::Path;
 
 use crate::commands::Outcome;
-use crate::error::{Error, WeatherError};
+use crate::error::Error;
+use crate::io;
 use crate::io::atomic::same_file;
 use crate::io::monthly_toml::parse_monthly_climate;
 use crate::io::terminal::summary_text;
@@ -33,15 +34,6 @@ fn refuse_overwrite(input: &Path, out: &Path) -> Result<(), Error> {
     Ok(())
 }
 
-fn read_text(path: &Path) -> Result<String, Error> {
-    std::fs::read_to_string(path).map_err(|source| {
-        Error::Weather(WeatherError::Read {
-            file: path.display().to_string(),
-            source,
-        })
-    })
-}
-
 /// `wirerank weather synth <input.monthly.toml> --seed N --out <out.csv>`: synthesizes an
 /// hourly year from monthly means and writes it in the crate's CSV format.
 ///
@@ -51,7 +43,7 @@ fn read_text(path: &Path) -> Result<String, Error> {
 pub fn synth_from_file(input: &Path, seed: u64, out: &Path) -> Result<Outcome, Error> {
     refuse_overwrite(input, out)?;
     let file = input.display().to_string();
-    let text = read_text(input)?;
+    let text = io::read_weather_text(input)?;
     let climate = parse_monthly_climate(&text, &file)?;
     let synthesis = synthesize(&climate, seed, &out.display().to_string())
         .map_err(|e: SynthError| Error::Usage(format!("{file}: {e}")))?;
@@ -121,10 +113,7 @@ pub fn inspect(path: &Path, plot_dir: Option<&Path>) -> Result<Outcome, Error> {
     let summary = summarize(&w);
     let mut text = summary_text(&w, &summary);
     if let Some(dir) = plot_dir {
-        std::fs::create_dir_all(dir).map_err(|source| Error::Output {
-            path: dir.display().to_string(),
-            source,
-        })?;
+        io::create_output_dir(dir)?;
         let stem = path
             .file_stem()
             .map_or_else(|| "weather".into(), |s| s.to_string_lossy().into_owned());
@@ -154,7 +143,7 @@ pub fn inspect(path: &Path, plot_dir: Option<&Path>) -> Result<Outcome, Error> {
 pub fn import(input: &Path, out: &Path) -> Result<Outcome, Error> {
     refuse_overwrite(input, out)?;
     let file = input.display().to_string();
-    let text = read_text(input)?;
+    let text = io::read_weather_text(input)?;
     let imported = parse_typical_year(&text, &file)?;
     let w = &imported.weather;
     if let (Some(lat), Some(lon), Some(utc)) = (

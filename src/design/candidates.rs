@@ -4,8 +4,8 @@
 
 use crate::design::rules::{self, InputDraft, Rule};
 use crate::error::Error;
-use crate::input::layout::{self, make_layout, EnumerateOptions, InputWiring, Layout};
-use crate::input::plan::Plan;
+use crate::input::layout::{self, make_layout, InputWiring, Layout};
+use crate::input::plan::{EnumerateOptions, Plan};
 
 /// Input choices skipped by enumeration, counted per broken rule.
 pub type PrunedCounts = Vec<(Rule, usize)>;

@@ -625,7 +625,13 @@ mod tests {
     fn screening_and_pruning_agree_on_every_input_only_rule() {
         let mut seen = std::collections::BTreeSet::new();
         let mut inputs_checked = 0;
-        for plan in plans() {
+        // Each plan as written and as a 24 V system (where short strings never charge or wake).
+        let variants = plans().into_iter().flat_map(|p| {
+            let mut high = p.clone();
+            high.battery.charge_v = 27.2;
+            [p, high]
+        });
+        for plan in variants {
             let layouts = enumerate(&plan, plan.enumerate).expect("enumerates");
             for (min_air_c, max_air_c) in [(-40.0, 45.0), (-20.0, 34.0), (5.0, 50.0), (20.0, 25.0)]
             {

@@ -2,11 +2,10 @@
 //! fewest extra modules (more strings of the same make-up) that do it with the planned
 //! battery. Every answer is found by simulating the year.
 
-use crate::design::rules::{self};
-use crate::input::layout::{self};
+use crate::design::rules;
+use crate::input::layout::{self, Layout};
 use crate::input::plan::Plan;
 use crate::physics;
-use crate::results::rank;
 use crate::sim::conditions::Conditions;
 use crate::sim::curves::IntervalCurves;
 use crate::sim::energy::LayoutEnergy;
@@ -102,18 +101,18 @@ fn size_modules(
     cond: &Conditions,
     curves: &[Option<IntervalCurves>],
     temps: &rules::DesignTemperatures,
-    best: &rank::LayoutOutcome,
+    best: &Layout,
+    e: &LayoutEnergy,
 ) -> Option<ModuleSizing> {
     let consumption = plan.consumption.as_ref()?;
     plan.battery.model.as_ref()?;
-    let e = best.energy.as_ref()?;
     let per_year = cond.per_year_factor();
     let unmet_kwh = |e: &LayoutEnergy| e.unmet_wh.iter().sum::<f64>() * per_year / 1000.0;
     let target_kwh = consumption.unmet_target_wh / 1000.0;
     let meets = |u: f64| u <= target_kwh + 1e-9;
-    let base = best.layout.modules_used;
+    let base = best.modules_used;
     let mut out = ModuleSizing {
-        layout: best.layout.display_name(),
+        layout: best.display_name(),
         target_unmet_kwh: target_kwh,
         unmet_kwh: unmet_kwh(e),
         answer: ModuleAnswer::NoneNeeded,
@@ -121,7 +120,7 @@ fn size_modules(
     if meets(out.unmet_kwh) {
         return Some(out);
     }
-    let mut current = best.layout.clone();
+    let mut current = best.clone();
     let mut last_unmet = out.unmet_kwh;
     for strings in 1..=MODULE_SEARCH_MAX_STRINGS {
         let next = match add_one_string(plan, temps, &current) {
@@ -171,11 +170,12 @@ pub fn size_best(
     cond: &Conditions,
     curves: &[Option<IntervalCurves>],
     temps: &rules::DesignTemperatures,
-    best: &rank::LayoutOutcome,
+    best: &Layout,
+    energy: Option<&LayoutEnergy>,
 ) -> (Option<Sizing>, Option<ModuleSizing>) {
     (
-        size_battery(plan, cond, curves, &best.layout),
-        size_modules(plan, cond, curves, temps, best),
+        size_battery(plan, cond, curves, best),
+        energy.and_then(|e| size_modules(plan, cond, curves, temps, best, e)),
     )
 }
 
@@ -255,6 +255,7 @@ mod tests {
     use super::*;
     use crate::commands::rank::simulate_and_rank;
     use crate::commands::PlanSource;
+    use crate::results::rank;
     use crate::results::RankResult;
     use crate::sim::conditions;
     use crate::sim::curves::all_interval_curves;
@@ -344,8 +345,16 @@ mod tests {
         if let Some(c) = lenient.consumption.as_mut() {
             c.unmet_target_wh = 1e9;
         }
-        let m = size_modules(&lenient, &d.cond, &d.curves, &d.result.temps, best)
-            .expect("a load and a battery");
+        let e = best.energy.as_ref().expect("simulated");
+        let m = size_modules(
+            &lenient,
+            &d.cond,
+            &d.curves,
+            &d.result.temps,
+            &best.layout,
+            e,
+        )
+        .expect("a load and a battery");
         assert_eq!(m.answer, ModuleAnswer::NoneNeeded);
 
         let mut hungry = d.result.loaded.plan.clone();
@@ -354,17 +363,24 @@ mod tests {
             c.load = physics::battery::LoadProfile::every_month([2000.0; 24], None).expect("valid");
             c.unmet_target_wh = 0.0;
         }
-        let mut best = best.clone();
-        best.energy = year::simulate_layouts(
+        let e = year::simulate_layouts(
             &hungry,
             &d.cond,
             &d.curves,
             &[&best.layout],
             year::RunOptions::default(),
         )
-        .pop();
-        let m = size_modules(&hungry, &d.cond, &d.curves, &d.result.temps, &best)
-            .expect("a load and a battery");
+        .pop()
+        .expect("one layout");
+        let m = size_modules(
+            &hungry,
+            &d.cond,
+            &d.curves,
+            &d.result.temps,
+            &best.layout,
+            &e,
+        )
+        .expect("a load and a battery");
         match m.answer {
             ModuleAnswer::NotReached {
                 tried_modules,

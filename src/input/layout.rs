@@ -150,13 +150,3 @@ fn from_spec(plan: &Plan, spec: &LayoutSpec) -> Layout {
         .collect();
     make_layout(plan, spec.name.clone(), inputs)
 }
-
-/// What enumeration may do beyond the plain rule (each input p parallel strings of s modules,
-/// every module used, strings within one orientation group).
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
-pub struct EnumerateOptions {
-    /// Leave some modules unwired.
-    pub allow_unused_modules: bool,
-    /// Strings that combine modules of several orientation groups.
-    pub allow_mixed_orientation: bool,
-}

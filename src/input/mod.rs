@@ -5,6 +5,7 @@
 pub mod layout;
 pub mod plan;
 pub mod site;
+pub mod uncertainty;
 pub mod weather;
 
 use crate::input::plan::Plan;

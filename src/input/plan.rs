@@ -58,7 +58,7 @@ pub struct ModelOptions {
     /// Albedo used when the weather file has no albedo column.
     pub albedo: Albedo,
     /// Year-to-year variability of the resource and model uncertainty (P50/P90).
-    pub uncertainty: crate::results::uncertainty::P90Inputs,
+    pub uncertainty: crate::input::uncertainty::P90Inputs,
 }
 
 /// One module type from its datasheet, with the single-diode parameters fitted once.
@@ -245,7 +245,7 @@ pub struct Plan {
     /// `layouts = "all"`: also enumerate every regular wiring.
     pub enumerate_all: bool,
     /// What enumeration may do (`[enumerate]`).
-    pub enumerate: crate::input::layout::EnumerateOptions,
+    pub enumerate: EnumerateOptions,
 }
 
 impl ControllerInput {
@@ -293,4 +293,14 @@ impl Plan {
     pub fn module_index(&self, id: &str) -> Option<usize> {
         self.modules.iter().position(|m| m.id == id)
     }
+}
+
+/// What enumeration may do beyond the plain rule (each input p parallel strings of s modules,
+/// every module used, strings within one orientation group).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct EnumerateOptions {
+    /// Leave some modules unwired.
+    pub allow_unused_modules: bool,
+    /// Strings that combine modules of several orientation groups.
+    pub allow_mixed_orientation: bool,
 }

@@ -28,3 +28,27 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
 pub fn file_sha256(path: &std::path::Path) -> Option<String> {
     std::fs::read(path).ok().map(|b| sha256_hex(&b))
 }
+
+/// Reads a weather-tool input (monthly means or a weather file) as text.
+///
+/// # Errors
+/// [`crate::error::WeatherError::Read`] naming the file.
+pub fn read_weather_text(path: &std::path::Path) -> Result<String, crate::error::Error> {
+    std::fs::read_to_string(path).map_err(|source| {
+        crate::error::Error::Weather(crate::error::WeatherError::Read {
+            file: path.display().to_string(),
+            source,
+        })
+    })
+}
+
+/// Creates a folder (and its parents) for a command's outputs.
+///
+/// # Errors
+/// [`crate::error::Error::Output`] naming the folder.
+pub fn create_output_dir(dir: &std::path::Path) -> Result<(), crate::error::Error> {
+    std::fs::create_dir_all(dir).map_err(|source| crate::error::Error::Output {
+        path: dir.display().to_string(),
+        source,
+    })
+}

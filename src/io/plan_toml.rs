@@ -530,7 +530,7 @@ fn validate(ctx: &Ctx, raw: RawPlan, base_dir: &Path) -> Result<Plan, PlanError>
         geometry,
         layouts,
         enumerate_all,
-        enumerate: crate::input::layout::EnumerateOptions {
+        enumerate: crate::input::plan::EnumerateOptions {
             allow_unused_modules: raw
                 .enumerate
                 .as_ref()

@@ -8,7 +8,7 @@ pub mod uncertainty;
 pub mod weather_summary;
 
 use crate::design::candidates::Candidates;
-use crate::design::rules::{self};
+use crate::design::rules;
 use crate::design::sizing::{ModuleSizing, Sizing};
 use crate::input::Loaded;
 

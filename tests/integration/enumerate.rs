@@ -3,7 +3,7 @@
 use std::path::Path;
 
 use wirerank::design::candidates::enumerate;
-use wirerank::input::layout::EnumerateOptions;
+use wirerank::input::plan::EnumerateOptions;
 use wirerank::input::plan::Plan;
 use wirerank::io::plan_toml::parse_plan;
 
