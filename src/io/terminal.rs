@@ -11,6 +11,7 @@ use crate::design::sizing::ModuleAnswer;
 use crate::input::weather::Weather;
 use crate::input::Loaded;
 use crate::results::light::GroupMonthly;
+use crate::results::rank::LayoutOutcome;
 use crate::results::uncertainty::empirical_variability;
 use crate::results::weather_summary::WeatherSummary;
 use crate::results::{CheckResult, RankResult, ShadeResult};
@@ -42,144 +43,187 @@ fn site_header(out: &mut String, l: &Loaded) {
 /// The ranking table, the rejected layouts with their reasons, the loss steps of the ranked
 /// layouts, the light on each orientation and the cautions.
 pub fn ranking(r: &RankResult) -> String {
+    let t = RankingText::new(r);
     let mut out = String::new();
-    site_header(&mut out, &r.loaded);
-    let plan = &r.loaded.plan;
-    let battery = match &plan.battery.model {
-        Some(b) => format!(
-            "battery {:.0} Ah {:.0} V {} (charging voltage follows its state; energy counts what the battery and the load take)",
-            b.params().capacity_ah,
-            b.params().nominal_v,
-            b.params().chemistry.key()
-        ),
-        None => format!("battery charged at {:.1} V", plan.battery.charge_v),
-    };
-    let _ = writeln!(
-        out,
-        "{} modules, {battery}; limits checked at {:.0} °C (coldest) and {:.0} °C (hottest air)",
-        plan.modules.len(),
-        r.temps.min_air_c,
-        r.temps.max_air_c
-    );
-    let ranked: Vec<_> = r.outcomes.iter().filter(|o| o.rank.is_some()).collect();
-    let rejected: Vec<_> = r.outcomes.iter().filter(|o| o.rank.is_none()).collect();
-    let enumerated = r.outcomes.len() - r.listed;
-    let _ = writeln!(
-        out,
-        "{} candidate layouts ({} listed in the plan, {} enumerated)",
-        r.outcomes.len(),
-        r.listed,
-        enumerated
-    );
-    if !r.pruned.is_empty() {
-        let parts: Vec<String> = r
-            .pruned
-            .iter()
-            .map(|(rule, n)| format!("{rule} {n}"))
-            .collect();
-        let _ = writeln!(
-            out,
-            "enumeration skipped input wirings that break a hard limit on their own: {}",
-            parts.join(", ")
-        );
+    t.header(&mut out);
+    t.table(&mut out);
+    t.rejected(&mut out);
+    t.warnings(&mut out);
+    t.p90(&mut out);
+    if r.loaded.plan.consumption.is_some() && !t.ranked.is_empty() {
+        out.push_str(&outlook(r, &t.ranked));
+    }
+    t.tracker_comparison(&mut out);
+    if !t.ranked.is_empty() {
+        t.monthly(&mut out);
+        t.losses(&mut out);
     }
     let _ = writeln!(out);
-    let winter: Vec<&str> = r.winter_months.iter().map(|&m| MONTHS[m]).collect();
-    let _ = writeln!(
-        out,
-        "Ranked by {}{} — {} layouts ranked, {} rejected",
-        r.criterion.describe(),
-        if r.criterion == crate::results::rank::Criterion::Winter {
-            format!(" ({})", winter.join(", "))
-        } else {
-            String::new()
-        },
-        ranked.len(),
-        rejected.len()
-    );
-    let name_w = r
-        .outcomes
-        .iter()
-        .map(|o| o.layout.display_name().chars().count())
-        .max()
-        .unwrap_or(6)
-        .clamp(6, 90);
-    let _ = writeln!(
-        out,
-        "{:>4}  {:<name_w$}  {:>9} {:>8} {:>10} {:>6} {:>9} {:>7}  notes",
-        "rank", "layout", "score kWh", "vs best", "annual kWh", "worst", "low-sun", "awake h"
-    );
-    let best = ranked.first().and_then(|o| o.score_kwh).unwrap_or(0.0);
-    for o in &ranked {
-        let Some(e) = &o.energy else { continue };
-        let score = o.score_kwh.unwrap_or(0.0);
-        let vs = if best > 0.0 {
-            format!("{:+.1}%", (score / best - 1.0) * 100.0)
-        } else {
-            "-".to_string()
+    out.push_str(&light_section(r));
+    let _ = writeln!(out);
+    let _ = writeln!(out, "{CAUTIONS}");
+    out
+}
+
+/// The ranking report's sections, each written by one method.
+struct RankingText<'a> {
+    r: &'a RankResult,
+    ranked: Vec<&'a LayoutOutcome>,
+    rejected: Vec<&'a LayoutOutcome>,
+    /// Width of the layout-name column.
+    name_w: usize,
+}
+
+impl<'a> RankingText<'a> {
+    fn new(r: &'a RankResult) -> Self {
+        let name_w = r
+            .outcomes
+            .iter()
+            .map(|o| o.layout.display_name().chars().count())
+            .max()
+            .unwrap_or(6)
+            .clamp(6, 90);
+        RankingText {
+            r,
+            ranked: r.outcomes.iter().filter(|o| o.rank.is_some()).collect(),
+            rejected: r.outcomes.iter().filter(|o| o.rank.is_none()).collect(),
+            name_w,
+        }
+    }
+
+    /// Site, system, candidates and what enumeration skipped.
+    fn header(&self, out: &mut String) {
+        let r = self.r;
+        site_header(out, &r.loaded);
+        let plan = &r.loaded.plan;
+        let battery = match &plan.battery.model {
+            Some(b) => format!(
+                "battery {:.0} Ah {:.0} V {} (charging voltage follows its state; energy counts what the battery and the load take)",
+                b.params().capacity_ah,
+                b.params().nominal_v,
+                b.params().chemistry.key()
+            ),
+            None => format!("battery charged at {:.1} V", plan.battery.charge_v),
         };
-        let kwh = e.monthly_kwh();
-        let (worst_m, worst) = (0..12)
-            .filter(|&m| r.months_present[m])
-            .map(|m| (m, kwh[m]))
-            .fold((0, f64::INFINITY), |a, b| if b.1 < a.1 { b } else { a });
-        let mut notes: Vec<String> = Vec::new();
-        for f in o.findings.iter().filter(|f| f.severity == Severity::Warn) {
-            if !notes.iter().any(|n| n == f.rule.key()) {
-                notes.push(f.rule.to_string());
-            }
-        }
-        if o.layout.modules_used < plan.modules.len() {
-            notes.insert(
-                0,
-                format!("uses {} of {}", o.layout.modules_used, plan.modules.len()),
-            );
-        }
-        if o.layout.mixed_orientation {
-            notes.insert(0, "mixed orientations".to_string());
-        }
         let _ = writeln!(
             out,
-            "{:>4}  {:<name_w$}  {:>9.1} {:>8} {:>10.1} {:>6} {:>9.1} {:>7.0}  {}",
-            o.rank.unwrap_or(0),
-            o.layout.display_name(),
-            score,
-            vs,
-            e.annual_delivered_kwh(),
-            format!("{worst:.1}{}", &MONTHS[worst_m][..1]),
-            e.low_sun_wh.iter().sum::<f64>() / 1000.0,
-            e.awake_h.iter().sum::<f64>(),
-            notes.join(", ")
+            "{} modules, {battery}; limits checked at {:.0} °C (coldest) and {:.0} °C (hottest air)",
+            plan.modules.len(),
+            r.temps.min_air_c,
+            r.temps.max_air_c
         );
+        let enumerated = r.outcomes.len() - r.listed;
+        let _ = writeln!(
+            out,
+            "{} candidate layouts ({} listed in the plan, {} enumerated)",
+            r.outcomes.len(),
+            r.listed,
+            enumerated
+        );
+        if !r.pruned.is_empty() {
+            let parts: Vec<String> = r
+                .pruned
+                .iter()
+                .map(|(rule, n)| format!("{rule} {n}"))
+                .collect();
+            let _ = writeln!(
+                out,
+                "enumeration skipped input wirings that break a hard limit on their own: {}",
+                parts.join(", ")
+            );
+        }
+        let _ = writeln!(out);
     }
-    if ranked.is_empty() {
-        let _ = writeln!(out, "      (no layout passes the electrical limits)");
-    }
-    let _ = writeln!(out, "  worst = that layout's lowest month (kWh, initial of the month); low-sun = sun below {:.0}°", plan.model.low_sun_elevation_deg);
 
-    if !rejected.is_empty() {
+    /// The ranked layouts, one row each.
+    fn table(&self, out: &mut String) {
+        let (r, name_w) = (self.r, self.name_w);
+        let plan = &r.loaded.plan;
+        let winter: Vec<&str> = r.winter_months.iter().map(|&m| MONTHS[m]).collect();
+        let _ = writeln!(
+            out,
+            "Ranked by {}{} — {} layouts ranked, {} rejected",
+            r.criterion.describe(),
+            if r.criterion == crate::results::rank::Criterion::Winter {
+                format!(" ({})", winter.join(", "))
+            } else {
+                String::new()
+            },
+            self.ranked.len(),
+            self.rejected.len()
+        );
+        let _ = writeln!(
+            out,
+            "{:>4}  {:<name_w$}  {:>9} {:>8} {:>10} {:>6} {:>9} {:>7}  notes",
+            "rank", "layout", "score kWh", "vs best", "annual kWh", "worst", "low-sun", "awake h"
+        );
+        let best = self.ranked.first().and_then(|o| o.score_kwh).unwrap_or(0.0);
+        for o in &self.ranked {
+            let Some(e) = &o.energy else { continue };
+            let score = o.score_kwh.unwrap_or(0.0);
+            let vs = if best > 0.0 {
+                format!("{:+.1}%", (score / best - 1.0) * 100.0)
+            } else {
+                "-".to_string()
+            };
+            let kwh = e.monthly_kwh();
+            let (worst_m, worst) = (0..12)
+                .filter(|&m| r.months_present[m])
+                .map(|m| (m, kwh[m]))
+                .fold((0, f64::INFINITY), |a, b| if b.1 < a.1 { b } else { a });
+            let _ = writeln!(
+                out,
+                "{:>4}  {:<name_w$}  {:>9.1} {:>8} {:>10.1} {:>6} {:>9.1} {:>7.0}  {}",
+                o.rank.unwrap_or(0),
+                o.layout.display_name(),
+                score,
+                vs,
+                e.annual_delivered_kwh(),
+                format!("{worst:.1}{}", &MONTHS[worst_m][..1]),
+                e.low_sun_wh.iter().sum::<f64>() / 1000.0,
+                e.awake_h.iter().sum::<f64>(),
+                notes(o, plan.modules.len()).join(", ")
+            );
+        }
+        if self.ranked.is_empty() {
+            let _ = writeln!(out, "      (no layout passes the electrical limits)");
+        }
+        let _ = writeln!(out, "  worst = that layout's lowest month (kWh, initial of the month); low-sun = sun below {:.0}°", plan.model.low_sun_elevation_deg);
+    }
+
+    /// Rejected layouts with the rules they break.
+    fn rejected(&self, out: &mut String) {
+        if self.rejected.is_empty() {
+            return;
+        }
         let _ = writeln!(out);
         let _ = writeln!(out, "Rejected (never ranked):");
         const SHOWN: usize = 15;
-        for o in rejected.iter().take(SHOWN) {
+        for o in self.rejected.iter().take(SHOWN) {
             let _ = writeln!(out, "  {}", o.layout.display_name());
             for f in o.findings.iter().filter(|f| f.severity == Severity::Reject) {
                 let _ = writeln!(out, "    ✗ {}: {}", f.rule, f.message);
             }
         }
-        if rejected.len() > SHOWN {
+        if self.rejected.len() > SHOWN {
             let _ = writeln!(
                 out,
                 "  … and {} more (all are in --format json and summary.csv)",
-                rejected.len() - SHOWN
+                self.rejected.len() - SHOWN
             );
         }
     }
-    let warned: Vec<_> = ranked
-        .iter()
-        .filter(|o| o.findings.iter().any(|f| f.severity == Severity::Warn))
-        .collect();
-    if !warned.is_empty() {
+
+    /// Warnings on the ranked layouts.
+    fn warnings(&self, out: &mut String) {
+        let warned: Vec<_> = self
+            .ranked
+            .iter()
+            .filter(|o| o.findings.iter().any(|f| f.severity == Severity::Warn))
+            .collect();
+        if warned.is_empty() {
+            return;
+        }
         let _ = writeln!(out);
         let _ = writeln!(out, "Warnings on ranked layouts:");
         for o in warned {
@@ -195,8 +239,13 @@ pub fn ranking(r: &RankResult) -> String {
         }
     }
 
-    if !ranked.is_empty() {
-        let u = &plan.model.uncertainty;
+    /// P50/P90 per ranked layout, and the empirical spread of several years.
+    fn p90(&self, out: &mut String) {
+        if self.ranked.is_empty() {
+            return;
+        }
+        let name_w = self.name_w;
+        let u = &self.r.loaded.plan.model.uncertainty;
         let _ = writeln!(out);
         let _ = writeln!(
             out,
@@ -205,10 +254,12 @@ pub fn ranking(r: &RankResult) -> String {
             u.model_frac * 100.0
         );
         let z = crate::results::uncertainty::z_90();
-        for o in &ranked {
-            if let Some(spread) = o.energy.as_ref().and_then(|e| {
-                crate::results::uncertainty::empirical_variability(&e.complete_year_totals_kwh())
-            }) {
+        for o in &self.ranked {
+            if let Some(spread) = o
+                .energy
+                .as_ref()
+                .and_then(|e| empirical_variability(&e.complete_year_totals_kwh()))
+            {
                 let _ = writeln!(
                     out,
                     "  {:<name_w$} {} complete years in the weather file: mean {:.1} kWh, spread {:.1} % → empirical one-year P90 {:.1} kWh",
@@ -231,22 +282,23 @@ pub fn ranking(r: &RankResult) -> String {
             }
         }
     }
-    if plan.consumption.is_some() && !ranked.is_empty() {
-        out.push_str(&outlook(r, &ranked));
-    }
 
-    // What a different MPPT tracker would change (shade makes several maxima).
-    let differs: Vec<_> = ranked
-        .iter()
-        .filter_map(|o| {
-            let e = o.energy.as_ref()?;
-            // Both as offered by the controllers (before a full battery curtails).
-            let own = e.annual_delivered_kwh() + e.step_total_wh(Step::Curtailed) / 1000.0;
-            let other = e.other_tracking_wh.iter().sum::<f64>() / 1000.0;
-            ((own - other).abs() >= 0.05).then_some((o, own, other))
-        })
-        .collect();
-    if !differs.is_empty() {
+    /// What a different MPPT tracker would change (shade makes several maxima).
+    fn tracker_comparison(&self, out: &mut String) {
+        let differs: Vec<_> = self
+            .ranked
+            .iter()
+            .filter_map(|o| {
+                let e = o.energy.as_ref()?;
+                // Both as offered by the controllers (before a full battery curtails).
+                let own = e.annual_delivered_kwh() + e.step_total_wh(Step::Curtailed) / 1000.0;
+                let other = e.other_tracking_wh.iter().sum::<f64>() / 1000.0;
+                ((own - other).abs() >= 0.05).then_some((o, own, other))
+            })
+            .collect();
+        if differs.is_empty() {
+            return;
+        }
         let _ = writeln!(out);
         let _ = writeln!(
             out,
@@ -262,7 +314,9 @@ pub fn ranking(r: &RankResult) -> String {
         }
     }
 
-    if !ranked.is_empty() {
+    /// Energy per month of each ranked layout.
+    fn monthly(&self, out: &mut String) {
+        let (r, name_w) = (self.r, self.name_w);
         let _ = writeln!(out);
         let heading = if r.loaded.plan.consumption.is_some() {
             "Monthly energy delivered to the battery and the load, kWh"
@@ -275,7 +329,7 @@ pub fn ranking(r: &RankResult) -> String {
             let _ = write!(out, "{m:>6}");
         }
         let _ = writeln!(out);
-        for o in &ranked {
+        for o in &self.ranked {
             let Some(e) = &o.energy else { continue };
             let _ = write!(out, "{:<name_w$}", o.layout.display_name());
             for (m, v) in e.monthly_kwh().iter().enumerate() {
@@ -287,6 +341,11 @@ pub fn ranking(r: &RankResult) -> String {
             }
             let _ = writeln!(out);
         }
+    }
+
+    /// The loss steps of each ranked layout over the year.
+    fn losses(&self, out: &mut String) {
+        let name_w = self.name_w;
         let _ = writeln!(out);
         let _ = writeln!(out, "Where the energy goes over the year, kWh (potential = light on the wired modules × STC efficiency)");
         let _ = write!(out, "{:<name_w$} {:>9}", "", "potential");
@@ -294,7 +353,7 @@ pub fn ranking(r: &RankResult) -> String {
             let _ = write!(out, " {:>9}", short_step(s));
         }
         let _ = writeln!(out, " {:>9}", "delivered");
-        for o in &ranked {
+        for o in &self.ranked {
             let Some(e) = &o.energy else { continue };
             let _ = write!(
                 out,
@@ -308,11 +367,24 @@ pub fn ranking(r: &RankResult) -> String {
             let _ = writeln!(out, " {:>9.1}", e.annual_delivered_kwh());
         }
     }
-    let _ = writeln!(out);
-    out.push_str(&light_section(r));
-    let _ = writeln!(out);
-    let _ = writeln!(out, "{CAUTIONS}");
-    out
+}
+
+/// The notes column of a ranked layout: mixed orientations, unused modules, then the rules
+/// it warns on (each once).
+fn notes(o: &LayoutOutcome, modules: usize) -> Vec<String> {
+    let mut notes: Vec<String> = Vec::new();
+    for f in o.findings.iter().filter(|f| f.severity == Severity::Warn) {
+        if !notes.iter().any(|n| n == f.rule.key()) {
+            notes.push(f.rule.to_string());
+        }
+    }
+    if o.layout.modules_used < modules {
+        notes.insert(0, format!("uses {} of {modules}", o.layout.modules_used));
+    }
+    if o.layout.mixed_orientation {
+        notes.insert(0, "mixed orientations".to_string());
+    }
+    notes
 }
 
 /// `wirerank check`: every layout with pass / warn / reject and the numbers.
@@ -381,7 +453,7 @@ pub fn check(r: &CheckResult) -> String {
 }
 
 /// The off-grid owner's view: the load over the year and in the darkest months.
-fn outlook(r: &RankResult, ranked: &[&crate::results::rank::LayoutOutcome]) -> String {
+fn outlook(r: &RankResult, ranked: &[&LayoutOutcome]) -> String {
     let mut out = String::new();
     let plan = &r.loaded.plan;
     let spec = plan.battery.model.as_ref();

@@ -163,34 +163,8 @@ fn simulate_layout_with(
                 }
                 continue;
             };
-            // Light bookkeeping over the wired modules (STC-efficiency DC equivalents).
-            let mut sub_mpp_sum = 0.0;
             let potential_before = e.potential_wh[m];
-            for &mi in &used {
-                let module = &plan.modules[mi];
-                let t = &plan.module_types[module.module_type];
-                let g = &cond.groups[module.group];
-                let scale = t.area_m2() * t.stc_efficiency_frac() * wh;
-                let poa = g.poa[k].total_w_m2();
-                let after_iam = g.after_iam_w_m2[k] as f64;
-                let eff = g.effective[k].total_w_m2();
-                let direct = g.effective[k].beam_w_m2 + g.effective[k].circumsolar_w_m2;
-                let b = t.bypass_diodes as f64;
-                let sky = g.effective[k].isotropic_w_m2 + g.effective[k].horizon_w_m2;
-                let shaded: f64 = ic.blocked[mi].iter().map(|f| f * direct / b).sum::<f64>()
-                    + (1.0 - ic.diffuse_factor[mi]) * sky;
-                e.potential_wh[m] += poa * scale;
-                e.losses_wh[Step::Incidence][m] += (poa - after_iam) * scale;
-                e.losses_wh[Step::Soiling][m] += (after_iam - eff) * scale;
-                e.losses_wh[Step::Shading][m] += shaded * scale;
-                let light_after_shade = (eff - shaded) * scale;
-                let mpp: f64 = ic.module_subs[mi]
-                    .iter()
-                    .map(|&s| ic.curves[s as usize].mpp_w)
-                    .sum();
-                e.losses_wh[Step::TemperatureLowLight][m] += light_after_shade - mpp * wh;
-                sub_mpp_sum += mpp;
-            }
+            let sub_mpp_sum = book_light(plan, cond, ic, &used, k, &mut e);
             // The second pass reuses curves and cable losses that already include the cables.
             let r_lead = if reuse {
                 0.0
@@ -248,15 +222,7 @@ fn simulate_layout_with(
                 sum(&mut powers, &p);
             }
             sunlit += 1;
-            e.losses_wh[Step::Mismatch][m] += (sub_mpp_sum - powers.available_w - cable_w) * wh;
-            e.losses_wh[Step::Cables][m] += cable_w * wh;
-            e.losses_wh[Step::WindowStartup][m] +=
-                (powers.available_w - powers.after_window_w) * wh;
-            e.losses_wh[Step::InputLimit][m] +=
-                (powers.after_window_w - powers.after_input_limit_w) * wh;
-            e.losses_wh[Step::Clipping][m] += (powers.after_input_limit_w - powers.input_w) * wh;
-            e.losses_wh[Step::Conversion][m] += (powers.input_w - powers.output_w) * wh;
-            e.delivered_wh[m] += powers.output_w * wh;
+            book_controllers(&mut e, m, wh, &powers, sub_mpp_sum, cable_w);
             year_add(&mut e.yearly, info.year, 0.0, powers.output_w * wh);
             if any_awake {
                 e.awake_h[m] += wh;
@@ -286,6 +252,69 @@ fn simulate_layout_with(
         }
     }
     e
+}
+
+/// Books the light on the wired modules in interval `k` (STC-efficiency DC equivalents): the
+/// potential and the incidence, soiling, shading and temperature/low-light steps. Returns
+/// the sum of the wired substrings' maximum powers, W.
+fn book_light(
+    plan: &Plan,
+    cond: &Conditions,
+    ic: &IntervalCurves,
+    used: &[usize],
+    k: usize,
+    e: &mut LayoutEnergy,
+) -> f64 {
+    let info = &cond.intervals[k];
+    let m = (info.month - 1) as usize;
+    let wh = info.hours;
+    let mut sub_mpp_sum = 0.0;
+    for &mi in used {
+        let module = &plan.modules[mi];
+        let t = &plan.module_types[module.module_type];
+        let g = &cond.groups[module.group];
+        let scale = t.area_m2() * t.stc_efficiency_frac() * wh;
+        let poa = g.poa[k].total_w_m2();
+        let after_iam = g.after_iam_w_m2[k] as f64;
+        let eff = g.effective[k].total_w_m2();
+        let direct = g.effective[k].beam_w_m2 + g.effective[k].circumsolar_w_m2;
+        let b = t.bypass_diodes as f64;
+        let sky = g.effective[k].isotropic_w_m2 + g.effective[k].horizon_w_m2;
+        let shaded: f64 = ic.blocked[mi].iter().map(|f| f * direct / b).sum::<f64>()
+            + (1.0 - ic.diffuse_factor[mi]) * sky;
+        e.potential_wh[m] += poa * scale;
+        e.losses_wh[Step::Incidence][m] += (poa - after_iam) * scale;
+        e.losses_wh[Step::Soiling][m] += (after_iam - eff) * scale;
+        e.losses_wh[Step::Shading][m] += shaded * scale;
+        let light_after_shade = (eff - shaded) * scale;
+        let mpp: f64 = ic.module_subs[mi]
+            .iter()
+            .map(|&s| ic.curves[s as usize].mpp_w)
+            .sum();
+        e.losses_wh[Step::TemperatureLowLight][m] += light_after_shade - mpp * wh;
+        sub_mpp_sum += mpp;
+    }
+    sub_mpp_sum
+}
+
+/// Books the electrical steps of one interval from the controllers' summed powers: mismatch
+/// (substring maxima less the array's best and the cable loss), cables, window and start-up,
+/// input limit, clipping, conversion, and what the controllers put out.
+fn book_controllers(
+    e: &mut LayoutEnergy,
+    m: usize,
+    wh: f64,
+    powers: &ControllerPowers,
+    sub_mpp_sum: f64,
+    cable_w: f64,
+) {
+    e.losses_wh[Step::Mismatch][m] += (sub_mpp_sum - powers.available_w - cable_w) * wh;
+    e.losses_wh[Step::Cables][m] += cable_w * wh;
+    e.losses_wh[Step::WindowStartup][m] += (powers.available_w - powers.after_window_w) * wh;
+    e.losses_wh[Step::InputLimit][m] += (powers.after_window_w - powers.after_input_limit_w) * wh;
+    e.losses_wh[Step::Clipping][m] += (powers.after_input_limit_w - powers.input_w) * wh;
+    e.losses_wh[Step::Conversion][m] += (powers.input_w - powers.output_w) * wh;
+    e.delivered_wh[m] += powers.output_w * wh;
 }
 
 /// Adds hours and energy to the running per-year tally (intervals come in time order).
