@@ -328,7 +328,7 @@ fn monthly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
             rank.push(o.rank.map_or(0, |k| k as i64));
             month.push(m as i64 + 1);
             energy.push(e.delivered_wh[m] / 1000.0);
-            low_sun.push(e.low_sun_wh[m] / 1000.0);
+            low_sun.push(e.low_sun_offered_wh[m] / 1000.0);
             awake.push(e.awake_h[m]);
             clipped.push(e.losses_wh[Step::Clipping][m] / 1000.0);
             battery.push(Some(battery_cells(r, e, Some(m))));
@@ -403,7 +403,7 @@ fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
         });
         worst.push(w.map(|(m, _)| m as i64 + 1));
         worst_kwh.push(w.map(|(_, v)| v));
-        low_sun.push(e.map(|e| e.low_sun_wh.iter().sum::<f64>() / 1000.0));
+        low_sun.push(e.map(|e| e.low_sun_offered_wh.iter().sum::<f64>() / 1000.0));
         awake.push(e.map(|e| e.awake_h.iter().sum::<f64>()));
         p90_1y.push(o.p90.map(|p| p.p90_1y));
         p90_10y.push(o.p90.map(|p| p.p90_10y));

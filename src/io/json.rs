@@ -135,7 +135,7 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                 }
                 v["annual_kwh"] = json!(r3(e.annual_delivered_kwh()));
                 v["monthly_kwh"] = json!(e.monthly_kwh().map(r3));
-                v["low_sun_kwh"] = json!(r3(e.low_sun_wh.iter().sum::<f64>() / 1000.0));
+                v["low_sun_kwh"] = json!(r3(e.low_sun_offered_wh.iter().sum::<f64>() / 1000.0));
                 v["awake_hours"] = json!(r3(e.awake_h.iter().sum::<f64>()));
                 v["potential_kwh"] = json!(r3(e.potential_wh.iter().sum::<f64>() / 1000.0));
                 let curtailed = e.step_total_wh(Step::Curtailed);

@@ -180,7 +180,7 @@ impl<'a> RankingText<'a> {
                 vs,
                 e.annual_delivered_kwh(),
                 format!("{worst:.1}{}", &MONTHS[worst_m][..1]),
-                e.low_sun_wh.iter().sum::<f64>() / 1000.0,
+                e.low_sun_offered_wh.iter().sum::<f64>() / 1000.0,
                 e.awake_h.iter().sum::<f64>(),
                 notes(o, plan.modules.len()).join(", ")
             );
@@ -500,7 +500,7 @@ fn outlook(r: &RankResult, ranked: &[&LayoutOutcome]) -> String {
             .iter()
             .map(|&m| e.min_soc_frac[m])
             .fold(f64::INFINITY, f64::min);
-        let low = w(&|m| e.low_sun_wh[m]) / 1000.0;
+        let low = w(&|m| e.low_sun_offered_wh[m]) / 1000.0;
         let year_unmet = e.unmet_wh.iter().sum::<f64>() / 1000.0;
         let curtailed = e.step_total_wh(Step::Curtailed) / 1000.0;
         let year_days: u32 = e.unmet_days.iter().sum();

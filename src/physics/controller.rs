@@ -164,6 +164,11 @@ impl ControllerModel {
     }
 
     /// Input current rating, A.
+    /// True for a PWM controller (the array switched straight onto the battery).
+    pub fn is_pwm(&self) -> bool {
+        matches!(self, ControllerModel::Pwm { .. })
+    }
+
     pub fn max_input_a(&self) -> f64 {
         match self {
             ControllerModel::Mppt { max_input_a, .. }

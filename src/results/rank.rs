@@ -82,7 +82,7 @@ pub fn score_kwh(e: &LayoutEnergy, c: Criterion, present: &[bool; 12], winter: &
         }
         Criterion::Winter => winter.iter().map(|&m| kwh[m]).sum(),
         Criterion::Unmet => -e.unmet_wh.iter().sum::<f64>() / 1000.0,
-        Criterion::LowSun => e.low_sun_wh.iter().sum::<f64>() / 1000.0,
+        Criterion::LowSun => e.low_sun_offered_wh.iter().sum::<f64>() / 1000.0,
     }
 }
 

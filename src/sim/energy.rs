@@ -90,12 +90,20 @@ pub struct LayoutEnergy {
     pub unmet_wh: [f64; 12],
     /// With a load: days with some unmet load.
     pub unmet_days: [u32; 12],
+    /// Days with some unmet load per mean year (equal to `unmet_days` for one year).
+    pub unmet_days_mean: [f64; 12],
     /// With a battery model: the lowest state of charge reached, fraction (NaN without).
     pub min_soc_frac: [f64; 12],
     /// With a battery model: state of charge at the end of each local day (for the plot).
     pub daily_soc_frac: Vec<f64>,
-    /// Delivered while the sun was low (above 0°, below the plan's threshold).
-    pub low_sun_wh: [f64; 12],
+    /// Offered by the controllers while the sun was low (above 0°, below the plan's
+    /// threshold), before a full battery turned any of it away.
+    pub low_sun_offered_wh: [f64; 12],
+    /// Delivered to the battery and the load while the sun was low (offered less curtailed).
+    pub low_sun_delivered_wh: [f64; 12],
+    /// The part of the window/start-up step lost on PWM inputs: the array held at battery
+    /// voltage instead of its maximum power point.
+    pub pwm_clamp_wh: [f64; 12],
     /// Hours with at least one controller input awake.
     pub awake_h: [f64; 12],
     /// Delivered with the other MPPT tracking behaviour on every MPPT input (local instead of
@@ -136,6 +144,38 @@ pub struct HourRow {
 }
 
 impl LayoutEnergy {
+    /// What the controllers offered in a month (delivered plus what a full battery turned
+    /// away), Wh.
+    pub fn offered_wh(&self, month_index: usize) -> f64 {
+        self.delivered_wh[month_index] + self.losses_wh[Step::Curtailed][month_index]
+    }
+
+    /// Offered over the run, kWh.
+    pub fn annual_offered_kwh(&self) -> f64 {
+        (0..12).map(|m| self.offered_wh(m)).sum::<f64>() / 1000.0
+    }
+
+    /// Every monthly total of a weather file of several years scaled to the mean year
+    /// (`factor` = 8760 h / hours covered); hourly rows, daily states of charge and the
+    /// per-year tallies keep the file's own values.
+    pub fn scale_to_mean_year(&mut self, factor: f64) {
+        let scale = |a: &mut [f64; 12]| a.iter_mut().for_each(|x| *x *= factor);
+        scale(&mut self.potential_wh);
+        for s in Step::ALL {
+            scale(&mut self.losses_wh[s]);
+        }
+        scale(&mut self.delivered_wh);
+        scale(&mut self.load_served_wh);
+        scale(&mut self.load_from_harvest_wh);
+        scale(&mut self.unmet_wh);
+        scale(&mut self.low_sun_offered_wh);
+        scale(&mut self.low_sun_delivered_wh);
+        scale(&mut self.pwm_clamp_wh);
+        scale(&mut self.awake_h);
+        scale(&mut self.other_tracking_wh);
+        scale(&mut self.unmet_days_mean);
+    }
+
     pub fn annual_delivered_kwh(&self) -> f64 {
         self.delivered_wh.iter().sum::<f64>() / 1000.0
     }

@@ -196,6 +196,9 @@ fn simulate_layout_with(
                 };
                 let was_awake = awake[wi];
                 let p = c.model.operate(array, battery_v, &mut awake[wi]);
+                if c.model.is_pwm() {
+                    e.pwm_clamp_wh[m] += (p.available_w - p.after_window_w) * wh;
+                }
                 // The other tracker can only differ where the curve has several maxima (or its
                 // wake state has already drifted); otherwise it settles on the same point.
                 let alt = if !compare_trackers
@@ -237,13 +240,18 @@ fn simulate_layout_with(
                     awake: any_awake,
                 });
             }
-            if let Some(el) = info.sun_elevation_deg() {
-                if el > 0.0 && el < low_sun {
-                    e.low_sun_wh[m] += powers.output_w * wh;
+            let curtailed_wh = match (spec, state.as_mut()) {
+                (Some(b), Some(st)) => {
+                    settle(b, load, st, &mut e, &mut day, info, powers.output_w * wh)
                 }
-            }
-            if let (Some(b), Some(st)) = (spec, state.as_mut()) {
-                settle(b, load, st, &mut e, &mut day, info, powers.output_w * wh);
+                _ => 0.0,
+            };
+            if info
+                .sun_elevation_deg()
+                .is_some_and(|el| el > 0.0 && el < low_sun)
+            {
+                e.low_sun_offered_wh[m] += powers.output_w * wh;
+                e.low_sun_delivered_wh[m] += powers.output_w * wh - curtailed_wh;
             }
         }
         // The last day ends with the file.
@@ -251,6 +259,7 @@ fn simulate_layout_with(
             e.daily_soc_frac.push(st.soc_frac);
         }
     }
+    e.unmet_days_mean = e.unmet_days.map(f64::from);
     e
 }
 
@@ -337,6 +346,7 @@ struct DayTrack {
 
 /// One interval of the battery: load from harvest first, then the battery; what the battery
 /// cannot take is curtailed (the controllers throttle), what it cannot give is unmet.
+/// Returns the energy a full battery turned away in the interval, Wh.
 fn settle(
     spec: &BatterySpec,
     load: Option<&LoadProfile>,
@@ -345,7 +355,7 @@ fn settle(
     day: &mut DayTrack,
     info: &crate::sim::conditions::IntervalInfo,
     harvest_wh: f64,
-) {
+) -> f64 {
     let m = (info.month - 1) as usize;
     if day.day != Some(info.day_of_year) {
         if day.day.is_some() {
@@ -378,6 +388,7 @@ fn settle(
     if e.min_soc_frac[m].is_nan() || st.soc_frac < e.min_soc_frac[m] {
         e.min_soc_frac[m] = st.soc_frac;
     }
+    f.curtailed_wh
 }
 
 /// String curves (string leads included) and the array curve at the terminals (main run
