@@ -116,21 +116,24 @@ fn horizontal_insolation_equals_the_weather_files_own_sum() {
 #[test]
 fn cold_voc_agrees_with_the_nec_690_7_table_for_a_typical_coefficient() {
     // Source: from memory — NEC 2017 Table 690.7(A) correction factors, each checked at the
-    // coldest temperature of its band, for a typical crystalline-silicon coefficient of
-    // −0.40 %/K (the table was built for such modules); agreement within 2 %.
+    // coldest temperature of its band (bands 24…20 °C, 19…15 °C, …, −36…−40 °C), for a
+    // typical crystalline-silicon coefficient of −0.40 %/K (the table was built for such
+    // modules). The linear ratio 1 + 0.004·(25 − T) equals the table factor exactly down to
+    // −25 °C and lies 0.83, 0.81 and 0.80 % above it in the three coldest bands (the table
+    // steps by only 0.01 from −25 to −30 °C): agreement within 1 %.
     let table = [
-        (21.0, 1.02),
-        (16.0, 1.04),
-        (11.0, 1.06),
-        (6.0, 1.08),
-        (1.0, 1.10),
-        (-4.0, 1.12),
-        (-9.0, 1.14),
-        (-14.0, 1.16),
-        (-19.0, 1.18),
-        (-24.0, 1.20),
-        (-29.0, 1.21),
-        (-34.0, 1.23),
+        (20.0, 1.02),
+        (15.0, 1.04),
+        (10.0, 1.06),
+        (5.0, 1.08),
+        (0.0, 1.10),
+        (-5.0, 1.12),
+        (-10.0, 1.14),
+        (-15.0, 1.16),
+        (-20.0, 1.18),
+        (-25.0, 1.20),
+        (-30.0, 1.21),
+        (-35.0, 1.23),
         (-40.0, 1.25),
     ];
     let voc = 22.4;
@@ -138,7 +141,7 @@ fn cold_voc_agrees_with_the_nec_690_7_table_for_a_typical_coefficient() {
     for (t, factor) in table {
         let ratio = voc_at_v(voc, beta, t) / voc;
         assert!(
-            (ratio / factor - 1.0).abs() < 0.02,
+            (ratio / factor - 1.0).abs() <= 0.01,
             "{t} °C: {ratio:.3} vs {factor}"
         );
     }
