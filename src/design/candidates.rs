@@ -284,9 +284,10 @@ pub fn candidate_layouts(
             ))
         })?;
         pruned = skipped;
+        // De-duplicate by hashing each layout's canonical form once.
+        let mut seen: std::collections::HashSet<_> = all.iter().map(Layout::canonical).collect();
         for l in found {
-            let key = l.canonical();
-            if !all.iter().any(|x| x.canonical() == key) {
+            if seen.insert(l.canonical()) {
                 all.push(l);
             }
         }

@@ -64,8 +64,8 @@ const PEREZ_KAPPA: f64 = 1.041;
 /// Beckman 4th ed. eq. 2.10.1.
 ///
 /// # Validity
-/// Fitted to hourly data, 0 ≤ kt ≤ 1. The pieces do not join exactly (steps of about 4e-4
-/// at 0.22 and 0.80). A negative kt is treated as 0 (kd = 1).
+/// Fitted to hourly data, 0 ≤ kt ≤ 1. The pieces do not join exactly: kd steps down by
+/// 2.724e-4 at 0.22 and by 2.696e-4 at 0.80. A negative kt is treated as 0 (kd = 1).
 pub fn erbs_diffuse_fraction(kt: f64) -> f64 {
     let kt = kt.max(0.0);
     if kt <= 0.22 {
@@ -623,10 +623,13 @@ mod tests {
 
     #[test]
     fn erbs_diffuse_fraction_pieces() {
-        // Source: recomputed from Erbs, Klein & Duffie 1982, 4 decimals
-        check_erbs(0.10, 0.9910, 5e-5);
-        // Source: recomputed from Erbs, Klein & Duffie 1982, 4 decimals
-        check_erbs(0.50, 0.6591, 5e-5);
+        // Source: recomputed from the published formula (Erbs, Klein & Duffie 1982):
+        // 1 − 0.09·0.1 = 0.991 exactly; tolerance covers f64 rounding only
+        check_erbs(0.10, 0.991, 1e-12);
+        // Source: recomputed from the published formula (Erbs, Klein & Duffie 1982) in exact
+        // rational arithmetic: 0.9511 − 0.0802 + 1.097 − 2.07975 + 0.771 = 0.65915 exactly;
+        // tolerance covers f64 rounding only
+        check_erbs(0.50, 0.65915, 1e-12);
         // Source: Erbs, Klein & Duffie 1982, constant above kt = 0.80 (text)
         check_erbs(0.90, 0.165, 1e-12);
         // Source: Erbs, Klein & Duffie 1982, 1 − 0.09·0 (text)
@@ -636,14 +639,25 @@ mod tests {
     }
 
     #[test]
-    fn erbs_pieces_join_within_published_gap() {
-        // Source: recomputed from the published formula: the pieces do not join exactly, gap ≈ 4e-4
-        for edge in [0.22, 0.80] {
-            let below = erbs_diffuse_fraction(edge);
-            let above = erbs_diffuse_fraction(edge + 1e-9);
-            assert!(
-                (below - above).abs() < 1e-3,
-                "gap at {edge}: {below} vs {above}"
+    fn erbs_pieces_join_with_the_recomputed_gaps() {
+        // Source: recomputed from the published formula (Erbs, Klein & Duffie 1982) in exact
+        // rational arithmetic. At 0.22 the line gives 1 − 0.0198 = 0.9802 and the quartic
+        // 0.97992759616, a step down of 2.7240384e-4. At 0.80 the quartic gives 0.1652696 and
+        // the constant 0.165, a step down of 2.696e-4. The piece above an edge is read one
+        // ulp past it (the quartic's slope there moves it by < 1e-15); tolerance covers f64
+        // rounding only.
+        for (edge, below, above, step) in [
+            (0.22_f64, 0.9802, 0.979_927_596_16, 2.724_038_4e-4),
+            (0.80, 0.165_269_6, 0.165, 2.696e-4),
+        ] {
+            let past = f64::from_bits(edge.to_bits() + 1);
+            assert_close(erbs_diffuse_fraction(edge), below, 1e-12, "kd at the edge");
+            assert_close(erbs_diffuse_fraction(past), above, 1e-12, "kd one ulp past");
+            assert_close(
+                erbs_diffuse_fraction(edge) - erbs_diffuse_fraction(past),
+                step,
+                1e-12,
+                &format!("step at {edge}"),
             );
         }
     }

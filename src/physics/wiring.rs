@@ -693,7 +693,7 @@ pub fn awg_to_mm2(awg: i32) -> f64 {
 /// # Validity
 /// Expects L ≥ 0 and A > 0 (the plan validates both); conductor temperatures −40…+120 °C,
 /// where the linear correction is accurate to well under 1 %. Solid-conductor geometry:
-/// stranded and flexible cables measure 2–15 % higher (stranding lay, fine-wire classes);
+/// stranded and flexible cables measure 2–16 % higher (stranding lay, fine-wire classes);
 /// enter their effective cross-section where that matters.
 pub fn cable_resistance_ohm(
     conductor: Conductor,
@@ -1173,17 +1173,36 @@ mod tests {
     }
 
     #[test]
-    fn copper_4mm2_against_iec_60228() {
+    fn copper_against_iec_60228_class_5() {
         // Source: formula ρ20·2L/A with ρ20 = 1/58 (recomputed): 10 m of 4 mm² solid copper
         // at 20 °C = 4.31 Ω/km per conductor, 0.0862 Ω for the 20 m loop (3 digits).
         let r = cable_resistance_ohm(Conductor::Copper, 10.0, 4.0, 20.0);
         assert!((r / 0.020 - 4.31).abs() <= 0.005, "{} ohm/km", r / 0.020);
-        // Source: IEC 60228 class 5 (flexible) plain copper 4 mm²: maximum 4.95 Ω/km at
-        // 20 °C. Comparable statement: a conductor built to that class may reach 4.95, our
-        // solid-geometry value must lie below it and within the ~15 % that fine stranding
-        // and the class's nominal (not geometric) area allow.
-        let per_km = r / 0.020;
-        assert!(per_km < 4.95 && per_km > 4.95 / 1.20, "{per_km}");
+        // Source: IEC 60228 class 5 (flexible) plain copper, maximum resistance at 20 °C,
+        // Ω/km: 1.5 mm² 13.3, 2.5 mm² 7.98, 4 mm² 4.95, 6 mm² 3.30, 10 mm² 1.91,
+        // 16 mm² 1.21. These are maxima for a stranded conductor of the nominal size (the
+        // standard fixes resistance, not metal area), so our solid 100 % IACS value
+        // 1000/(58·A) must lie at or below each one. Measured: ours is 13.58 % (1.5, 2.5),
+        // 12.92 % (4, 6), 9.73 % (10) and 10.94 % (16 mm²) below the maximum, i.e. a class 5
+        // cable at its limit has 1.108–1.157 × our resistance. Band: 0 to 14 % below (the
+        // worst 13.58 % plus the table's 3-digit rounding, ≤ 0.4 %).
+        for (area_mm2, max_ohm_km) in [
+            (1.5, 13.3),
+            (2.5, 7.98),
+            (4.0, 4.95),
+            (6.0, 3.30),
+            (10.0, 1.91),
+            (16.0, 1.21),
+        ] {
+            // 500 m out and 500 m back: 1 km of conductor.
+            let per_km = cable_resistance_ohm(Conductor::Copper, 500.0, area_mm2, 20.0);
+            let below = 1.0 - per_km / max_ohm_km;
+            assert!(
+                (0.0..=0.14).contains(&below),
+                "{area_mm2} mm²: {per_km} Ω/km is {:.2} % below {max_ohm_km}",
+                100.0 * below
+            );
+        }
         // Source: same formula, temperature correction (recomputed): 70 °C is 1 + 0.00393·50.
         let hot = cable_resistance_ohm(Conductor::Copper, 10.0, 4.0, 70.0);
         assert!((hot / r - 1.1965).abs() <= 1e-9);
