@@ -135,7 +135,7 @@ fn every_layout_24_modules(c: &mut Criterion) {
                 black_box(
                     wirerank::commands::rank::simulate_and_rank(
                         &source,
-                        wirerank::results::rank::Criterion::Annual,
+                        Some(wirerank::results::rank::Criterion::Annual),
                         year::RunOptions {
                             parallel,
                             ..Default::default()
@@ -193,7 +193,7 @@ fn battery_model_cost(c: &mut Criterion) {
     let curves = curves::all_interval_curves(&with, &cond, false);
     let result = wirerank::commands::rank::simulate_and_rank(
         &PlanSource::Demo,
-        wirerank::results::rank::Criterion::Annual,
+        Some(wirerank::results::rank::Criterion::Annual),
         year::RunOptions::default(),
     )
     .expect("demo runs");
@@ -236,7 +236,7 @@ fn shading_cost(c: &mut Criterion) {
                 black_box(
                     wirerank::commands::rank::simulate_and_rank(
                         &source,
-                        wirerank::results::rank::Criterion::Annual,
+                        Some(wirerank::results::rank::Criterion::Annual),
                         year::RunOptions::default(),
                     )
                     .expect("bench plan runs"),

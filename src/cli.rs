@@ -131,9 +131,10 @@ pub struct OutputArgs {
     /// Output on stdout: a terminal table or JSON.
     #[arg(long, value_enum, default_value_t = FormatArg::Table)]
     pub format: FormatArg,
-    /// What the ranking maximises.
-    #[arg(long, value_enum, default_value_t = ByArg::Annual)]
-    pub by: ByArg,
+    /// What the ranking decides on (default: unmet when the plan has a load, else annual).
+    /// Energy criteria rank on energy offered by the controllers.
+    #[arg(long, value_enum)]
+    pub by: Option<ByArg>,
     /// Write monthly.csv, summary.csv, losses.csv, provenance.txt and the plots (PNG and SVG)
     /// into this folder (created if missing).
     #[arg(long)]
@@ -230,7 +231,7 @@ impl Cli {
             None => Request::Rank(RankRequest {
                 plan: PlanSource::Demo,
                 format: self.demo.format.into(),
-                criterion: self.demo.by.into(),
+                criterion: self.demo.by.map(Into::into),
                 out: self.demo.out,
                 hourly: self.demo.hourly,
                 quiet: self.demo.quiet,
@@ -242,7 +243,7 @@ impl Cli {
                     PlanSource::File(a.plan)
                 },
                 format: a.output.format.into(),
-                criterion: a.output.by.into(),
+                criterion: a.output.by.map(Into::into),
                 out: a.output.out,
                 hourly: a.output.hourly,
                 quiet: a.output.quiet,

@@ -40,7 +40,8 @@ pub enum OutputFormat {
 pub struct RankRequest {
     pub plan: PlanSource,
     pub format: OutputFormat,
-    pub criterion: Criterion,
+    /// `None`: the plan's default ([`Criterion::default_for`]).
+    pub criterion: Option<Criterion>,
     /// Folder for the CSV files and plots.
     pub out: Option<PathBuf>,
     /// Also write hourly.csv.

@@ -8,7 +8,10 @@ use crate::design::sizing::size_best;
 use crate::error::Error;
 use crate::input::layout;
 use crate::io;
+use crate::results::explain::difference_by_cause;
 use crate::results::light;
+use crate::results::recommend::recommend;
+use crate::results::summary::LayoutSummary;
 use crate::results::{rank, uncertainty, RankResult};
 use crate::sim::conditions;
 use crate::sim::{curves, year};
@@ -19,11 +22,12 @@ use crate::sim::{curves, year};
 /// As [`load`].
 pub fn simulate_and_rank(
     source: &PlanSource,
-    criterion: rank::Criterion,
+    criterion: Option<rank::Criterion>,
     opts: year::RunOptions,
 ) -> Result<RankResult, Error> {
     let loaded = load(source)?;
     let plan = &loaded.plan;
+    let criterion = criterion.unwrap_or(rank::Criterion::default_for(plan.consumption.is_some()));
     if criterion == rank::Criterion::Unmet && plan.consumption.is_none() {
         return Err(Error::Usage(format!(
             "--by unmet needs a [load] table and a battery model (battery.capacity_ah) in {}",
@@ -39,9 +43,11 @@ pub fn simulate_and_rank(
             findings: rules::check_layout(plan, &layout, &temps),
             layout,
             energy: None,
+            summary: None,
             rank: None,
             score_kwh: None,
             p90: None,
+            difference: Vec::new(),
         })
         .collect();
     let conditions = conditions::phase1(plan, &loaded.weather, &loaded.site);
@@ -54,21 +60,49 @@ pub fn simulate_and_rank(
     let curves = curves::all_interval_curves(plan, &conditions, opts.parallel);
     let energies = year::simulate_layouts(plan, &conditions, &curves, &passing, opts);
     let mut energies = energies.into_iter();
-    // P50 is a mean year: a weather file of several years is scaled to one.
+    // Every figure is per mean year: a weather file of several years is scaled to one.
     let per_year = conditions.per_year_factor();
-    for o in outcomes.iter_mut().filter(|o| !o.rejected()) {
-        o.energy = energies.next();
-        o.p90 = o.energy.as_ref().map(|e| {
-            uncertainty::p50_p90(e.annual_delivered_kwh() * per_year, &plan.model.uncertainty)
-        });
-    }
     let group_ids: Vec<String> = plan.groups.iter().map(|g| g.id.clone()).collect();
-    let light = light::group_monthly(&conditions, &group_ids);
-    let horizontal_kwh_m2 = light::horizontal_monthly_kwh_m2(&conditions);
+    let mut light = light::group_monthly(&conditions, &group_ids);
+    light.iter_mut().for_each(|g| g.scale(per_year));
+    let horizontal_kwh_m2 = light::horizontal_monthly_kwh_m2(&conditions).map(|x| x * per_year);
     let months_present = light::months_present(&conditions);
     let winter_months = rank::winter_months(&horizontal_kwh_m2, &months_present);
-    rank::rank(&mut outcomes, criterion, &months_present, &winter_months);
-    let (sizing, module_sizing) = match outcomes.iter().find(|o| o.rank == Some(1)) {
+    for o in outcomes.iter_mut().filter(|o| !o.rejected()) {
+        let mut e = energies.next().expect("one energy per passing layout");
+        e.scale_to_mean_year(per_year);
+        let s = LayoutSummary::new(plan, &o.layout, &e, &temps, &months_present, &winter_months);
+        // P50/P90 apply to the energy offered (what separates wirings).
+        o.p90 = Some(uncertainty::p50_p90(
+            s.annual_offered_kwh(),
+            &plan.model.uncertainty,
+        ));
+        o.summary = Some(s);
+        o.energy = Some(e);
+    }
+    rank::rank(&mut outcomes, criterion);
+    let recommendation = recommend(&outcomes, criterion);
+    // Every other ranked layout against the recommended one, by cause.
+    let best_id = recommendation.as_ref().map(|r| r.layout.clone());
+    let best_energy = outcomes
+        .iter()
+        .find(|o| Some(&o.layout.id) == best_id.as_ref())
+        .and_then(|o| o.energy.clone());
+    if let Some(best) = &best_energy {
+        for o in outcomes.iter_mut() {
+            if let Some(e) = o
+                .energy
+                .as_ref()
+                .filter(|_| Some(&o.layout.id) != best_id.as_ref())
+            {
+                o.difference = difference_by_cause(best, e);
+            }
+        }
+    }
+    let recommended = recommendation
+        .as_ref()
+        .and_then(|r| outcomes.iter().find(|o| o.layout.id == r.layout));
+    let (sizing, module_sizing) = match recommended {
         Some(best) => size_best(
             plan,
             &conditions,
@@ -92,6 +126,8 @@ pub fn simulate_and_rank(
         pruned: candidates.pruned,
         sizing,
         module_sizing,
+        recommendation,
+        years: 1.0 / per_year,
     })
 }
 

@@ -292,6 +292,13 @@ pub fn candidate_layouts(
             }
         }
     }
+    for (k, l) in all.iter_mut().enumerate() {
+        l.id = if k < listed {
+            format!("L{}", k + 1)
+        } else {
+            format!("E{}", k + 1 - listed)
+        };
+    }
     Ok(Candidates {
         layouts: all,
         listed,

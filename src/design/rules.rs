@@ -445,30 +445,46 @@ impl InputCheck<'_> {
         }
     }
 
-    /// Voltage drop at STC: Imp through the lead and the summed Imp through the main run,
-    /// with the conductor at 25 °C air + the plan's rise.
+    /// Voltage drop at STC above the plan's target.
     fn voltage_drop(&self, out: &mut Vec<Finding>) {
-        let plan = self.plan;
-        let (tag, f, p) = (&self.tag, &self.f, self.w.parallel());
-        let t_cond = 25.0 + plan.cables.conductor_rise_dk;
-        let resistance = |r: &CableRun| {
-            cable_resistance_ohm(r.conductor, r.length_m, r.cross_section_mm2, t_cond)
-        };
-        let r_lead = resistance(&plan.cables.string_lead);
-        let r_main = resistance(&plan.controllers[self.w.controller].main_run);
-        let imp_string = if p > 0 { f.imp_sum_a / p as f64 } else { 0.0 };
-        let drop = imp_string * r_lead + f.imp_sum_a * r_main;
-        let vmp = f.vmp_stc_min_v;
-        let frac = if vmp > 0.0 { drop / vmp } else { 0.0 };
-        let target = plan.cables.voltage_drop_target_frac;
+        let (frac, drop, vmp) = stc_voltage_drop(self.plan, self.w, &self.f);
+        let target = self.plan.cables.voltage_drop_target_frac;
         if frac > target {
             push(out, Severity::Warn, Rule::VoltageDrop, format!(
-                "{tag}cable voltage drop at STC is {drop:.2} V = {:.1} % of {vmp:.1} V, above the {:.1} % target",
+                "{}cable voltage drop at STC is {drop:.2} V = {:.1} % of {vmp:.1} V, above the {:.1} % target",
+                self.tag,
                 frac * 100.0,
                 target * 100.0
             ));
         }
     }
+}
+
+/// Voltage drop at STC: Imp through the lead and the summed Imp through the main run, with
+/// the conductor at 25 °C air + the plan's rise. Returns (fraction of the string Vmp, drop V,
+/// string Vmp V).
+fn stc_voltage_drop(plan: &Plan, w: &InputWiring, f: &InputFigures) -> (f64, f64, f64) {
+    let p = w.parallel();
+    let t_cond = 25.0 + plan.cables.conductor_rise_dk;
+    let resistance =
+        |r: &CableRun| cable_resistance_ohm(r.conductor, r.length_m, r.cross_section_mm2, t_cond);
+    let r_lead = resistance(&plan.cables.string_lead);
+    let r_main = resistance(&plan.controllers[w.controller].main_run);
+    let imp_string = if p > 0 { f.imp_sum_a / p as f64 } else { 0.0 };
+    let drop = imp_string * r_lead + f.imp_sum_a * r_main;
+    let vmp = f.vmp_stc_min_v;
+    let frac = if vmp > 0.0 { drop / vmp } else { 0.0 };
+    (frac, drop, vmp)
+}
+
+/// The highest cable voltage drop at STC of a layout's inputs, as a fraction of the string
+/// Vmp (what the `voltage-drop` rule compares with the plan's target).
+pub fn layout_voltage_drop_frac(plan: &Plan, layout: &Layout, temps: &DesignTemperatures) -> f64 {
+    layout
+        .inputs
+        .iter()
+        .map(|w| stc_voltage_drop(plan, w, &input_figures(plan, w, temps)).0)
+        .fold(0.0, f64::max)
 }
 
 fn check_input(plan: &Plan, w: &InputWiring, temps: &DesignTemperatures, out: &mut Vec<Finding>) {

@@ -269,7 +269,7 @@ mod tests {
     fn demo() -> Demo {
         let result = simulate_and_rank(
             &PlanSource::Demo,
-            rank::Criterion::Annual,
+            Some(rank::Criterion::Annual),
             year::RunOptions::default(),
         )
         .expect("the demo runs");

@@ -29,6 +29,10 @@ impl InputWiring {
 /// One candidate wiring of the array.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct Layout {
+    /// Short unique id of the candidate in this run: `L1`, `L2`, … for the plan's listed
+    /// layouts in plan order, `E1`, `E2`, … for enumerated ones in enumeration order. The
+    /// join key of every output file.
+    pub id: String,
     /// Readable code: `3s2p`, or `mppt:3s2p + pwm:1s2p` with several inputs.
     pub code: String,
     /// The plan's own name for it, if any.
@@ -123,6 +127,7 @@ pub fn make_layout(plan: &Plan, label: Option<String>, mut inputs: Vec<InputWiri
             .any(|&m| plan.modules[m].group != plan.modules[s[0]].group)
     });
     Layout {
+        id: String::new(),
         code: layout_code(plan, &inputs),
         label,
         inputs,

@@ -33,15 +33,19 @@ pub const MONTHLY_CSV: &str = "monthly.csv";
 pub const SUMMARY_CSV: &str = "summary.csv";
 pub const LOSSES_CSV: &str = "losses.csv";
 pub const HOURLY_CSV: &str = "hourly.csv";
+pub const DIFFERENCES_CSV: &str = "differences.csv";
 pub const PROVENANCE_TXT: &str = "provenance.txt";
 
 /// Columns of monthly.csv, in order.
-pub const MONTHLY_COLUMNS: [&str; 13] = [
+pub const MONTHLY_COLUMNS: [&str; 16] = [
+    "id",
     "layout",
     "rank",
     "month",
     "energy_kwh",
+    "offered_kwh",
     "low_sun_kwh",
+    "low_sun_delivered_kwh",
     "awake_h",
     "clipped_kwh",
     "harvested_kwh",
@@ -52,16 +56,20 @@ pub const MONTHLY_COLUMNS: [&str; 13] = [
     "lowest_soc_pct",
 ];
 /// Columns of summary.csv, in order.
-pub const SUMMARY_COLUMNS: [&str; 23] = [
+pub const SUMMARY_COLUMNS: [&str; 27] = [
+    "id",
+    "recommended",
     "rank",
     "layout",
     "code",
     "status",
     "score_kwh",
+    "offered_kwh",
     "annual_kwh",
     "worst_month",
     "worst_month_kwh",
     "low_sun_kwh",
+    "low_sun_delivered_kwh",
     "awake_h",
     "p90_1y_kwh",
     "p90_10y_kwh",
@@ -78,9 +86,13 @@ pub const SUMMARY_COLUMNS: [&str; 23] = [
     "cautions",
 ];
 /// Columns of losses.csv, in order.
-pub const LOSSES_COLUMNS: [&str; 4] = ["layout", "step", "energy_kwh", "share_pct"];
+pub const LOSSES_COLUMNS: [&str; 5] = ["id", "layout", "step", "energy_kwh", "share_pct"];
+/// Columns of differences.csv, in order: each ranked layout's difference from the
+/// recommended one by cause (kWh a year; the causes add up to the delivered difference).
+pub const DIFFERENCES_COLUMNS: [&str; 4] = ["id", "layout", "cause", "difference_kwh"];
 /// Columns of hourly.csv, in order.
-pub const HOURLY_COLUMNS: [&str; 7] = [
+pub const HOURLY_COLUMNS: [&str; 8] = [
+    "id",
     "layout",
     "time_local",
     "potential_w",
@@ -158,6 +170,12 @@ pub fn write_outputs(
             losses_frame(r)
                 .and_then(csv_bytes)
                 .map_err(polars_error(LOSSES_CSV))?,
+        ),
+        (
+            DIFFERENCES_CSV.into(),
+            differences_frame(r)
+                .and_then(csv_bytes)
+                .map_err(polars_error(DIFFERENCES_CSV))?,
         ),
     ];
     if opts.hourly {
@@ -317,18 +335,25 @@ impl BatteryColumns {
 }
 
 fn monthly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
-    let (mut layout, mut rank, mut month) = (Vec::new(), Vec::new(), Vec::new());
-    let (mut energy, mut low_sun, mut awake, mut clipped) =
+    let (mut id, mut layout, mut rank, mut month) =
         (Vec::new(), Vec::new(), Vec::new(), Vec::new());
+    let (mut energy, mut offered, mut low_sun, mut low_sun_delivered) =
+        (Vec::new(), Vec::new(), Vec::new(), Vec::new());
+    let (mut awake, mut clipped) = (Vec::new(), Vec::new());
     let mut battery = BatteryColumns::default();
     for o in ranked(r) {
-        let Some(e) = &o.energy else { continue };
+        let (Some(e), Some(s)) = (&o.energy, &o.summary) else {
+            continue;
+        };
         for m in 0..12 {
+            id.push(o.layout.id.clone());
             layout.push(o.layout.display_name());
             rank.push(o.rank.map_or(0, |k| k as i64));
             month.push(m as i64 + 1);
-            energy.push(e.delivered_wh[m] / 1000.0);
-            low_sun.push(e.low_sun_offered_wh[m] / 1000.0);
+            energy.push(s.delivered_kwh[m]);
+            offered.push(s.offered_kwh[m]);
+            low_sun.push(s.low_sun_offered_kwh[m]);
+            low_sun_delivered.push(s.low_sun_delivered_kwh[m]);
             awake.push(e.awake_h[m]);
             clipped.push(e.losses_wh[Step::Clipping][m] / 1000.0);
             battery.push(Some(battery_cells(r, e, Some(m))));
@@ -336,15 +361,18 @@ fn monthly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     }
     let c = &MONTHLY_COLUMNS;
     let mut columns = vec![
-        col(c[0], layout),
-        col(c[1], rank),
-        col(c[2], month),
-        col(c[3], energy),
-        col(c[4], low_sun),
-        col(c[5], awake),
-        col(c[6], clipped),
+        col(c[0], id),
+        col(c[1], layout),
+        col(c[2], rank),
+        col(c[3], month),
+        col(c[4], energy),
+        col(c[5], offered),
+        col(c[6], low_sun),
+        col(c[7], low_sun_delivered),
+        col(c[8], awake),
+        col(c[9], clipped),
     ];
-    columns.extend(battery.columns(&c[7..13]));
+    columns.extend(battery.columns(&c[10..16]));
     frame(c, columns)
 }
 
@@ -366,7 +394,11 @@ pub fn cautions_one_line() -> String {
 fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     let n = r.outcomes.len();
     let mut rank: Vec<Option<i64>> = Vec::with_capacity(n);
+    let (mut id, mut recommended) = (Vec::new(), Vec::new());
     let (mut layout, mut code, mut status) = (Vec::new(), Vec::new(), Vec::new());
+    let rec_id = r.recommendation.as_ref().map(|x| x.layout.as_str());
+    let mut offered: Vec<Option<f64>> = Vec::with_capacity(n);
+    let mut low_sun_delivered: Vec<Option<f64>> = Vec::with_capacity(n);
     // Optional cells: empty for a rejected layout.
     let mut score: Vec<Option<f64>> = Vec::with_capacity(n);
     let mut annual: Vec<Option<f64>> = Vec::with_capacity(n);
@@ -380,7 +412,13 @@ fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     let (mut modules, mut mixed, mut reasons, mut warnings) =
         (Vec::new(), Vec::new(), Vec::new(), Vec::new());
     let mut cautions: Vec<Option<String>> = Vec::with_capacity(n);
-    for (i, o) in r.outcomes.iter().enumerate() {
+    for o in &r.outcomes {
+        id.push(o.layout.id.clone());
+        recommended.push(if Some(o.layout.id.as_str()) == rec_id {
+            "yes"
+        } else {
+            ""
+        });
         rank.push(o.rank.map(|k| k as i64));
         layout.push(o.layout.display_name());
         code.push(o.layout.code.clone());
@@ -391,19 +429,15 @@ fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
         });
         score.push(o.score_kwh);
         let e = o.energy.as_ref().filter(|_| o.rank.is_some());
-        annual.push(e.map(|e| e.annual_delivered_kwh()));
-        // The worst of the months the weather covers, as the ranking sees it; the first
-        // such month on a tie.
-        let w = e.and_then(|e| {
-            let kwh = e.monthly_kwh();
-            (0..12)
-                .filter(|&m| r.months_present[m])
-                .min_by(|&a, &b| kwh[a].total_cmp(&kwh[b]).then(a.cmp(&b)))
-                .map(|m| (m, kwh[m]))
-        });
+        let sm = o.summary.as_ref().filter(|_| o.rank.is_some());
+        offered.push(sm.map(|s| s.annual_offered_kwh()));
+        annual.push(sm.map(|s| s.annual_delivered_kwh()));
+        // The month with the least offered energy among those the weather covers.
+        let w = sm.and_then(|s| s.worst_month.map(|m| (m, s.offered_kwh[m])));
         worst.push(w.map(|(m, _)| m as i64 + 1));
         worst_kwh.push(w.map(|(_, v)| v));
-        low_sun.push(e.map(|e| e.low_sun_offered_wh.iter().sum::<f64>() / 1000.0));
+        low_sun.push(sm.map(|s| s.annual_low_sun_offered_kwh()));
+        low_sun_delivered.push(sm.map(|s| s.annual_low_sun_delivered_kwh()));
         awake.push(e.map(|e| e.awake_h.iter().sum::<f64>()));
         p90_1y.push(o.p90.map(|p| p.p90_1y));
         p90_10y.push(o.p90.map(|p| p.p90_10y));
@@ -412,35 +446,41 @@ fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
         mixed.push(o.layout.mixed_orientation);
         reasons.push(findings(o, Severity::Reject));
         warnings.push(findings(o, Severity::Warn));
-        cautions.push((i == 0).then(cautions_one_line));
+        // On every row, so that a row copied on its own still carries them.
+        cautions.push(Some(cautions_one_line()));
     }
     let c = &SUMMARY_COLUMNS;
     let mut columns = vec![
-        col(c[0], rank),
-        col(c[1], layout),
-        col(c[2], code),
-        col(c[3], status),
-        col(c[4], score),
-        col(c[5], annual),
-        col(c[6], worst),
-        col(c[7], worst_kwh),
-        col(c[8], low_sun),
-        col(c[9], awake),
-        col(c[10], p90_1y),
-        col(c[11], p90_10y),
+        col(c[0], id),
+        col(c[1], recommended),
+        col(c[2], rank),
+        col(c[3], layout),
+        col(c[4], code),
+        col(c[5], status),
+        col(c[6], score),
+        col(c[7], offered),
+        col(c[8], annual),
+        col(c[9], worst),
+        col(c[10], worst_kwh),
+        col(c[11], low_sun),
+        col(c[12], low_sun_delivered),
+        col(c[13], awake),
+        col(c[14], p90_1y),
+        col(c[15], p90_10y),
     ];
-    columns.extend(battery.columns(&c[12..18]));
+    columns.extend(battery.columns(&c[16..22]));
     columns.extend([
-        col(c[18], modules),
-        col(c[19], mixed),
-        col(c[20], reasons),
-        col(c[21], warnings),
-        col(c[22], cautions),
+        col(c[22], modules),
+        col(c[23], mixed),
+        col(c[24], reasons),
+        col(c[25], warnings),
+        col(c[26], cautions),
     ]);
     frame(c, columns)
 }
 
 fn losses_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
+    let mut id = Vec::new();
     let (mut layout, mut step, mut energy) = (Vec::new(), Vec::new(), Vec::new());
     let mut share: Vec<Option<f64>> = Vec::new();
     for o in ranked(r) {
@@ -454,6 +494,7 @@ fn losses_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
         );
         rows.push((DELIVERED_STEP, e.annual_delivered_kwh()));
         for (s, kwh) in rows {
+            id.push(o.layout.id.clone());
             layout.push(o.layout.display_name());
             step.push(s);
             energy.push(kwh);
@@ -465,10 +506,33 @@ fn losses_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     frame(
         c,
         vec![
-            col(c[0], layout),
-            col(c[1], step),
-            col(c[2], energy),
-            col(c[3], share),
+            col(c[0], id),
+            col(c[1], layout),
+            col(c[2], step),
+            col(c[3], energy),
+            col(c[4], share),
+        ],
+    )
+}
+
+fn differences_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
+    let (mut id, mut layout, mut cause, mut kwh) = (Vec::new(), Vec::new(), Vec::new(), Vec::new());
+    for o in ranked(r) {
+        for (c, v) in &o.difference {
+            id.push(o.layout.id.clone());
+            layout.push(o.layout.display_name());
+            cause.push(c.key());
+            kwh.push(*v);
+        }
+    }
+    let c = &DIFFERENCES_COLUMNS;
+    frame(
+        c,
+        vec![
+            col(c[0], id),
+            col(c[1], layout),
+            col(c[2], cause),
+            col(c[3], kwh),
         ],
     )
 }
@@ -476,7 +540,7 @@ fn losses_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
 fn hourly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     let w = &r.loaded.weather;
     let stamps: Vec<String> = (0..w.len()).map(|k| w.stamp_text(k)).collect();
-    let (mut layout, mut time) = (Vec::new(), Vec::new());
+    let (mut id, mut layout, mut time) = (Vec::new(), Vec::new(), Vec::new());
     let (mut potential, mut available, mut delivered, mut clipped) =
         (Vec::new(), Vec::new(), Vec::new(), Vec::new());
     let mut awake = Vec::new();
@@ -484,6 +548,7 @@ fn hourly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
         let Some(e) = &o.energy else { continue };
         let name = o.layout.display_name();
         for (row, stamp) in e.hourly.iter().zip(&stamps) {
+            id.push(o.layout.id.clone());
             layout.push(name.clone());
             time.push(stamp.clone());
             potential.push(row.potential_w as f64);
@@ -497,13 +562,14 @@ fn hourly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     frame(
         c,
         vec![
-            col(c[0], layout),
-            col(c[1], time),
-            col(c[2], potential),
-            col(c[3], available),
-            col(c[4], delivered),
-            col(c[5], clipped),
-            col(c[6], awake),
+            col(c[0], id),
+            col(c[1], layout),
+            col(c[2], time),
+            col(c[3], potential),
+            col(c[4], available),
+            col(c[5], delivered),
+            col(c[6], clipped),
+            col(c[7], awake),
         ],
     )
 }

@@ -7,11 +7,12 @@ use crate::design::cautions::CAUTIONS;
 use crate::design::rules::Severity;
 use crate::design::sizing::ModuleAnswer;
 use crate::error::Error;
+use crate::results::explain::Cause;
 use crate::results::RankResult;
 use crate::sim::energy::Step;
 
 /// Schema version of the JSON output; bumped on any incompatible change.
-pub const JSON_SCHEMA_VERSION: u32 = 1;
+pub const JSON_SCHEMA_VERSION: u32 = 2;
 
 /// Rounds to a fixed number of decimals so that output is stable and readable.
 fn r3(x: f64) -> f64 {
@@ -97,6 +98,7 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                 .map(|f| format!("{}: {}", f.rule, f.message))
                 .collect();
             let mut v = json!({
+                "id": o.layout.id,
                 "name": o.layout.display_name(),
                 "code": o.layout.code,
                 "status": if o.rank.is_some() { "ranked" } else { "rejected" },
@@ -112,6 +114,15 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                     "strings": w.strings.iter().map(|s| s.iter().map(|&m| plan.modules[m].id.clone()).collect::<Vec<_>>()).collect::<Vec<_>>(),
                 })).collect::<Vec<_>>(),
                 "score_kwh": o.score_kwh.map(r3),
+                "offered_kwh": Value::Null,
+                "delivered_kwh": Value::Null,
+                "monthly_offered_kwh": Value::Null,
+                "monthly_delivered_kwh": Value::Null,
+                "low_sun_offered_kwh": Value::Null,
+                "low_sun_delivered_kwh": Value::Null,
+                "worst_month": Value::Null,
+                "days_short": Value::Null,
+                "difference_from_recommended_kwh": Value::Null,
                 "annual_kwh": Value::Null,
                 "monthly_kwh": Value::Null,
                 "low_sun_kwh": Value::Null,
@@ -128,6 +139,34 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                 "lowest_soc_pct": Value::Null,
                 "losses_kwh": Value::Null,
             });
+            if let Some(s) = &o.summary {
+                v["offered_kwh"] = json!(r3(s.annual_offered_kwh()));
+                v["delivered_kwh"] = json!(r3(s.annual_delivered_kwh()));
+                v["monthly_offered_kwh"] = json!(s.offered_kwh.map(r3));
+                v["monthly_delivered_kwh"] = json!(s.delivered_kwh.map(r3));
+                v["low_sun_offered_kwh"] = json!(r3(s.annual_low_sun_offered_kwh()));
+                v["low_sun_delivered_kwh"] = json!(r3(s.annual_low_sun_delivered_kwh()));
+                v["worst_month"] = json!(s.worst_month.map(|m| m + 1));
+                if plan.consumption.is_some() {
+                    v["days_short"] = json!(r3(s.annual_days_short()));
+                }
+            }
+            if !o.difference.is_empty() {
+                let mut d = Map::new();
+                for (c, kwh) in &o.difference {
+                    d.insert(c.key().to_string(), json!(r3(*kwh)));
+                }
+                let offered: f64 = o
+                    .difference
+                    .iter()
+                    .filter(|(c, _)| *c != Cause::Curtailment)
+                    .map(|(_, v)| v)
+                    .sum();
+                let delivered: f64 = o.difference.iter().map(|(_, v)| v).sum();
+                d.insert("total_offered".to_string(), json!(r3(offered)));
+                d.insert("total_delivered".to_string(), json!(r3(delivered)));
+                v["difference_from_recommended_kwh"] = Value::Object(d);
+            }
             if let Some(e) = &o.energy {
                 let mut losses = Map::new();
                 for s in Step::ALL {
@@ -176,7 +215,17 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
             "elevation_m": site.elevation_m,
             "utc_offset_h": site.utc_offset_h,
         },
-        "criterion": r.criterion.describe(),
+        "criterion": r.criterion.key(),
+        "criterion_text": r.criterion.describe(),
+        "years_averaged": r3(r.years),
+        "recommendation": r.recommendation.as_ref().map(|rec| json!({
+            "layout": rec.layout,
+            "criterion": rec.criterion.key(),
+            "reason": rec.reason,
+            "runner_up": rec.runner_up,
+            "tie": rec.tie,
+            "tie_break": rec.tie_break,
+        })),
         "winter_months": r.winter_months.iter().map(|m| m + 1).collect::<Vec<_>>(),
         "months_present": r.months_present,
         "limit_temperatures_c": { "min_air": r.temps.min_air_c, "max_air": r.temps.max_air_c },

@@ -215,17 +215,16 @@ pub fn plan_charts(r: &RankResult) -> PlannedCharts {
         return PlannedCharts { charts, skipped };
     }
     let label = |o: &crate::results::rank::LayoutOutcome| {
-        format!(
-            "{}. {}",
-            o.rank.unwrap_or(0),
-            shorten(&o.layout.display_name(), 80)
-        )
+        format!("{} {}", o.layout.id, shorten(&o.layout.display_name(), 80))
     };
     let best: Vec<_> = ranked.iter().take(MAX_LAYOUTS).collect();
     charts.push(Chart::MonthlyEnergy(MonthlyEnergy {
         layouts: best
             .iter()
-            .map(|(o, e)| (label(o), e.monthly_kwh()))
+            .map(|(o, e)| {
+                let offered: [f64; 12] = std::array::from_fn(|m| e.offered_wh(m) / 1000.0);
+                (label(o), offered)
+            })
             .collect(),
         ranked: ranked.len(),
         with_load: r.loaded.plan.consumption.is_some(),
@@ -441,13 +440,13 @@ fn draw_monthly<DB: DrawingBackend>(
 ) -> DrawResult<DB> {
     let (what, axis) = if c.with_load {
         (
-            "Monthly energy to the battery and the load",
-            "energy delivered, kWh",
+            "Monthly energy offered by the controllers (before a full battery turns any away)",
+            "energy offered, kWh",
         )
     } else {
         (
-            "Monthly energy into the battery",
-            "energy into the battery, kWh",
+            "Monthly energy offered by the controllers",
+            "energy offered, kWh",
         )
     };
     let title = format!("{what}, {}", which_layouts(c.layouts.len(), c.ranked));

@@ -10,14 +10,22 @@ use crate::design::rules::Severity;
 use crate::design::sizing::ModuleAnswer;
 use crate::input::weather::Weather;
 use crate::input::Loaded;
+use crate::results::explain::difference_line;
 use crate::results::light::GroupMonthly;
 use crate::results::rank::LayoutOutcome;
+use crate::results::recommend::TIE_BAND_FRAC;
 use crate::results::uncertainty::empirical_variability;
 use crate::results::weather_summary::WeatherSummary;
 use crate::results::{CheckResult, RankResult, ShadeResult};
 use crate::sim::energy::Step;
 use crate::time::LocalTime;
 use crate::weather_gen::synth::MONTH_NAMES;
+
+/// One line at the top of long reports; the full cautions close them.
+const CAUTIONS_SHORT: &str = "Caution: DC arrays are live whenever lit; follow your local electrical code and have a licensed professional check the design (full cautions at the end).";
+
+/// The note a plan with a battery model but no load gets.
+pub const BATTERY_WITHOUT_LOAD: &str = "note: the plan has a battery model but no [load]: nothing draws from the battery, so it stays full and turns most of the harvest away; the ranking uses the energy offered, and delivered energy is what the battery could still take";
 
 const MONTHS: [&str; 12] = [
     "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec",
@@ -46,6 +54,7 @@ pub fn ranking(r: &RankResult) -> String {
     let t = RankingText::new(r);
     let mut out = String::new();
     t.header(&mut out);
+    t.recommendation(&mut out);
     t.table(&mut out);
     t.rejected(&mut out);
     t.warnings(&mut out);
@@ -56,7 +65,6 @@ pub fn ranking(r: &RankResult) -> String {
     t.tracker_comparison(&mut out);
     if !t.ranked.is_empty() {
         t.monthly(&mut out);
-        t.losses(&mut out);
     }
     let _ = writeln!(out);
     out.push_str(&light_section(r));
@@ -132,17 +140,66 @@ impl<'a> RankingText<'a> {
                 parts.join(", ")
             );
         }
+        if r.years > 1.0 + 1e-9 {
+            let _ = writeln!(
+                out,
+                "every energy below is per year: the mean of the {:.1} years in the weather file",
+                r.years
+            );
+        }
+        if plan.battery.model.is_some() && plan.consumption.is_none() {
+            let _ = writeln!(out, "{BATTERY_WITHOUT_LOAD}");
+        }
+        let _ = writeln!(out, "{CAUTIONS_SHORT}");
         let _ = writeln!(out);
     }
 
-    /// The ranked layouts, one row each.
+    /// The layout to build, why, and the runner-up.
+    fn recommendation(&self, out: &mut String) {
+        let Some(rec) = &self.r.recommendation else {
+            return;
+        };
+        let Some(o) = self.r.recommended() else {
+            return;
+        };
+        let _ = writeln!(out, "Build {}: {}", o.layout.id, o.layout.display_name());
+        let _ = writeln!(out, "  Why: {}", rec.reason);
+        if let (Some(id), Some(gap)) = (&rec.runner_up, &rec.runner_up_gap) {
+            let name = self
+                .r
+                .outcomes
+                .iter()
+                .find(|x| &x.layout.id == id)
+                .map_or(String::new(), |x| x.layout.display_name());
+            let _ = writeln!(out, "  Runner-up {id} ({name}): {gap}");
+            if let Some(x) = self.r.outcomes.iter().find(|x| &x.layout.id == id) {
+                if !x.difference.is_empty() {
+                    let _ = writeln!(out, "    {}", difference_line(&x.difference));
+                }
+            }
+        }
+        if rec.tie {
+            let _ = writeln!(
+                out,
+                "  Tie: the leaders are closer on {} than the model can tell apart (within {:.0} %){}",
+                rec.criterion.short(),
+                TIE_BAND_FRAC * 100.0,
+                rec.tie_break
+                    .as_ref()
+                    .map_or(String::new(), |t| format!("; broken by {t}"))
+            );
+        }
+        let _ = writeln!(out);
+    }
+
+    /// The ranked layouts, one row each, with each one's difference from the recommended.
     fn table(&self, out: &mut String) {
         let (r, name_w) = (self.r, self.name_w);
         let plan = &r.loaded.plan;
         let winter: Vec<&str> = r.winter_months.iter().map(|&m| MONTHS[m]).collect();
         let _ = writeln!(
             out,
-            "Ranked by {}{} — {} layouts ranked, {} rejected",
+            "Ranked by {}{} — {} layout{} ranked, {} rejected",
             r.criterion.describe(),
             if r.criterion == crate::results::rank::Criterion::Winter {
                 format!(" ({})", winter.join(", "))
@@ -150,45 +207,74 @@ impl<'a> RankingText<'a> {
                 String::new()
             },
             self.ranked.len(),
+            if self.ranked.len() == 1 { "" } else { "s" },
             self.rejected.len()
         );
         let _ = writeln!(
             out,
-            "{:>4}  {:<name_w$}  {:>9} {:>8} {:>10} {:>6} {:>9} {:>7}  notes",
-            "rank", "layout", "score kWh", "vs best", "annual kWh", "worst", "low-sun", "awake h"
+            "{:<4} {:>4}  {:<name_w$}  {:>16} {:>9} {:>9} {:>10}  {:>15} {:>7}  notes",
+            "id",
+            "rank",
+            "layout",
+            "score",
+            "offered",
+            "delivered",
+            "worst",
+            "low-sun off/del",
+            "awake h"
         );
-        let best = self.ranked.first().and_then(|o| o.score_kwh).unwrap_or(0.0);
+        let rec_id = r.recommendation.as_ref().map(|x| x.layout.as_str());
         for o in &self.ranked {
-            let Some(e) = &o.energy else { continue };
-            let score = o.score_kwh.unwrap_or(0.0);
-            let vs = if best > 0.0 {
-                format!("{:+.1}%", (score / best - 1.0) * 100.0)
-            } else {
-                "-".to_string()
+            let Some(s) = &o.summary else { continue };
+            let score = match r.criterion {
+                crate::results::rank::Criterion::Unmet => format!(
+                    "{:.0} d, {:.1} kWh",
+                    s.annual_days_short(),
+                    s.annual_unmet_kwh()
+                ),
+                _ => format!("{:.1} kWh", o.score_kwh.unwrap_or(0.0)),
             };
-            let kwh = e.monthly_kwh();
-            let (worst_m, worst) = (0..12)
-                .filter(|&m| r.months_present[m])
-                .map(|m| (m, kwh[m]))
-                .fold((0, f64::INFINITY), |a, b| if b.1 < a.1 { b } else { a });
-            let _ = writeln!(
+            let worst = s.worst_month.map_or("-".to_string(), |m| {
+                format!("{:.1} {}", s.offered_kwh[m], MONTHS[m])
+            });
+            let mark = if Some(o.layout.id.as_str()) == rec_id {
+                "→"
+            } else {
+                " "
+            };
+            let _ =
+                writeln!(
                 out,
-                "{:>4}  {:<name_w$}  {:>9.1} {:>8} {:>10.1} {:>6} {:>9.1} {:>7.0}  {}",
+                "{mark}{:<3} {:>4}  {:<name_w$}  {:>16} {:>9.1} {:>9.1} {:>10}  {:>15} {:>7.0}  {}",
+                o.layout.id,
                 o.rank.unwrap_or(0),
                 o.layout.display_name(),
                 score,
-                vs,
-                e.annual_delivered_kwh(),
-                format!("{worst:.1}{}", &MONTHS[worst_m][..1]),
-                e.low_sun_offered_wh.iter().sum::<f64>() / 1000.0,
-                e.awake_h.iter().sum::<f64>(),
+                s.annual_offered_kwh(),
+                s.annual_delivered_kwh(),
+                worst,
+                format!(
+                    "{:.1}/{:.1}",
+                    s.annual_low_sun_offered_kwh(),
+                    s.annual_low_sun_delivered_kwh()
+                ),
+                o.energy.as_ref().map_or(0.0, |e| e.awake_h.iter().sum::<f64>()),
                 notes(o, plan.modules.len()).join(", ")
             );
+            if !o.difference.is_empty() {
+                if let Some(id) = rec_id {
+                    let _ = writeln!(out, "{:10}vs {id}: {}", "", difference_line(&o.difference));
+                }
+            }
         }
         if self.ranked.is_empty() {
             let _ = writeln!(out, "      (no layout passes the electrical limits)");
         }
-        let _ = writeln!(out, "  worst = that layout's lowest month (kWh, initial of the month); low-sun = sun below {:.0}°", plan.model.low_sun_elevation_deg);
+        let _ = writeln!(
+            out,
+            "  → = the layout to build; energies in kWh a year. offered = what the controllers could put out; delivered = what the battery and the load took (a full battery turns the rest away); worst = the month with the least offered; low-sun = sun below {:.0}°",
+            plan.model.low_sun_elevation_deg
+        );
     }
 
     /// Rejected layouts with the rules they break.
@@ -200,7 +286,7 @@ impl<'a> RankingText<'a> {
         let _ = writeln!(out, "Rejected (never ranked):");
         const SHOWN: usize = 15;
         for o in self.rejected.iter().take(SHOWN) {
-            let _ = writeln!(out, "  {}", o.layout.display_name());
+            let _ = writeln!(out, "  {} {}", o.layout.id, o.layout.display_name());
             for f in o.findings.iter().filter(|f| f.severity == Severity::Reject) {
                 let _ = writeln!(out, "    ✗ {}: {}", f.rule, f.message);
             }
@@ -228,13 +314,7 @@ impl<'a> RankingText<'a> {
         let _ = writeln!(out, "Warnings on ranked layouts:");
         for o in warned {
             for f in o.findings.iter().filter(|f| f.severity == Severity::Warn) {
-                let _ = writeln!(
-                    out,
-                    "  {}: {}: {}",
-                    o.layout.display_name(),
-                    f.rule,
-                    f.message
-                );
+                let _ = writeln!(out, "  {}: {}: {}", o.layout.id, f.rule, f.message);
             }
         }
     }
@@ -244,12 +324,11 @@ impl<'a> RankingText<'a> {
         if self.ranked.is_empty() {
             return;
         }
-        let name_w = self.name_w;
         let u = &self.r.loaded.plan.model.uncertainty;
         let _ = writeln!(out);
         let _ = writeln!(
             out,
-            "Annual energy you can count on (normal approximation; resource variability {:.1} %, model uncertainty {:.1} %):",
+            "Energy offered a year that you can count on (normal approximation; resource variability {:.1} %, model uncertainty {:.1} %):",
             u.variability_frac * 100.0,
             u.model_frac * 100.0
         );
@@ -262,8 +341,8 @@ impl<'a> RankingText<'a> {
             {
                 let _ = writeln!(
                     out,
-                    "  {:<name_w$} {} complete years in the weather file: mean {:.1} kWh, spread {:.1} % → empirical one-year P90 {:.1} kWh",
-                    o.layout.display_name(),
+                    "  {:<4} {} complete years in the weather file: mean {:.1} kWh, spread {:.1} % → empirical one-year P90 {:.1} kWh",
+                    o.layout.id,
                     spread.years,
                     spread.mean,
                     spread.sd_frac * 100.0,
@@ -273,8 +352,8 @@ impl<'a> RankingText<'a> {
             if let Some(p) = &o.p90 {
                 let _ = writeln!(
                     out,
-                    "  {:<name_w$} P50 {:>8.1} kWh   P90 one year {:>8.1} kWh   P90 ten-year mean {:>8.1} kWh",
-                    o.layout.display_name(),
+                    "  {:<4} P50 {:>8.1} kWh   P90 one year {:>8.1} kWh   P90 ten-year mean {:>8.1} kWh",
+                    o.layout.id,
                     p.p50,
                     p.p90_1y,
                     p.p90_10y
@@ -308,63 +387,62 @@ impl<'a> RankingText<'a> {
             let _ = writeln!(
                 out,
                 "  {}: {own:.1} kWh offered as planned, {other:.1} kWh with the other tracker ({:+.1} kWh)",
-                o.layout.display_name(),
+                o.layout.id,
                 other - own
             );
         }
     }
 
-    /// Energy per month of each ranked layout.
+    /// Energy offered per month by each ranked layout; the recommended layout's delivered
+    /// energy and the load beneath.
     fn monthly(&self, out: &mut String) {
-        let (r, name_w) = (self.r, self.name_w);
+        let (r, name_w) = (self.r, self.name_w + 5);
         let _ = writeln!(out);
-        let heading = if r.loaded.plan.consumption.is_some() {
-            "Monthly energy delivered to the battery and the load, kWh"
-        } else {
-            "Monthly energy into the battery, kWh"
-        };
-        let _ = writeln!(out, "{heading}");
+        let _ = writeln!(out, "Monthly energy offered by the controllers, kWh");
         let _ = write!(out, "{:<name_w$}", "");
         for m in MONTHS {
             let _ = write!(out, "{m:>6}");
         }
         let _ = writeln!(out);
-        for o in &self.ranked {
-            let Some(e) = &o.energy else { continue };
-            let _ = write!(out, "{:<name_w$}", o.layout.display_name());
-            for (m, v) in e.monthly_kwh().iter().enumerate() {
+        let row = |out: &mut String, label: String, v: &[f64; 12]| {
+            let _ = write!(out, "{label:<name_w$}");
+            for (m, x) in v.iter().enumerate() {
                 if r.months_present[m] {
-                    let _ = write!(out, "{v:>6.1}");
+                    let _ = write!(out, "{x:>6.1}");
                 } else {
                     let _ = write!(out, "{:>6}", "-");
                 }
             }
             let _ = writeln!(out);
-        }
-    }
-
-    /// The loss steps of each ranked layout over the year.
-    fn losses(&self, out: &mut String) {
-        let name_w = self.name_w;
-        let _ = writeln!(out);
-        let _ = writeln!(out, "Where the energy goes over the year, kWh (potential = light on the wired modules × STC efficiency)");
-        let _ = write!(out, "{:<name_w$} {:>9}", "", "potential");
-        for s in Step::ALL {
-            let _ = write!(out, " {:>9}", short_step(s));
-        }
-        let _ = writeln!(out, " {:>9}", "delivered");
+        };
         for o in &self.ranked {
-            let Some(e) = &o.energy else { continue };
-            let _ = write!(
+            let Some(s) = &o.summary else { continue };
+            row(
                 out,
-                "{:<name_w$} {:>9.1}",
-                o.layout.display_name(),
-                e.potential_wh.iter().sum::<f64>() / 1000.0
+                format!("{:<4} {}", o.layout.id, o.layout.display_name()),
+                &s.offered_kwh,
             );
-            for s in Step::ALL {
-                let _ = write!(out, " {:>9.1}", e.step_total_wh(s) / 1000.0);
+        }
+        if let Some((o, s)) = self
+            .r
+            .recommended()
+            .and_then(|o| o.summary.as_ref().map(|s| (o, s)))
+        {
+            let target = if r.loaded.plan.consumption.is_some() {
+                "the battery and the load"
+            } else {
+                "the battery"
+            };
+            let _ = writeln!(out, "Delivered to {target} by {}, kWh", o.layout.id);
+            row(
+                out,
+                format!("{:<4} delivered", o.layout.id),
+                &s.delivered_kwh,
+            );
+            if r.loaded.plan.consumption.is_some() {
+                row(out, "     load".to_string(), &s.load_kwh);
+                row(out, "     unmet".to_string(), &s.unmet_kwh);
             }
-            let _ = writeln!(out, " {:>9.1}", e.annual_delivered_kwh());
         }
     }
 }
@@ -472,43 +550,49 @@ fn outlook(r: &RankResult, ranked: &[&LayoutOutcome]) -> String {
     );
     let name_w = ranked
         .iter()
-        .map(|o| o.layout.display_name().chars().count())
+        .map(|o| o.layout.display_name().chars().count() + o.layout.id.len() + 1)
         .max()
         .unwrap_or(6)
-        .clamp(6, 90);
+        .clamp(6, 96);
     let _ = writeln!(
         out,
-        "  {:<name_w$} {:>10} {:>10} {:>10} {:>11} {:>9} | {:>11} {:>10} {:>10}",
+        "  {:<name_w$} {:>10} {:>10} {:>10} {:>11} {:>15} | {:>11} {:>10} {:>10}",
         "layout",
         "load kWh",
         "unmet kWh",
         "days short",
         "lowest SoC",
-        "low-sun",
+        "low-sun off/del",
         "year unmet",
         "curtailed",
         "days short"
     );
     for o in ranked {
-        let Some(e) = &o.energy else { continue };
+        let (Some(e), Some(s)) = (&o.energy, &o.summary) else {
+            continue;
+        };
         let w = |f: &dyn Fn(usize) -> f64| r.winter_months.iter().map(|&m| f(m)).sum::<f64>();
         let served = w(&|m| e.load_served_wh[m]) / 1000.0;
         let unmet = w(&|m| e.unmet_wh[m]) / 1000.0;
-        let days = w(&|m| e.unmet_days[m] as f64);
+        let days = s.winter_days_short;
         let soc = r
             .winter_months
             .iter()
             .map(|&m| e.min_soc_frac[m])
             .fold(f64::INFINITY, f64::min);
-        let low = w(&|m| e.low_sun_offered_wh[m]) / 1000.0;
-        let year_unmet = e.unmet_wh.iter().sum::<f64>() / 1000.0;
-        let curtailed = e.step_total_wh(Step::Curtailed) / 1000.0;
-        let year_days: u32 = e.unmet_days.iter().sum();
+        let low = format!(
+            "{:.1}/{:.1}",
+            w(&|m| s.low_sun_offered_kwh[m]),
+            w(&|m| s.low_sun_delivered_kwh[m])
+        );
         let _ = writeln!(
             out,
-            "  {:<name_w$} {served:>10.1} {unmet:>10.1} {days:>10.0} {:>10.0}% {low:>9.1} | {year_unmet:>11.1} {curtailed:>10.1} {year_days:>10}",
-            o.layout.display_name(),
-            soc * 100.0
+            "  {:<name_w$} {served:>10.1} {unmet:>10.1} {days:>10.0} {:>10.0}% {low:>15} | {:>11.1} {:>10.1} {:>10.0}",
+            format!("{} {}", o.layout.id, o.layout.display_name()),
+            soc * 100.0,
+            s.annual_unmet_kwh(),
+            s.annual_curtailed_kwh(),
+            s.annual_days_short()
         );
     }
     if let Some(s) = &r.sizing {
@@ -555,22 +639,6 @@ fn outlook(r: &RankResult, ranked: &[&LayoutOutcome]) -> String {
         );
     }
     out
-}
-
-fn short_step(s: Step) -> &'static str {
-    match s {
-        Step::Incidence => "incidence",
-        Step::Soiling => "soiling",
-        Step::Shading => "shading",
-        Step::TemperatureLowLight => "temp/low",
-        Step::Mismatch => "mismatch",
-        Step::Cables => "cables",
-        Step::WindowStartup => "window",
-        Step::InputLimit => "in-limit",
-        Step::Clipping => "clipping",
-        Step::Conversion => "convert",
-        Step::Curtailed => "curtailed",
-    }
 }
 
 fn light_section(r: &RankResult) -> String {

@@ -18,6 +18,12 @@ pub struct GroupMonthly {
 }
 
 impl GroupMonthly {
+    /// Scales the insolation sums to a mean year (temperatures are means already).
+    pub fn scale(&mut self, factor: f64) {
+        self.poa_kwh_m2.iter_mut().for_each(|x| *x *= factor);
+        self.after_iam_kwh_m2.iter_mut().for_each(|x| *x *= factor);
+    }
+
     /// Share of the plane-of-array light lost to incidence angle in a month, fraction.
     pub fn iam_loss_frac(&self, month_index: usize) -> f64 {
         let poa = self.poa_kwh_m2[month_index];

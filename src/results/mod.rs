@@ -1,9 +1,12 @@
 //! Results: what each run produced, computed once, for every writer to format. Ranking,
 //! P50/P90, the monthly light sums and the sun-path views live here.
 
+pub mod explain;
 pub mod light;
 pub mod rank;
+pub mod recommend;
 pub mod shade_view;
+pub mod summary;
 pub mod uncertainty;
 pub mod weather_summary;
 
@@ -32,6 +35,18 @@ pub struct RankResult {
     pub sizing: Option<Sizing>,
     /// With a load and a battery: the fewest extra modules for the best layout.
     pub module_sizing: Option<ModuleSizing>,
+    /// The layout to build and why (`None` when nothing passes).
+    pub recommendation: Option<recommend::Recommendation>,
+    /// Years of weather the figures are the mean of (1 for a typical year).
+    pub years: f64,
+}
+
+impl RankResult {
+    /// The recommended layout's outcome.
+    pub fn recommended(&self) -> Option<&rank::LayoutOutcome> {
+        let id = &self.recommendation.as_ref()?.layout;
+        self.outcomes.iter().find(|o| &o.layout.id == id)
+    }
 }
 
 /// Every candidate layout with its limit findings, without simulating.

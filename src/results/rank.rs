@@ -1,51 +1,92 @@
 //! Ranking: orders the layouts that pass the limits by what matters to the owner.
 //!
-//! Rejected layouts are never ranked. Ties break by annual energy, then by name, so the order
-//! is deterministic.
+//! Rejected layouts are never ranked. Ties break by annual offered energy, then by name, so
+//! the order is deterministic.
 
 use crate::design::rules::{Finding, Severity};
 use crate::input::layout::Layout;
+use crate::results::summary::LayoutSummary;
 use crate::sim::energy::LayoutEnergy;
 
-/// What the ranking maximises.
+/// What the ranking maximises. Energy criteria rank on energy *offered* by the controllers
+/// (before a full battery turns any away), which is what separates wirings; with a load the
+/// default is the load's unmet share.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Criterion {
-    /// Energy delivered over the year.
+    /// Energy offered over the year.
     Annual,
-    /// Energy in the layout's worst month (of the months the weather covers).
+    /// Energy offered in the layout's worst month (of the months the weather covers).
     WorstMonth,
-    /// Energy in the three months with the least horizontal insolation.
+    /// Energy offered in the three months with the least horizontal insolation.
     Winter,
-    /// Energy delivered while the sun is low.
+    /// Energy offered while the sun is low.
     LowSun,
-    /// Least unmet load over the year (needs a load and a battery); ranked on −unmet.
+    /// Fewest days short, then least unmet load, then most winter offered energy (needs a
+    /// load and a battery).
     Unmet,
 }
 
 impl Criterion {
+    /// The criterion used when none is asked for: unmet load when the plan has a load,
+    /// annual offered energy otherwise.
+    pub fn default_for(has_load: bool) -> Criterion {
+        if has_load {
+            Criterion::Unmet
+        } else {
+            Criterion::Annual
+        }
+    }
+
     pub fn describe(self) -> &'static str {
         match self {
-            Criterion::Annual => "annual energy",
-            Criterion::WorstMonth => "energy in the worst month",
-            Criterion::Winter => "energy in the three darkest months",
-            Criterion::LowSun => "energy in low-sun hours",
-            Criterion::Unmet => "least unmet load (score = −unmet kWh)",
+            Criterion::Annual => "energy offered over the year",
+            Criterion::WorstMonth => "energy offered in the worst month",
+            Criterion::Winter => "energy offered in the three darkest months",
+            Criterion::LowSun => "energy offered in low-sun hours",
+            Criterion::Unmet => "unmet load (fewest days short, then least kWh unmet, then most winter energy offered)",
+        }
+    }
+
+    /// A few words for sentences: `unmet load`, `annual offered energy`, ….
+    pub fn short(self) -> &'static str {
+        match self {
+            Criterion::Annual => "annual offered energy",
+            Criterion::WorstMonth => "offered energy in the worst month",
+            Criterion::Winter => "winter offered energy",
+            Criterion::LowSun => "low-sun offered energy",
+            Criterion::Unmet => "unmet load",
+        }
+    }
+
+    /// The key used in JSON and on the command line.
+    pub fn key(self) -> &'static str {
+        match self {
+            Criterion::Annual => "annual",
+            Criterion::WorstMonth => "worst-month",
+            Criterion::Winter => "winter",
+            Criterion::LowSun => "low-sun",
+            Criterion::Unmet => "unmet",
         }
     }
 }
 
-/// A layout with its verdict and, when it passed, its energy and rank.
+/// A layout with its verdict and, when it passed, its energy, figures and rank.
 #[derive(Clone, Debug)]
 pub struct LayoutOutcome {
     pub layout: Layout,
     pub findings: Vec<Finding>,
     pub energy: Option<LayoutEnergy>,
+    /// The figures every report shows, computed once (with `energy`).
+    pub summary: Option<LayoutSummary>,
     /// 1-based; `None` when rejected.
     pub rank: Option<usize>,
-    /// The value the criterion ranked on, kWh.
+    /// The value the criterion ranked on, kWh (for `Unmet`, −unmet kWh).
     pub score_kwh: Option<f64>,
-    /// Annual energy exceeded with 90 % probability (one year, ten-year mean), kWh.
+    /// Annual offered energy exceeded with 90 % probability (one year, ten-year mean), kWh.
     pub p90: Option<crate::results::uncertainty::P90>,
+    /// The difference from the recommended layout by cause, kWh a year (empty for the
+    /// recommended layout itself and for rejected ones).
+    pub difference: Vec<(crate::results::explain::Cause, f64)>,
 }
 
 impl LayoutOutcome {
@@ -67,54 +108,43 @@ pub fn winter_months(horizontal_kwh_m2: &[f64; 12], present: &[bool; 12]) -> Vec
     months
 }
 
-/// The criterion's value for one layout's energy, kWh.
-pub fn score_kwh(e: &LayoutEnergy, c: Criterion, present: &[bool; 12], winter: &[usize]) -> f64 {
-    let kwh = e.monthly_kwh();
+/// The criterion's value for one layout, kWh (for `Unmet`, −unmet kWh: higher is better).
+pub fn score_kwh(s: &LayoutSummary, c: Criterion) -> f64 {
     match c {
-        Criterion::Annual => e.annual_delivered_kwh(),
-        Criterion::WorstMonth => (0..12)
-            .filter(|&m| present[m])
-            .map(|m| kwh[m])
-            .fold(f64::INFINITY, f64::min),
-        // With a load, winter counts what reached the load (notebooks-free-docs/method-battery.md outlook).
-        Criterion::Winter if e.load_served_wh.iter().any(|&x| x > 0.0) => {
-            winter.iter().map(|&m| e.load_served_wh[m] / 1000.0).sum()
-        }
-        Criterion::Winter => winter.iter().map(|&m| kwh[m]).sum(),
-        Criterion::Unmet => -e.unmet_wh.iter().sum::<f64>() / 1000.0,
-        Criterion::LowSun => e.low_sun_offered_wh.iter().sum::<f64>() / 1000.0,
+        Criterion::Annual => s.annual_offered_kwh(),
+        Criterion::WorstMonth => s.worst_month_kwh(),
+        Criterion::Winter => s.winter_offered_kwh,
+        Criterion::LowSun => s.annual_low_sun_offered_kwh(),
+        Criterion::Unmet => -s.annual_unmet_kwh(),
     }
 }
 
+/// Orders two summaries by a criterion, best first.
+pub fn compare(a: &LayoutSummary, b: &LayoutSummary, c: Criterion) -> std::cmp::Ordering {
+    let primary = match c {
+        Criterion::Unmet => a
+            .annual_days_short()
+            .total_cmp(&b.annual_days_short())
+            .then(a.annual_unmet_kwh().total_cmp(&b.annual_unmet_kwh()))
+            .then(b.winter_offered_kwh.total_cmp(&a.winter_offered_kwh)),
+        _ => score_kwh(b, c).total_cmp(&score_kwh(a, c)),
+    };
+    primary.then(b.annual_offered_kwh().total_cmp(&a.annual_offered_kwh()))
+}
+
 /// Sets `rank` and `score_kwh` on every passing layout and sorts: ranked first (best first),
-/// then rejected ones in plan order.
-pub fn rank(
-    outcomes: &mut Vec<LayoutOutcome>,
-    c: Criterion,
-    present: &[bool; 12],
-    winter: &[usize],
-) {
+/// then rejected ones in plan order. Ties break by annual offered energy, then by id.
+pub fn rank(outcomes: &mut Vec<LayoutOutcome>, c: Criterion) {
     for o in outcomes.iter_mut() {
-        o.score_kwh = o.energy.as_ref().map(|e| score_kwh(e, c, present, winter));
+        o.score_kwh = o.summary.as_ref().map(|s| score_kwh(s, c));
     }
     let mut idx: Vec<usize> = (0..outcomes.len()).collect();
     idx.sort_by(|&a, &b| {
         let (oa, ob) = (&outcomes[a], &outcomes[b]);
-        match (oa.score_kwh, ob.score_kwh) {
-            (Some(x), Some(y)) => y
-                .total_cmp(&x)
-                .then_with(|| {
-                    let ea = oa
-                        .energy
-                        .as_ref()
-                        .map_or(0.0, LayoutEnergy::annual_delivered_kwh);
-                    let eb = ob
-                        .energy
-                        .as_ref()
-                        .map_or(0.0, LayoutEnergy::annual_delivered_kwh);
-                    eb.total_cmp(&ea)
-                })
-                .then_with(|| oa.layout.display_name().cmp(&ob.layout.display_name())),
+        match (&oa.summary, &ob.summary) {
+            (Some(x), Some(y)) => compare(x, y, c)
+                .then_with(|| oa.layout.display_name().cmp(&ob.layout.display_name()))
+                .then_with(|| a.cmp(&b)),
             (Some(_), None) => std::cmp::Ordering::Less,
             (None, Some(_)) => std::cmp::Ordering::Greater,
             (None, None) => a.cmp(&b),
@@ -123,7 +153,7 @@ pub fn rank(
     let mut sorted: Vec<LayoutOutcome> = idx.into_iter().map(|i| outcomes[i].clone()).collect();
     let mut r = 0;
     for o in sorted.iter_mut() {
-        if o.score_kwh.is_some() {
+        if o.summary.is_some() {
             r += 1;
             o.rank = Some(r);
         }

@@ -26,12 +26,15 @@ fn demo_without_arguments_ranks_and_rejects_with_reasons() {
     let out = wirerank(&[]);
     assert_eq!(out.status.code(), Some(0), "stderr: {}", text(&out.stderr));
     let s = text(&out.stdout);
-    assert!(s.contains("Ranked by annual energy"), "{s}");
+    // With a load the default criterion is unmet load; the report opens with the decision.
+    assert!(s.contains("Ranked by unmet load"), "{s}");
+    assert!(s.contains("Build L"), "{s}");
+    assert!(s.contains("  Why: "), "{s}");
     // The demo's 4s2p string is too long for a cold morning on a 100 V controller.
     assert!(s.contains("cold-voc"), "{s}");
     assert!(s.contains("Rejected (never ranked)"), "{s}");
     assert!(s.contains("licensed professional"), "{s}");
-    assert!(s.contains("   1  "), "a rank-1 row: {s}");
+    assert!(s.contains("    1  "), "a rank-1 row: {s}");
 }
 
 #[test]

@@ -19,7 +19,7 @@ fn fixture(name: &str) -> PathBuf {
 fn run(name: &str, parallel: bool) -> RankResult {
     simulate_and_rank(
         &PlanSource::File(fixture(name)),
-        Criterion::Annual,
+        Some(Criterion::Annual),
         wirerank::sim::year::RunOptions {
             parallel,
             ..Default::default()
@@ -227,7 +227,7 @@ fn worst_month_ranking_can_pick_another_winner_than_annual() {
     let annual = run("plan_winter_vs_summer.toml", true);
     let worst = simulate_and_rank(
         &PlanSource::File(fixture("plan_winter_vs_summer.toml")),
-        Criterion::WorstMonth,
+        Some(Criterion::WorstMonth),
         wirerank::sim::year::RunOptions {
             parallel: true,
             ..Default::default()

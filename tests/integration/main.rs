@@ -1,5 +1,6 @@
 //! Integration tests, compiled into one binary and grouped by topic.
 mod cli;
+mod decision;
 mod electrical;
 mod enumerate;
 mod export;
