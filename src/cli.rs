@@ -7,8 +7,8 @@ use std::path::PathBuf;
 use clap::{Args, Parser, Subcommand, ValueEnum};
 
 use wirerank::commands::{
-    CurveRequest, CurveTarget, OutputFormat, PlanSource, RankRequest, Request, SunpathRequest,
-    WeatherRequest,
+    CurveRequest, CurveTarget, LayoutRef, OutputFormat, PlanSource, RankRequest, Request,
+    SunpathRequest, WeatherRequest,
 };
 use wirerank::results::rank::Criterion;
 
@@ -59,7 +59,7 @@ pub struct CurveArgs {
     /// The plan file (TOML); `demo` uses the bundled demo plan.
     pub plan: PathBuf,
     /// A module type of the plan (with --irradiance-w-m2 and --cell-temp-c).
-    #[arg(long, conflicts_with_all = ["layout", "at"])]
+    #[arg(long, conflicts_with_all = ["layout", "rank", "at"])]
     pub module_type: Option<String>,
     /// Effective irradiance on the module, W/m².
     #[arg(long, default_value_t = 1000.0)]
@@ -67,11 +67,14 @@ pub struct CurveArgs {
     /// Cell temperature, °C.
     #[arg(long, default_value_t = 25.0, allow_hyphen_values = true)]
     pub cell_temp_c: f64,
-    /// A layout: its number in the ranking's candidate list (1 = first), its code or its name.
-    #[arg(long, requires = "at")]
+    /// A layout: its id as the reports print it (L1, E3, …), its code or its name.
+    #[arg(long, requires = "at", conflicts_with = "rank")]
     pub layout: Option<String>,
+    /// A layout by its rank in `rank PLAN` with the plan's default criterion (1 = best).
+    #[arg(long, requires = "at")]
+    pub rank: Option<usize>,
     /// The weather interval, as its stamp in the file (YYYY-MM-DDTHH:MM, local).
-    #[arg(long, requires = "layout")]
+    #[arg(long)]
     pub at: Option<String>,
     /// Points to print per curve.
     #[arg(long, default_value_t = 25)]
@@ -135,10 +138,15 @@ pub struct OutputArgs {
     /// Energy criteria rank on energy offered by the controllers.
     #[arg(long, value_enum)]
     pub by: Option<ByArg>,
-    /// Write monthly.csv, summary.csv, losses.csv, provenance.txt and the plots (PNG and SVG)
+    /// Write monthly.csv, summary.csv, losses.csv, differences.csv, wiring.csv,
+    /// provenance.txt and the plots (PNG and SVG)
     /// into this folder (created if missing).
     #[arg(long)]
     pub out: Option<PathBuf>,
+    /// List the wiring, module by module, of every candidate layout (the report lists the
+    /// recommended and the plan's listed layouts; the files always hold every layout).
+    #[arg(long)]
+    pub wiring: bool,
     /// With --out, also write hourly.csv (one row per layout and weather interval).
     #[arg(long, requires = "out")]
     pub hourly: bool,
@@ -149,16 +157,17 @@ pub struct OutputArgs {
 
 #[derive(Debug, Clone, Copy, ValueEnum, Default, PartialEq, Eq)]
 pub enum ByArg {
-    /// Energy delivered over the year.
+    /// Energy offered by the controllers over the year.
     #[default]
     Annual,
-    /// Energy in the layout's worst month.
+    /// Energy offered in the layout's worst month.
     WorstMonth,
-    /// Energy in the three months with the least horizontal insolation.
+    /// Energy offered in the three months with the least horizontal insolation.
     Winter,
-    /// Energy while the sun is low (below the plan's low-sun elevation).
+    /// Energy offered while the sun is low (below the plan's low-sun elevation).
     LowSun,
-    /// Least unmet load over the year (a plan with [load] and a battery model).
+    /// Fewest days short, then least unmet load, then most winter energy offered (a plan
+    /// with [load] and a battery model; its default).
     Unmet,
 }
 
@@ -234,6 +243,7 @@ impl Cli {
                 criterion: self.demo.by.map(Into::into),
                 out: self.demo.out,
                 hourly: self.demo.hourly,
+                wiring: self.demo.wiring,
                 quiet: self.demo.quiet,
             }),
             Some(Command::Rank(a)) => Request::Rank(RankRequest {
@@ -246,6 +256,7 @@ impl Cli {
                 criterion: a.output.by.map(Into::into),
                 out: a.output.out,
                 hourly: a.output.hourly,
+                wiring: a.output.wiring,
                 quiet: a.output.quiet,
             }),
             Some(Command::Check(a)) => Request::Check(if a.plan.as_os_str() == "demo" {
@@ -259,9 +270,16 @@ impl Cli {
                 } else {
                     PlanSource::File(a.plan)
                 },
-                target: match (a.module_type, a.layout, a.at) {
-                    (_, Some(layout), Some(at)) => CurveTarget::Layout { layout, at },
-                    (module_type, _, _) => CurveTarget::Module {
+                target: match (a.module_type, a.layout, a.rank, a.at) {
+                    (_, Some(layout), _, Some(at)) => CurveTarget::Layout {
+                        layout: LayoutRef::Id(layout),
+                        at,
+                    },
+                    (_, None, Some(rank), Some(at)) => CurveTarget::Layout {
+                        layout: LayoutRef::Rank(rank),
+                        at,
+                    },
+                    (module_type, _, _, _) => CurveTarget::Module {
                         module_type,
                         irradiance_w_m2: a.irradiance_w_m2,
                         cell_temp_c: a.cell_temp_c,

@@ -4,7 +4,7 @@
 use std::fmt::Write as _;
 
 use crate::commands::load::load;
-use crate::commands::{CurveRequest, CurveTarget, Outcome};
+use crate::commands::{CurveRequest, CurveTarget, LayoutRef, Outcome};
 use crate::design::candidates::candidate_layouts;
 use crate::design::rules::design_temperatures;
 use crate::error::Error;
@@ -117,19 +117,61 @@ pub fn curve(r: &CurveRequest) -> Result<Outcome, Error> {
             let plan = &loaded.plan;
             let temps = design_temperatures(plan, &loaded.weather);
             let candidates = candidate_layouts(plan, &temps)?;
-            let chosen = match layout.parse::<usize>() {
-                Ok(n) if n >= 1 && n <= candidates.layouts.len() => &candidates.layouts[n - 1],
-                _ => candidates
+            let chosen = match layout {
+                LayoutRef::Id(name) => candidates
                     .layouts
                     .iter()
-                    .find(|l| &l.code == layout || l.label.as_deref() == Some(layout.as_str()))
+                    .find(|l| &l.id == name)
+                    .or_else(|| {
+                        candidates.layouts.iter().find(|l| {
+                            &l.code == name || l.label.as_deref() == Some(name.as_str())
+                        })
+                    })
                     .ok_or_else(|| {
                         Error::Usage(format!(
-                            "--layout {layout:?} is neither a number 1..={} nor a layout code or name of the plan",
-                            candidates.layouts.len()
+                            "--layout {} is not a layout of the plan: give its id as the reports print it ({}), its code or its name, or use --rank N",
+                            crate::io::terminal::quoted(name),
+                            id_range(&candidates.layouts)
                         ))
                     })?,
+                LayoutRef::Rank(n) => {
+                    let ranked = crate::commands::rank::simulate_and_rank(
+                        &r.plan,
+                        None,
+                        crate::sim::year::RunOptions::default(),
+                    )?;
+                    let id = ranked
+                        .outcomes
+                        .iter()
+                        .find(|o| o.rank == Some(*n))
+                        .map(|o| o.layout.id.clone())
+                        .ok_or_else(|| {
+                            let count = ranked.outcomes.iter().filter(|o| o.rank.is_some()).count();
+                            Error::Usage(format!(
+                                "--rank {n}: the plan has {count} ranked layout{}",
+                                if count == 1 { "" } else { "s" }
+                            ))
+                        })?;
+                    candidates
+                        .layouts
+                        .iter()
+                        .find(|l| l.id == id)
+                        .ok_or_else(|| Error::Usage(format!("layout {id} is not a candidate")))?
+                }
             };
+            let rejected: Vec<String> = crate::design::rules::check_layout(plan, chosen, &temps)
+                .into_iter()
+                .filter(|f| f.severity == crate::design::rules::Severity::Reject)
+                .map(|f| format!("{}: {}", f.rule, f.message))
+                .collect();
+            if !rejected.is_empty() && !r.csv {
+                let _ = writeln!(
+                    out,
+                    "note: {} is rejected by the limits and never ranked ({}); its curve is shown for study only",
+                    chosen.id,
+                    rejected.join("; ")
+                );
+            }
             let k = (0..loaded.weather.len())
                 .find(|&k| &loaded.weather.stamp_text(k) == at)
                 .ok_or_else(|| {
@@ -143,7 +185,8 @@ pub fn curve(r: &CurveRequest) -> Result<Outcome, Error> {
             if !r.csv {
                 let _ = writeln!(
                     out,
-                    "layout {} at {at} (weather line {}), as each controller input sees it (cables included)",
+                    "layout {} {} at {at} (weather line {}), as each controller input sees it (cables included)",
+                    chosen.id,
                     chosen.display_name(),
                     loaded.weather.source_line.get(k).copied().unwrap_or(0)
                 );
@@ -189,4 +232,21 @@ fn print_array(out: &mut String, label: &str, curve: &ArrayCurve, points: usize,
         let _ = writeln!(out, "  {:>9} {:>9} {:>10}", "V", "A", "W");
     }
     print_points(out, label, &pts, csv);
+}
+
+/// `L1–L6, E1–E40` for an error message.
+fn id_range(layouts: &[crate::input::layout::Layout]) -> String {
+    let span = |prefix: &str| {
+        let n = layouts.iter().filter(|l| l.id.starts_with(prefix)).count();
+        match n {
+            0 => None,
+            1 => Some(format!("{prefix}1")),
+            _ => Some(format!("{prefix}1–{prefix}{n}")),
+        }
+    };
+    [span("L"), span("E")]
+        .into_iter()
+        .flatten()
+        .collect::<Vec<_>>()
+        .join(", ")
 }

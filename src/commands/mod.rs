@@ -46,6 +46,8 @@ pub struct RankRequest {
     pub out: Option<PathBuf>,
     /// Also write hourly.csv.
     pub hourly: bool,
+    /// List the wiring of every candidate in the report.
+    pub wiring: bool,
     pub quiet: bool,
 }
 
@@ -74,7 +76,16 @@ pub enum CurveTarget {
         cell_temp_c: f64,
     },
     /// A layout's array at one weather interval (its stamp as written in the file).
-    Layout { layout: String, at: String },
+    Layout { layout: LayoutRef, at: String },
+}
+
+/// How a command names one layout.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum LayoutRef {
+    /// Its id (`L1`, `E3`), code or name.
+    Id(String),
+    /// Its rank with the plan's default criterion (1 = best).
+    Rank(usize),
 }
 
 /// `wirerank curve`.

@@ -44,7 +44,39 @@ pub struct Layout {
     pub mixed_orientation: bool,
 }
 
+/// One module's place in a layout: which controller input, which string (1-based), which
+/// position along the string (1-based, from the string's first module), and the module's
+/// id and orientation group. What an installer builds from.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct WiringRow {
+    pub input: String,
+    pub string: usize,
+    pub position: usize,
+    pub module: String,
+    pub group: String,
+}
+
 impl Layout {
+    /// Every wired module's place, input by input and string by string.
+    pub fn wiring_rows(&self, plan: &Plan) -> Vec<WiringRow> {
+        let mut rows = Vec::with_capacity(self.modules_used);
+        for w in &self.inputs {
+            for (si, st) in w.strings.iter().enumerate() {
+                for (pi, &m) in st.iter().enumerate() {
+                    let module = &plan.modules[m];
+                    rows.push(WiringRow {
+                        input: plan.controllers[w.controller].id.clone(),
+                        string: si + 1,
+                        position: pi + 1,
+                        module: module.id.clone(),
+                        group: plan.groups[module.group].id.clone(),
+                    });
+                }
+            }
+        }
+        rows
+    }
+
     /// The wiring with the order of modules in a string and of strings on an input ignored
     /// (neither changes the electrical result): used to spot the same layout reached twice.
     pub fn canonical(&self) -> Vec<(usize, Vec<Vec<usize>>)> {

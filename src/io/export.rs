@@ -34,6 +34,7 @@ pub const SUMMARY_CSV: &str = "summary.csv";
 pub const LOSSES_CSV: &str = "losses.csv";
 pub const HOURLY_CSV: &str = "hourly.csv";
 pub const DIFFERENCES_CSV: &str = "differences.csv";
+pub const WIRING_CSV: &str = "wiring.csv";
 pub const PROVENANCE_TXT: &str = "provenance.txt";
 
 /// Columns of monthly.csv, in order.
@@ -90,6 +91,8 @@ pub const LOSSES_COLUMNS: [&str; 5] = ["id", "layout", "step", "energy_kwh", "sh
 /// Columns of differences.csv, in order: each ranked layout's difference from the
 /// recommended one by cause (kWh a year; the causes add up to the delivered difference).
 pub const DIFFERENCES_COLUMNS: [&str; 4] = ["id", "layout", "cause", "difference_kwh"];
+/// Columns of wiring.csv, in order: every module of every candidate layout, where it goes.
+pub const WIRING_COLUMNS: [&str; 6] = ["id", "input", "string", "position", "module", "group"];
 /// Columns of hourly.csv, in order.
 pub const HOURLY_COLUMNS: [&str; 8] = [
     "id",
@@ -176,6 +179,12 @@ pub fn write_outputs(
             differences_frame(r)
                 .and_then(csv_bytes)
                 .map_err(polars_error(DIFFERENCES_CSV))?,
+        ),
+        (
+            WIRING_CSV.into(),
+            wiring_frame(r)
+                .and_then(csv_bytes)
+                .map_err(polars_error(WIRING_CSV))?,
         ),
     ];
     if opts.hourly {
@@ -347,7 +356,7 @@ fn monthly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
         };
         for m in 0..12 {
             id.push(o.layout.id.clone());
-            layout.push(o.layout.display_name());
+            layout.push(safe_cell(&o.layout.display_name()));
             rank.push(o.rank.map_or(0, |k| k as i64));
             month.push(m as i64 + 1);
             energy.push(s.delivered_kwh[m]);
@@ -420,8 +429,8 @@ fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
             ""
         });
         rank.push(o.rank.map(|k| k as i64));
-        layout.push(o.layout.display_name());
-        code.push(o.layout.code.clone());
+        layout.push(safe_cell(&o.layout.display_name()));
+        code.push(safe_cell(&o.layout.code));
         status.push(if o.rank.is_some() {
             "ranked"
         } else {
@@ -444,8 +453,8 @@ fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
         battery.push(e.map(|e| battery_cells(r, e, None)));
         modules.push(o.layout.modules_used as i64);
         mixed.push(o.layout.mixed_orientation);
-        reasons.push(findings(o, Severity::Reject));
-        warnings.push(findings(o, Severity::Warn));
+        reasons.push(safe_cell(&findings(o, Severity::Reject)));
+        warnings.push(safe_cell(&findings(o, Severity::Warn)));
         // On every row, so that a row copied on its own still carries them.
         cautions.push(Some(cautions_one_line()));
     }
@@ -495,7 +504,7 @@ fn losses_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
         rows.push((DELIVERED_STEP, e.annual_delivered_kwh()));
         for (s, kwh) in rows {
             id.push(o.layout.id.clone());
-            layout.push(o.layout.display_name());
+            layout.push(safe_cell(&o.layout.display_name()));
             step.push(s);
             energy.push(kwh);
             // No share of nothing: a layout whose modules saw no light gets empty cells.
@@ -515,12 +524,57 @@ fn losses_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     )
 }
 
+fn wiring_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
+    let plan = &r.loaded.plan;
+    let (mut id, mut input, mut string, mut position, mut module, mut group) = (
+        Vec::new(),
+        Vec::new(),
+        Vec::new(),
+        Vec::new(),
+        Vec::new(),
+        Vec::new(),
+    );
+    for o in &r.outcomes {
+        for row in o.layout.wiring_rows(plan) {
+            id.push(o.layout.id.clone());
+            input.push(safe_cell(&row.input));
+            string.push(row.string as i64);
+            position.push(row.position as i64);
+            module.push(safe_cell(&row.module));
+            group.push(safe_cell(&row.group));
+        }
+    }
+    let c = &WIRING_COLUMNS;
+    frame(
+        c,
+        vec![
+            col(c[0], id),
+            col(c[1], input),
+            col(c[2], string),
+            col(c[3], position),
+            col(c[4], module),
+            col(c[5], group),
+        ],
+    )
+}
+
+/// User text for a CSV cell that a spreadsheet program will not read as a formula: a text
+/// starting with `=`, `+`, `-`, `@`, a tab or a carriage return gets a leading `'`
+/// (common practice against formula injection, no source).
+pub fn safe_cell(s: &str) -> String {
+    if s.starts_with(['=', '+', '-', '@', '\t', '\r']) {
+        format!("'{s}")
+    } else {
+        s.to_string()
+    }
+}
+
 fn differences_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     let (mut id, mut layout, mut cause, mut kwh) = (Vec::new(), Vec::new(), Vec::new(), Vec::new());
     for o in ranked(r) {
         for (c, v) in &o.difference {
             id.push(o.layout.id.clone());
-            layout.push(o.layout.display_name());
+            layout.push(safe_cell(&o.layout.display_name()));
             cause.push(c.key());
             kwh.push(*v);
         }
@@ -549,7 +603,7 @@ fn hourly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
         let name = o.layout.display_name();
         for (row, stamp) in e.hourly.iter().zip(&stamps) {
             id.push(o.layout.id.clone());
-            layout.push(name.clone());
+            layout.push(safe_cell(&name));
             time.push(stamp.clone());
             potential.push(row.potential_w as f64);
             available.push(row.available_w as f64);

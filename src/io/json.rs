@@ -113,6 +113,13 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                     "parallel": w.parallel(),
                     "strings": w.strings.iter().map(|s| s.iter().map(|&m| plan.modules[m].id.clone()).collect::<Vec<_>>()).collect::<Vec<_>>(),
                 })).collect::<Vec<_>>(),
+                "wiring": o.layout.wiring_rows(plan).iter().map(|w| json!({
+                    "input": w.input,
+                    "string": w.string,
+                    "position": w.position,
+                    "module": w.module,
+                    "group": w.group,
+                })).collect::<Vec<_>>(),
                 "score_kwh": o.score_kwh.map(r3),
                 "offered_kwh": Value::Null,
                 "delivered_kwh": Value::Null,

@@ -13,7 +13,7 @@ use crate::input::Loaded;
 use crate::results::explain::difference_line;
 use crate::results::light::GroupMonthly;
 use crate::results::rank::LayoutOutcome;
-use crate::results::recommend::TIE_BAND_FRAC;
+use crate::results::recommend::{TIE_BAND_FRAC, UNMET_TIE_FRAC_OF_LOAD};
 use crate::results::uncertainty::empirical_variability;
 use crate::results::weather_summary::WeatherSummary;
 use crate::results::{CheckResult, RankResult, ShadeResult};
@@ -25,7 +25,7 @@ use crate::weather_gen::synth::MONTH_NAMES;
 const CAUTIONS_SHORT: &str = "Caution: DC arrays are live whenever lit; follow your local electrical code and have a licensed professional check the design (full cautions at the end).";
 
 /// The note a plan with a battery model but no load gets.
-pub const BATTERY_WITHOUT_LOAD: &str = "note: the plan has a battery model but no [load]: nothing draws from the battery, so it stays full and turns most of the harvest away; the ranking uses the energy offered, and delivered energy is what the battery could still take";
+pub const BATTERY_WITHOUT_LOAD: &str = "note: the plan has a battery model but no [load]: nothing draws from the battery, so once it is full it turns the harvest away; the ranking uses the energy offered, and delivered energy is what the battery could still take";
 
 const MONTHS: [&str; 12] = [
     "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec",
@@ -48,13 +48,21 @@ fn site_header(out: &mut String, l: &Loaded) {
     );
 }
 
-/// The ranking table, the rejected layouts with their reasons, the loss steps of the ranked
-/// layouts, the light on each orientation and the cautions.
+/// The ranking report with the wiring list of the recommended layout and of the plan's
+/// listed layouts.
 pub fn ranking(r: &RankResult) -> String {
+    ranking_with(r, false)
+}
+
+/// The ranking report: the decision, the ranked and rejected layouts with their reasons,
+/// the wiring lists (of every candidate when `wiring_all`), P50/P90, the winter outlook,
+/// monthly energy, the light on each orientation and the cautions.
+pub fn ranking_with(r: &RankResult, wiring_all: bool) -> String {
     let t = RankingText::new(r);
     let mut out = String::new();
     t.header(&mut out);
     t.recommendation(&mut out);
+    t.wiring(&mut out, wiring_all);
     t.table(&mut out);
     t.rejected(&mut out);
     t.warnings(&mut out);
@@ -179,15 +187,85 @@ impl<'a> RankingText<'a> {
             }
         }
         if rec.tie {
+            let band = match rec.criterion {
+                crate::results::rank::Criterion::Unmet => format!(
+                    "the same days short and unmet load within {:.1} % of the year's load",
+                    UNMET_TIE_FRAC_OF_LOAD * 100.0
+                ),
+                _ => format!("within {:.0} %", TIE_BAND_FRAC * 100.0),
+            };
             let _ = writeln!(
                 out,
-                "  Tie: the leaders are closer on {} than the model can tell apart (within {:.0} %){}",
+                "  Tie: the leaders are closer on {} than the model can tell apart ({band}){}",
                 rec.criterion.short(),
-                TIE_BAND_FRAC * 100.0,
                 rec.tie_break
                     .as_ref()
                     .map_or(String::new(), |t| format!("; broken by {t}"))
             );
+        }
+        let _ = writeln!(out);
+    }
+
+    /// Module by module: which modules form each string on each controller input, for the
+    /// recommended layout, then the plan's other listed layouts (every candidate with
+    /// `all`).
+    fn wiring(&self, out: &mut String, all: bool) {
+        let plan = &self.r.loaded.plan;
+        let rec = self.r.recommended();
+        let mut shown: Vec<&LayoutOutcome> = rec.into_iter().collect();
+        let listed = |o: &&LayoutOutcome| all || o.layout.id.starts_with('L');
+        shown.extend(
+            self.r
+                .outcomes
+                .iter()
+                .filter(|o| Some(o.layout.id.as_str()) != rec.map(|x| x.layout.id.as_str()))
+                .filter(listed),
+        );
+        if shown.is_empty() {
+            return;
+        }
+        let _ = writeln!(
+            out,
+            "Wiring, module by module (strings listed from their first module):"
+        );
+        for o in shown {
+            let mark = if Some(o.layout.id.as_str()) == rec.map(|x| x.layout.id.as_str()) {
+                " — the layout to build"
+            } else if o.rank.is_none() {
+                " — rejected"
+            } else {
+                ""
+            };
+            let _ = writeln!(out, "  {} {}{mark}", o.layout.id, o.layout.display_name());
+            let rows = o.layout.wiring_rows(plan);
+            let mut k = 0;
+            while k < rows.len() {
+                let (input, string) = (&rows[k].input, rows[k].string);
+                let mut modules = Vec::new();
+                let mut groups: Vec<&str> = Vec::new();
+                while k < rows.len() && &rows[k].input == input && rows[k].string == string {
+                    modules.push(rows[k].module.as_str());
+                    if !groups.contains(&rows[k].group.as_str()) {
+                        groups.push(&rows[k].group);
+                    }
+                    k += 1;
+                }
+                let _ = writeln!(
+                    out,
+                    "    {input} string {string}: {}   ({})",
+                    modules.join(" – "),
+                    groups.join(" + ")
+                );
+            }
+            let unused: Vec<&str> = plan
+                .modules
+                .iter()
+                .filter(|m| !rows.iter().any(|r| r.module == m.id))
+                .map(|m| m.id.as_str())
+                .collect();
+            if !unused.is_empty() {
+                let _ = writeln!(out, "    not wired: {}", unused.join(", "));
+            }
         }
         let _ = writeln!(out);
     }
@@ -259,7 +337,7 @@ impl<'a> RankingText<'a> {
                     s.annual_low_sun_delivered_kwh()
                 ),
                 o.energy.as_ref().map_or(0.0, |e| e.awake_h.iter().sum::<f64>()),
-                notes(o, plan.modules.len()).join(", ")
+                self.notes_with_twins(o).join(", ")
             );
             if !o.difference.is_empty() {
                 if let Some(id) = rec_id {
@@ -275,6 +353,27 @@ impl<'a> RankingText<'a> {
             "  → = the layout to build; energies in kWh a year. offered = what the controllers could put out; delivered = what the battery and the load took (a full battery turns the rest away); worst = the month with the least offered; low-sun = sun below {:.0}°",
             plan.model.low_sun_elevation_deg
         );
+    }
+
+    /// The notes column, and the other candidates with the same code (their wiring lists
+    /// say what differs).
+    fn notes_with_twins(&self, o: &LayoutOutcome) -> Vec<String> {
+        let mut n = notes(o, self.r.loaded.plan.modules.len());
+        let twins: Vec<&str> = self
+            .r
+            .outcomes
+            .iter()
+            .filter(|x| x.layout.code == o.layout.code && x.layout.id != o.layout.id)
+            .map(|x| x.layout.id.as_str())
+            .take(3)
+            .collect();
+        if !twins.is_empty() {
+            n.push(format!(
+                "same code as {} (other modules per string: see --wiring)",
+                twins.join(", ")
+            ));
+        }
+        n
     }
 
     /// Rejected layouts with the rules they break.
@@ -513,7 +612,7 @@ pub fn check(r: &CheckResult) -> String {
         if !rejected {
             passed += 1;
         }
-        let _ = writeln!(out, "{verdict}  {}", l.display_name());
+        let _ = writeln!(out, "{verdict}  {:<4} {}", l.id, l.display_name());
         for f in findings {
             let mark = if f.severity == Severity::Reject {
                 "✗"
@@ -524,7 +623,12 @@ pub fn check(r: &CheckResult) -> String {
         }
     }
     let _ = writeln!(out);
-    let _ = writeln!(out, "{passed} of {n} layouts pass the hard limits");
+    let _ = writeln!(
+        out,
+        "{passed} of {n} layout{} pass{} the hard limits",
+        if n == 1 { "" } else { "s" },
+        if n == 1 { "es" } else { "" }
+    );
     let _ = writeln!(out);
     let _ = writeln!(out, "{CAUTIONS}");
     out
@@ -882,4 +986,10 @@ pub fn summary_text(w: &Weather, s: &WeatherSummary) -> String {
         );
     }
     out
+}
+
+/// User text for a message: in quotes, with control characters shown as escapes so that
+/// nothing a plan contains can drive the terminal.
+pub fn quoted(s: &str) -> String {
+    format!("{:?}", s)
 }

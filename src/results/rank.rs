@@ -133,7 +133,8 @@ pub fn compare(a: &LayoutSummary, b: &LayoutSummary, c: Criterion) -> std::cmp::
 }
 
 /// Sets `rank` and `score_kwh` on every passing layout and sorts: ranked first (best first),
-/// then rejected ones in plan order. Ties break by annual offered energy, then by id.
+/// then rejected ones in plan order. Ties break by annual offered energy, then by name,
+/// then by candidate order.
 pub fn rank(outcomes: &mut Vec<LayoutOutcome>, c: Criterion) {
     for o in outcomes.iter_mut() {
         o.score_kwh = o.summary.as_ref().map(|s| score_kwh(s, c));

@@ -255,15 +255,60 @@ fn curve_of_a_module_at_stc_reproduces_the_datasheet() {
 fn curve_of_a_shaded_string_shows_two_maxima() {
     // The demo shades the lower substring of roof-1 on winter mornings (08–10 h): the 2s4p
     // layout's array then has a second, lower hump (bypass diode conducting).
-    let out = wirerank(&["curve", "demo", "--layout", "1", "--at", "2025-01-15T09:00"]);
+    let out = wirerank(&[
+        "curve",
+        "demo",
+        "--layout",
+        "L1",
+        "--at",
+        "2025-01-15T09:00",
+    ]);
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
     let s = text(&out.stdout);
     assert!(s.contains("2 local power maxima"), "{s}");
+    // The same layout by its rank (the recommended L1 ranks first on the demo).
+    let by_rank = wirerank(&["curve", "demo", "--rank", "1", "--at", "2025-01-15T09:00"]);
+    assert_eq!(by_rank.status.code(), Some(0), "{}", text(&by_rank.stderr));
+    assert!(
+        text(&by_rank.stdout).contains("layout L1 "),
+        "{}",
+        text(&by_rank.stdout)
+    );
+}
+
+#[test]
+fn curve_of_a_rejected_layout_says_so_and_a_bare_number_is_refused() {
+    // L2 of the demo (4s2p) breaks cold-voc.
+    let out = wirerank(&[
+        "curve",
+        "demo",
+        "--layout",
+        "L2",
+        "--at",
+        "2025-01-15T09:00",
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    assert!(
+        text(&out.stdout).contains("L2 is rejected"),
+        "{}",
+        text(&out.stdout)
+    );
+    let out = wirerank(&["curve", "demo", "--layout", "1", "--at", "2025-01-15T09:00"]);
+    assert_eq!(out.status.code(), Some(2));
+    let e = text(&out.stderr);
+    assert!(e.contains("L1–L6") && e.contains("--rank"), "{e}");
 }
 
 #[test]
 fn curve_rejects_an_unknown_stamp_naming_it() {
-    let out = wirerank(&["curve", "demo", "--layout", "1", "--at", "2025-13-01T09:00"]);
+    let out = wirerank(&[
+        "curve",
+        "demo",
+        "--layout",
+        "L1",
+        "--at",
+        "2025-13-01T09:00",
+    ]);
     assert_eq!(out.status.code(), Some(2));
     assert!(text(&out.stderr).contains("2025-13-01T09:00"));
 }
@@ -286,7 +331,7 @@ fn check_lists_every_layout_and_exits_1_when_none_passes() {
     assert_eq!(out.status.code(), Some(0));
     let s = text(&out.stdout);
     assert!(
-        s.contains("reject  mppt:4s2p") && s.contains("4 of 6 layouts pass"),
+        s.contains("reject  L2   mppt:4s2p") && s.contains("4 of 6 layouts pass"),
         "{s}"
     );
     let out = wirerank(&[

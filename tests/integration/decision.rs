@@ -200,7 +200,10 @@ fn several_years_of_weather_report_per_year_figures() {
         .and_then(|o| o.summary.as_ref())
         .unwrap();
     let ratio = b.annual_offered_kwh() / a.annual_offered_kwh();
-    assert!((0.85..0.97).contains(&ratio), "per-year offered ratio {ratio}");
+    assert!(
+        (0.85..0.97).contains(&ratio),
+        "per-year offered ratio {ratio}"
+    );
     let text = wirerank::io::terminal::ranking(&two);
     assert!(text.contains("the mean of the 2.0 years"), "{text}");
 }

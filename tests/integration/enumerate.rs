@@ -165,3 +165,35 @@ fn forty_modules_on_four_inputs_stay_tractable() {
     assert!(!found.is_empty() && found.len() <= MAX_CANDIDATES);
     assert!(found.iter().all(|l| l.modules_used == 40));
 }
+
+/// Every candidate of the 20-module enumeration has its own id, even where codes repeat, and
+/// layouts that share a code differ in their wiring lists.
+/// Source: definition (ids are the join key of every file; common practice, no source).
+#[test]
+fn ids_are_unique_on_the_20_module_enumeration_and_shared_codes_differ_in_wiring() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plan_20_modules.toml");
+    let text = std::fs::read_to_string(&path).expect("fixture");
+    let p = parse_plan(&text, "plan_20_modules.toml", &path).expect("parses");
+    let temps = DesignTemperatures {
+        min_air_c: -20.0,
+        max_air_c: 34.0,
+    };
+    let c = wirerank::design::candidates::candidate_layouts(&p, &temps).expect("tractable");
+    assert!(c.layouts.len() > 50, "{} candidates", c.layouts.len());
+    let ids: std::collections::BTreeSet<&str> = c.layouts.iter().map(|l| l.id.as_str()).collect();
+    assert_eq!(ids.len(), c.layouts.len(), "ids are unique");
+    assert!(ids.iter().all(|id| id.is_ascii()), "ASCII-safe join keys");
+    let mut shared = 0;
+    for (i, a) in c.layouts.iter().enumerate() {
+        for b in &c.layouts[i + 1..] {
+            if a.code == b.code {
+                shared += 1;
+                assert_ne!(a.wiring_rows(&p), b.wiring_rows(&p), "{} {}", a.id, b.id);
+            }
+        }
+    }
+    assert!(
+        shared > 0,
+        "the fixture repeats codes (it exists to test that)"
+    );
+}

@@ -14,7 +14,7 @@ use wirerank::error::Error;
 use wirerank::io::export::{
     write_outputs, ExportOptions, DELIVERED_STEP, DIFFERENCES_COLUMNS, DIFFERENCES_CSV,
     HOURLY_COLUMNS, HOURLY_CSV, LOSSES_COLUMNS, LOSSES_CSV, MONTHLY_COLUMNS, MONTHLY_CSV,
-    POTENTIAL_STEP, PROVENANCE_TXT, SUMMARY_COLUMNS, SUMMARY_CSV,
+    POTENTIAL_STEP, PROVENANCE_TXT, SUMMARY_COLUMNS, SUMMARY_CSV, WIRING_COLUMNS, WIRING_CSV,
 };
 use wirerank::results::rank::Criterion;
 use wirerank::results::RankResult;
@@ -131,6 +131,7 @@ fn writes_every_file_and_leaves_no_temporaries() {
         SUMMARY_CSV,
         LOSSES_CSV,
         DIFFERENCES_CSV,
+        WIRING_CSV,
         HOURLY_CSV,
         PROVENANCE_TXT,
         "monthly_energy.png",
@@ -168,6 +169,7 @@ fn csv_columns_match_the_code_and_the_documentation() {
         (LOSSES_CSV, &LOSSES_COLUMNS[..]),
         (HOURLY_CSV, &HOURLY_COLUMNS[..]),
         (DIFFERENCES_CSV, &DIFFERENCES_COLUMNS[..]),
+        (WIRING_CSV, &WIRING_COLUMNS[..]),
     ] {
         assert_eq!(names(&read_csv(file)), cols, "{file} header");
         assert_eq!(documented_columns(file), cols, "{file} in output-files.md");
@@ -570,4 +572,29 @@ fn without_interval_rows_the_gain_map_is_skipped_and_hourly_csv_refused() {
     assert!(files.contains("monthly_energy.png") && files.contains("losses.svg"));
     let p = fs::read_to_string(out.join(PROVENANCE_TXT)).expect("provenance");
     assert!(p.contains("gain_map: not drawn"), "{p}");
+}
+
+/// wiring.csv lists every wired module of every candidate exactly once, numbered from 1
+/// along each string, and every id is unique.
+/// Source: definition (a layout wires each module at most once; common practice, no source).
+#[test]
+fn wiring_lists_every_used_module_exactly_once_per_layout() {
+    let w = read_csv(WIRING_CSV);
+    let (ids, modules) = (texts(&w, "id"), texts(&w, "module"));
+    let positions = w
+        .column("position")
+        .expect("position")
+        .i64()
+        .expect("integers")
+        .into_no_null_iter()
+        .collect::<Vec<_>>();
+    for o in &demo().outcomes {
+        let mine: Vec<usize> = (0..ids.len()).filter(|&k| ids[k] == o.layout.id).collect();
+        assert_eq!(mine.len(), o.layout.modules_used, "{}", o.layout.id);
+        let mut seen: Vec<&str> = mine.iter().map(|&k| modules[k].as_str()).collect();
+        seen.sort_unstable();
+        seen.dedup();
+        assert_eq!(seen.len(), mine.len(), "{}: a module twice", o.layout.id);
+        assert!(mine.iter().all(|&k| positions[k] >= 1));
+    }
 }
