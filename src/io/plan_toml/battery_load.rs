@@ -10,7 +10,36 @@ use crate::input::plan::{Battery, Consumption};
 use super::ctx::Ctx;
 use super::raw::{RawBattery, RawLoad, S};
 
-pub(super) fn validate_battery(ctx: &Ctx, b: &RawBattery) -> Result<Battery, PlanError> {
+/// `[battery]`, which every plan needs.
+pub(super) fn require_battery(ctx: &Ctx, raw: Option<&RawBattery>) -> Result<Battery, PlanError> {
+    match raw {
+        Some(b) => validate_battery(ctx, b),
+        None => Err(PlanError::Missing {
+            file: ctx.file.clone(),
+            key: "battery".into(),
+            hint: "add [battery] with nominal_v = 12, 24 or 48".into(),
+        }),
+    }
+}
+
+/// `[load]`, if given; it needs the battery model (`battery.capacity_ah`).
+pub(super) fn validate_optional_load(
+    ctx: &Ctx,
+    raw: Option<&S<RawLoad>>,
+    battery: &Battery,
+) -> Result<Option<Consumption>, PlanError> {
+    let consumption = raw.map(|l| validate_load(ctx, l)).transpose()?;
+    if consumption.is_some() && battery.model.is_none() {
+        return Err(ctx.err(
+            raw.map_or(0..0, |l| l.span()),
+            "battery.capacity_ah",
+            "[load] needs a battery model: give battery.capacity_ah (and chemistry)".into(),
+        ));
+    }
+    Ok(consumption)
+}
+
+fn validate_battery(ctx: &Ctx, b: &RawBattery) -> Result<Battery, PlanError> {
     use crate::physics::battery::{split_round_trip, BatteryParams, BatterySpec, Chemistry};
     let nominal_v = ctx.range(&b.nominal_v, "battery.nominal_v", 6.0, 60.0)?;
     // Common practice, no source: lead-acid charging at 2.267 V per 2 V cell (13.6 V on 12 V).
@@ -100,7 +129,7 @@ pub(super) fn validate_battery(ctx: &Ctx, b: &RawBattery) -> Result<Battery, Pla
     })
 }
 
-pub(super) fn hours24(ctx: &Ctx, v: &S<Vec<f64>>, key: &str) -> Result<[f64; 24], PlanError> {
+fn hours24(ctx: &Ctx, v: &S<Vec<f64>>, key: &str) -> Result<[f64; 24], PlanError> {
     let x = v.get_ref();
     if x.len() != 24 {
         return Err(ctx.err(
@@ -126,7 +155,7 @@ pub(super) fn hours24(ctx: &Ctx, v: &S<Vec<f64>>, key: &str) -> Result<[f64; 24]
     Ok(out)
 }
 
-pub(super) fn validate_load(ctx: &Ctx, l: &S<RawLoad>) -> Result<Consumption, PlanError> {
+fn validate_load(ctx: &Ctx, l: &S<RawLoad>) -> Result<Consumption, PlanError> {
     use crate::physics::battery::LoadProfile;
     let r = l.get_ref();
     let weekday: [[f64; 24]; 12] = match (&r.daily_wh, &r.monthly_wh) {

@@ -61,7 +61,19 @@ pub(super) fn cross_section(
     }
 }
 
-pub(super) fn validate_cables(ctx: &Ctx, c: &RawCables) -> Result<Cables, PlanError> {
+/// `[cables]`, which every plan needs.
+pub(super) fn require_cables(ctx: &Ctx, raw: Option<&RawCables>) -> Result<Cables, PlanError> {
+    match raw {
+        Some(c) => validate_cables(ctx, c),
+        None => Err(PlanError::Missing {
+            file: ctx.file.clone(),
+            key: "cables".into(),
+            hint: "add [cables] with string_lead_length_m and string_lead_mm2".into(),
+        }),
+    }
+}
+
+fn validate_cables(ctx: &Ctx, c: &RawCables) -> Result<Cables, PlanError> {
     let whole = c.string_lead_length_m.span();
     let (cross_section_mm2, awg) = cross_section(
         ctx,

@@ -1,16 +1,65 @@
 //! `[[layout]]` tables: the listed wirings, each as parallel strings of named modules on
-//! each controller input.
+//! each controller input; and the `layouts` and `[enumerate]` switches that ask for every
+//! wiring instead.
 //!
 //! Enumerating every wiring (`layouts = "all"`) happens in `design::candidates`; whether a
 //! layout breaks a limit is `design::rules`.
 
 use crate::error::PlanError;
-use crate::input::plan::{ControllerInput, LayoutSpec, Module};
+use crate::input::plan::{ControllerInput, EnumerateOptions, LayoutSpec, Module};
 
 use super::ctx::Ctx;
-use super::raw::{RawLayout, S};
+use super::raw::{RawEnumerate, RawLayout, S};
 
-pub(super) fn validate_layout(
+/// `layouts`: "all" enumerates every regular wiring, "listed" (the default) compares only
+/// the `[[layout]]` tables.
+pub(super) fn enumerate_all(ctx: &Ctx, raw: Option<&S<String>>) -> Result<bool, PlanError> {
+    match raw {
+        None => Ok(false),
+        Some(v) if v.get_ref() == "all" => Ok(true),
+        Some(v) if v.get_ref() == "listed" => Ok(false),
+        Some(v) => Err(ctx.err(
+            v.span(),
+            "layouts",
+            format!(
+                "layouts = {:?} is not known; use \"all\" (every regular wiring) or \"listed\" (only the [[layout]] tables)",
+                v.get_ref()
+            ),
+        )),
+    }
+}
+
+/// Every `[[layout]]`, in file order; at least one unless `layouts = "all"`.
+pub(super) fn validate_layouts(
+    ctx: &Ctx,
+    raw: &[S<RawLayout>],
+    enumerate_all: bool,
+    modules: &[Module],
+    controllers: &[ControllerInput],
+) -> Result<Vec<LayoutSpec>, PlanError> {
+    let mut layouts = Vec::new();
+    for (k, l) in raw.iter().enumerate() {
+        layouts.push(validate_layout(ctx, k, l, modules, controllers)?);
+    }
+    if layouts.is_empty() && !enumerate_all {
+        return Err(PlanError::Missing {
+            file: ctx.file.clone(),
+            key: "layout".into(),
+            hint: "add [[layout]] tables, or layouts = \"all\" to try every wiring".into(),
+        });
+    }
+    Ok(layouts)
+}
+
+/// `[enumerate]`: both options off unless set.
+pub(super) fn enumerate_options(raw: Option<&RawEnumerate>) -> EnumerateOptions {
+    EnumerateOptions {
+        allow_unused_modules: raw.and_then(|e| e.allow_unused_modules).unwrap_or(false),
+        allow_mixed_orientation: raw.and_then(|e| e.allow_mixed_orientation).unwrap_or(false),
+    }
+}
+
+fn validate_layout(
     ctx: &Ctx,
     k: usize,
     l: &S<RawLayout>,

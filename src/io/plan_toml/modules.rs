@@ -5,15 +5,65 @@
 //! Where a group sits (centre, rows, columns) and its horizon are geometry (`geometry.rs`);
 //! which modules are wired together is in `layouts.rs`.
 
+use std::collections::BTreeMap;
+
 use crate::error::PlanError;
-use crate::input::plan::{Group, ModuleType};
+use crate::input::plan::{Group, Module, ModuleType};
 use crate::physics::diode::{fit_de_soto, Datasheet, BYPASS_DROP_DEFAULT_V};
 use crate::physics::thermal::CellTemperatureModel;
 
 use super::ctx::Ctx;
 use super::raw::{RawGroup, RawModuleType, S};
 
-pub(super) fn validate_module_type(
+/// Every `[module_type.NAME]`, in a stable order (BTreeMap: by id); at least one.
+pub(super) fn validate_module_types(
+    ctx: &Ctx,
+    raw: &BTreeMap<String, S<RawModuleType>>,
+) -> Result<Vec<ModuleType>, PlanError> {
+    let mut module_types = Vec::new();
+    for (id, mt) in raw {
+        module_types.push(validate_module_type(ctx, id, mt)?);
+    }
+    if module_types.is_empty() {
+        return Err(PlanError::Missing {
+            file: ctx.file.clone(),
+            key: "module_type".into(),
+            hint: "add a [module_type.NAME] table with the datasheet values".into(),
+        });
+    }
+    Ok(module_types)
+}
+
+/// Every `[group.NAME]` (at least one) and its modules, numbered `<group>-1`, `<group>-2`, …
+pub(super) fn validate_groups(
+    ctx: &Ctx,
+    raw: &BTreeMap<String, S<RawGroup>>,
+    module_types: &[ModuleType],
+) -> Result<(Vec<Group>, Vec<Module>), PlanError> {
+    let mut groups = Vec::new();
+    let mut modules = Vec::new();
+    for (id, g) in raw {
+        let group = validate_group(ctx, id, g, module_types)?;
+        for n in 1..=group.count {
+            modules.push(Module {
+                id: format!("{id}-{n}"),
+                group: groups.len(),
+                module_type: group.module_type,
+            });
+        }
+        groups.push(group);
+    }
+    if groups.is_empty() {
+        return Err(PlanError::Missing {
+            file: ctx.file.clone(),
+            key: "group".into(),
+            hint: "add a [group.NAME] table (module_type, count, tilt_deg, azimuth_deg)".into(),
+        });
+    }
+    Ok((groups, modules))
+}
+
+fn validate_module_type(
     ctx: &Ctx,
     id: &str,
     m: &S<RawModuleType>,
@@ -53,39 +103,6 @@ pub(super) fn validate_module_type(
     let max_system_v = ctx.above(&r.max_system_v, &k("max_system_v"), 0.0, 2000.0)?;
     let max_series_fuse_a = ctx.above(&r.max_series_fuse_a, &k("max_series_fuse_a"), 0.0, 100.0)?;
 
-    // The datasheet's own consistency, before the fit sees it.
-    if vmp_v >= voc_v {
-        return Err(ctx.err(
-            r.vmp_v.span(),
-            &k("vmp_v"),
-            format!("{} = {vmp_v} must be below voc_v = {voc_v}", k("vmp_v")),
-        ));
-    }
-    if imp_a >= isc_a {
-        return Err(ctx.err(
-            r.imp_a.span(),
-            &k("imp_a"),
-            format!("{} = {imp_a} must be below isc_a = {isc_a}", k("imp_a")),
-        ));
-    }
-    let p_check = vmp_v * imp_a;
-    if (p_check - pmax_w).abs() > 0.03 * pmax_w {
-        return Err(ctx.err(
-            r.pmax_w.span(),
-            &k("pmax_w"),
-            format!("{} = {pmax_w} differs from vmp_v × imp_a = {p_check:.1} by more than 3 %; check the datasheet", k("pmax_w")),
-        ));
-    }
-    let area = length_m * width_m;
-    let eff = pmax_w / (1000.0 * area);
-    if !(0.02..=0.30).contains(&eff) {
-        return Err(ctx.err(
-            r.length_m.span(),
-            &k("length_m"),
-            format!("module area {area:.3} m² gives an STC efficiency of {:.1} %, outside 2..30 %; check length_m and width_m", eff * 100.0),
-        ));
-    }
-
     let datasheet = Datasheet {
         voc_v,
         isc_a,
@@ -95,6 +112,8 @@ pub(super) fn validate_module_type(
         beta_voc_v_k: beta_pct / 100.0 * voc_v,
         cells_in_series: cells,
     };
+    // The datasheet's own consistency, before the fit sees it.
+    check_datasheet(ctx, id, r, &datasheet, pmax_w, length_m * width_m)?;
     let reference = fit_de_soto(&datasheet).map_err(|e| {
         ctx.err(
             m.span(),
@@ -120,7 +139,57 @@ pub(super) fn validate_module_type(
     })
 }
 
-pub(super) fn validate_group(
+/// The datasheet's own consistency: Vmp below Voc, Imp below Isc, Pmax close to Vmp × Imp
+/// and a plausible efficiency for the module's `area` (m²).
+fn check_datasheet(
+    ctx: &Ctx,
+    id: &str,
+    r: &RawModuleType,
+    datasheet: &Datasheet,
+    pmax_w: f64,
+    area: f64,
+) -> Result<(), PlanError> {
+    let k = |name: &str| format!("module_type.{id}.{name}");
+    let (voc_v, isc_a, vmp_v, imp_a) = (
+        datasheet.voc_v,
+        datasheet.isc_a,
+        datasheet.vmp_v,
+        datasheet.imp_a,
+    );
+    if vmp_v >= voc_v {
+        return Err(ctx.err(
+            r.vmp_v.span(),
+            &k("vmp_v"),
+            format!("{} = {vmp_v} must be below voc_v = {voc_v}", k("vmp_v")),
+        ));
+    }
+    if imp_a >= isc_a {
+        return Err(ctx.err(
+            r.imp_a.span(),
+            &k("imp_a"),
+            format!("{} = {imp_a} must be below isc_a = {isc_a}", k("imp_a")),
+        ));
+    }
+    let p_check = vmp_v * imp_a;
+    if (p_check - pmax_w).abs() > 0.03 * pmax_w {
+        return Err(ctx.err(
+            r.pmax_w.span(),
+            &k("pmax_w"),
+            format!("{} = {pmax_w} differs from vmp_v × imp_a = {p_check:.1} by more than 3 %; check the datasheet", k("pmax_w")),
+        ));
+    }
+    let eff = pmax_w / (1000.0 * area);
+    if !(0.02..=0.30).contains(&eff) {
+        return Err(ctx.err(
+            r.length_m.span(),
+            &k("length_m"),
+            format!("module area {area:.3} m² gives an STC efficiency of {:.1} %, outside 2..30 %; check length_m and width_m", eff * 100.0),
+        ));
+    }
+    Ok(())
+}
+
+fn validate_group(
     ctx: &Ctx,
     id: &str,
     g: &S<RawGroup>,
@@ -154,6 +223,32 @@ pub(super) fn validate_group(
     let count = ctx.int_range(&r.count, &k("count"), 1, 200)? as usize;
     let tilt_deg = ctx.range(&r.tilt_deg, &k("tilt_deg"), 0.0, 90.0)?;
     let azimuth_deg = ctx.range(&r.azimuth_deg, &k("azimuth_deg"), 0.0, 360.0)?;
+    let thermal = thermal_model(ctx, id, g, &types[module_type])?;
+    let soiling_frac = match &r.soiling_pct {
+        None => [0.0; 12],
+        Some(v) => ctx.monthly(v, &k("soiling_pct"), 0.0, 100.0, 0.01)?,
+    };
+    Ok(Group {
+        id: id.to_string(),
+        module_type,
+        count,
+        tilt_deg,
+        azimuth_deg,
+        thermal,
+        soiling_frac,
+    })
+}
+
+/// `group.<id>.thermal` (Sandia open rack, glass–polymer, when absent) and the Faiman
+/// coefficients, which are only accepted with `thermal = "faiman"`.
+fn thermal_model(
+    ctx: &Ctx,
+    id: &str,
+    g: &S<RawGroup>,
+    module_type: &ModuleType,
+) -> Result<CellTemperatureModel, PlanError> {
+    let k = |name: &str| format!("group.{id}.{name}");
+    let r = g.get_ref();
     let thermal_name = r
         .thermal
         .as_ref()
@@ -176,7 +271,7 @@ pub(super) fn validate_group(
             )?,
         },
         "noct" => CellTemperatureModel::Noct {
-            noct_c: types[module_type].noct_c,
+            noct_c: module_type.noct_c,
         },
         other => {
             let span = r.thermal.as_ref().map_or(g.span(), |t| t.span());
@@ -204,17 +299,5 @@ pub(super) fn validate_group(
             }
         }
     }
-    let soiling_frac = match &r.soiling_pct {
-        None => [0.0; 12],
-        Some(v) => ctx.monthly(v, &k("soiling_pct"), 0.0, 100.0, 0.01)?,
-    };
-    Ok(Group {
-        id: id.to_string(),
-        module_type,
-        count,
-        tilt_deg,
-        azimuth_deg,
-        thermal,
-        soiling_frac,
-    })
+    Ok(thermal)
 }

@@ -9,7 +9,7 @@ use crate::input::plan::{Module, ModuleType, ShadeRule};
 use super::ctx::Ctx;
 use super::raw::{RawShade, S};
 
-pub(super) fn int_list(
+fn int_list(
     ctx: &Ctx,
     v: &Option<S<Vec<i64>>>,
     key: &str,
@@ -41,7 +41,21 @@ pub(super) fn int_list(
     }
 }
 
-pub(super) fn validate_shade(
+/// Every `[[shade]]` rule, in file order.
+pub(super) fn validate_shades(
+    ctx: &Ctx,
+    raw: &[S<RawShade>],
+    modules: &[Module],
+    types: &[ModuleType],
+) -> Result<Vec<ShadeRule>, PlanError> {
+    let mut shade = Vec::new();
+    for (k, s) in raw.iter().enumerate() {
+        shade.push(validate_shade(ctx, k, s, modules, types)?);
+    }
+    Ok(shade)
+}
+
+fn validate_shade(
     ctx: &Ctx,
     k: usize,
     s: &S<RawShade>,

@@ -1,15 +1,19 @@
 //! The `[site]` and `[model]` sections: the site as the plan states it (coordinates, clock,
 //! design temperatures), and the model options (sky model, low-sun limit, ΔT, P90 inputs).
 //!
+//! The `[weather]` section's file path is resolved here too, against the plan's folder.
+//!
 //! It does not merge the plan's site with the weather file's header (that happens once
 //! the weather is read, in `input::site`), and it does not check the weather file itself.
+
+use std::path::{Path, PathBuf};
 
 use crate::error::PlanError;
 use crate::input::plan::{Albedo, ModelOptions, SiteSpec};
 use crate::physics::sky::{GlassCover, SkyModel};
 
 use super::ctx::Ctx;
-use super::raw::{RawModel, RawSite, S};
+use super::raw::{OneOrMonthly, RawModel, RawSite, RawWeather, S};
 
 pub(super) fn validate_site(ctx: &Ctx, raw: Option<&RawSite>) -> Result<SiteSpec, PlanError> {
     let Some(s) = raw else {
@@ -50,6 +54,39 @@ pub(super) fn validate_site(ctx: &Ctx, raw: Option<&RawSite>) -> Result<SiteSpec
         }
     }
     Ok(site)
+}
+
+/// `site.albedo_frac`: one number for the year or 12 monthly values; 0.2 when absent.
+pub(super) fn validate_albedo(ctx: &Ctx, raw: Option<&RawSite>) -> Result<Albedo, PlanError> {
+    Ok(match raw.and_then(|s| s.albedo_frac.as_ref()) {
+        None => Albedo::Constant(0.2),
+        Some(v) => match v.get_ref() {
+            OneOrMonthly::One(_) => {
+                Albedo::Constant(ctx.monthly(v, "site.albedo_frac", 0.0, 1.0, 1.0)?[0])
+            }
+            OneOrMonthly::Monthly(_) => {
+                Albedo::Monthly(ctx.monthly(v, "site.albedo_frac", 0.0, 1.0, 1.0)?)
+            }
+        },
+    })
+}
+
+/// `weather.file`, taken relative to the plan's folder (`base_dir`); only its emptiness is
+/// checked here, the file itself is read later.
+pub(super) fn weather_path(
+    ctx: &Ctx,
+    raw: &RawWeather,
+    base_dir: &Path,
+) -> Result<PathBuf, PlanError> {
+    let weather_file = raw.file.get_ref();
+    if weather_file.trim().is_empty() {
+        return Err(ctx.err(
+            raw.file.span(),
+            "weather.file",
+            "weather.file is empty; give the weather CSV's path relative to the plan".into(),
+        ));
+    }
+    Ok(base_dir.join(weather_file))
 }
 
 pub(super) fn validate_model(
