@@ -405,6 +405,35 @@ impl UncheckedWeather {
     /// # Errors
     /// One [`WeatherError`] naming the file, line, column and value of the first problem.
     pub fn validate(mut self) -> Result<Weather, WeatherError> {
+        self.check_shape()?;
+        let shift = match self.stamp {
+            StampConvention::Start => 0,
+            StampConvention::End => self.interval_s,
+        };
+        let mut clamps = Clamps::default();
+        // (index of the row after the gap, number of missing intervals)
+        let mut gaps: Vec<(usize, i64)> = Vec::new();
+        for k in 0..self.stamp_s.len() {
+            let missing = self.check_stamp(k)?;
+            if missing > 0 {
+                gaps.push((k, missing));
+            }
+            self.clamp_irradiance(k, shift, &mut clamps)?;
+            self.clamp_diffuse(k, &mut clamps)?;
+            self.check_other_ranges(k)?;
+        }
+        let warnings = clamps.warnings();
+        let mut weather = self.into_weather(shift, warnings);
+        if !gaps.is_empty() {
+            repair_gaps(&mut weather, &gaps, shift);
+        }
+        warn_missing_months(&mut weather);
+        Ok(weather)
+    }
+
+    /// The series as a whole: some rows, an accepted interval, columns of one length, DNI
+    /// and DHI both or neither.
+    fn check_shape(&self) -> Result<(), WeatherError> {
         let file = self.source.clone();
         let n = self.stamp_s.len();
         if n == 0 {
@@ -447,154 +476,161 @@ impl UncheckedWeather {
                 missing: missing.to_string(),
             });
         }
+        Ok(())
+    }
 
-        let shift = match self.stamp {
-            StampConvention::Start => 0,
-            StampConvention::End => interval_s,
-        };
-        let mut negatives: [(usize, f64); 3] = [(0, 0.0); 3];
-        let mut diffuse_clamps = (0usize, 0.0f64);
-        // (index of the row after the gap, number of missing intervals)
-        let mut gaps: Vec<(usize, i64)> = Vec::new();
-
-        for k in 0..n {
-            let line = self.line[k];
-            let stamp = self.stamp_s[k];
-            if stamp.rem_euclid(interval_s) != 0 {
-                return Err(WeatherError::OffGrid {
-                    file,
-                    line,
-                    value: LocalTime(stamp).format(),
-                    interval_min: interval_s / 60,
-                });
-            }
-            if k > 0 {
-                let previous = self.stamp_s[k - 1];
-                let step = stamp - previous;
-                if step == 0 {
-                    return Err(WeatherError::DuplicateStamp {
-                        file,
-                        line,
-                        value: LocalTime(stamp).format(),
-                        first_line: self.line[k - 1],
-                    });
-                }
-                if step < 0 {
-                    return Err(WeatherError::OutOfOrder {
-                        file,
-                        line,
-                        value: LocalTime(stamp).format(),
-                        previous: LocalTime(previous).format(),
-                        previous_line: self.line[k - 1],
-                    });
-                }
-                let missing = step / interval_s - 1;
-                if missing > MAX_FILL_INTERVALS {
-                    return Err(WeatherError::Gap {
-                        file,
-                        line,
-                        value: LocalTime(stamp).format(),
-                        previous: LocalTime(previous).format(),
-                        missing,
-                        max_fill: MAX_FILL_INTERVALS,
-                    });
-                }
-                if missing > 0 {
-                    gaps.push((k, missing));
-                }
-            }
-
-            let day_of_year = LocalTime(stamp - shift).day_of_year() as f64;
-            let dni_max_w_m2 =
-                extraterrestrial_normal_w_m2(day_of_year) + EXTRATERRESTRIAL_ALLOWANCE_W_M2;
-            let irradiance: [(&str, Option<&mut Vec<f64>>, f64); 3] = [
-                ("ghi_w_m2", Some(&mut self.ghi_w_m2), f64::INFINITY),
-                ("dni_w_m2", self.dni_w_m2.as_mut(), dni_max_w_m2),
-                ("dhi_w_m2", self.dhi_w_m2.as_mut(), f64::INFINITY),
-            ];
-            for (slot, (column, values, max_w_m2)) in irradiance.into_iter().enumerate() {
-                let Some(values) = values else { continue };
-                let value = values[k];
-                check_finite(&file, line, column, value)?;
-                if value < -NEGATIVE_CLAMP_W_M2 {
-                    return Err(WeatherError::NegativeIrradiance {
-                        file,
-                        line,
-                        column: column.to_string(),
-                        value,
-                        tolerance_w_m2: NEGATIVE_CLAMP_W_M2,
-                    });
-                }
-                if value < 0.0 {
-                    negatives[slot].0 += 1;
-                    negatives[slot].1 = negatives[slot].1.min(value);
-                    values[k] = 0.0;
-                }
-                if value > max_w_m2 {
-                    return Err(WeatherError::OutOfRange {
-                        file,
-                        line,
-                        column: column.to_string(),
-                        value,
-                        range: format!("0..={max_w_m2:.0}"),
-                        hint: " W/m² (extraterrestrial normal irradiance that day, plus 10)"
-                            .to_string(),
-                    });
-                }
-            }
-            if let Some(dhi) = self.dhi_w_m2.as_mut() {
-                let ghi = self.ghi_w_m2[k];
-                let excess = dhi[k] - ghi;
-                if excess > DIFFUSE_EXCESS_CLAMP_W_M2 {
-                    return Err(WeatherError::DiffuseAboveGlobal {
-                        file,
-                        line,
-                        dhi_w_m2: dhi[k],
-                        ghi_w_m2: ghi,
-                        tolerance_w_m2: DIFFUSE_EXCESS_CLAMP_W_M2,
-                    });
-                }
-                if excess > 0.0 {
-                    diffuse_clamps.0 += 1;
-                    diffuse_clamps.1 = diffuse_clamps.1.max(excess);
-                    dhi[k] = ghi;
-                }
-            }
-            check_range(&file, line, &AIR_TEMP_RULE, self.air_temp_c[k])?;
-            for (rule, values) in [
-                (&WIND_RULE, &self.wind_m_s),
-                (&ALBEDO_RULE, &self.albedo_frac),
-                (&PRESSURE_RULE, &self.pressure_hpa),
-            ] {
-                if let Some(values) = values {
-                    check_range(&file, line, rule, values[k])?;
-                }
-            }
-        }
-
-        let mut warnings = Vec::new();
-        for (slot, column) in ["ghi_w_m2", "dni_w_m2", "dhi_w_m2"].iter().enumerate() {
-            let (count, most_negative_w_m2) = negatives[slot];
-            if count > 0 {
-                warnings.push(WeatherWarning::ClampedNegativeIrradiance {
-                    column: column.to_string(),
-                    count,
-                    most_negative_w_m2,
-                });
-            }
-        }
-        if diffuse_clamps.0 > 0 {
-            warnings.push(WeatherWarning::ClampedDiffuseAboveGlobal {
-                count: diffuse_clamps.0,
-                largest_excess_w_m2: diffuse_clamps.1,
+    /// Row `k`'s stamp: on the grid, after the previous row's, and at most
+    /// [`MAX_FILL_INTERVALS`] intervals after it. Returns how many intervals are missing
+    /// before row `k` (0 for the first row).
+    fn check_stamp(&self, k: usize) -> Result<i64, WeatherError> {
+        let file = self.source.clone();
+        let interval_s = self.interval_s;
+        let line = self.line[k];
+        let stamp = self.stamp_s[k];
+        if stamp.rem_euclid(interval_s) != 0 {
+            return Err(WeatherError::OffGrid {
+                file,
+                line,
+                value: LocalTime(stamp).format(),
+                interval_min: interval_s / 60,
             });
         }
+        if k == 0 {
+            return Ok(0);
+        }
+        let previous = self.stamp_s[k - 1];
+        let step = stamp - previous;
+        if step == 0 {
+            return Err(WeatherError::DuplicateStamp {
+                file,
+                line,
+                value: LocalTime(stamp).format(),
+                first_line: self.line[k - 1],
+            });
+        }
+        if step < 0 {
+            return Err(WeatherError::OutOfOrder {
+                file,
+                line,
+                value: LocalTime(stamp).format(),
+                previous: LocalTime(previous).format(),
+                previous_line: self.line[k - 1],
+            });
+        }
+        let missing = step / interval_s - 1;
+        if missing > MAX_FILL_INTERVALS {
+            return Err(WeatherError::Gap {
+                file,
+                line,
+                value: LocalTime(stamp).format(),
+                previous: LocalTime(previous).format(),
+                missing,
+                max_fill: MAX_FILL_INTERVALS,
+            });
+        }
+        Ok(missing)
+    }
 
+    /// Row `k`'s GHI, DNI and DHI: finite; small negatives clamped to 0 and counted, larger
+    /// ones rejected; DNI at most the extraterrestrial normal irradiance of the day (`shift`
+    /// turns the stamp into the interval's start) plus the allowance.
+    fn clamp_irradiance(
+        &mut self,
+        k: usize,
+        shift: i64,
+        clamps: &mut Clamps,
+    ) -> Result<(), WeatherError> {
+        let line = self.line[k];
+        let day_of_year = LocalTime(self.stamp_s[k] - shift).day_of_year() as f64;
+        let dni_max_w_m2 =
+            extraterrestrial_normal_w_m2(day_of_year) + EXTRATERRESTRIAL_ALLOWANCE_W_M2;
+        let irradiance: [(&str, Option<&mut Vec<f64>>, f64); 3] = [
+            ("ghi_w_m2", Some(&mut self.ghi_w_m2), f64::INFINITY),
+            ("dni_w_m2", self.dni_w_m2.as_mut(), dni_max_w_m2),
+            ("dhi_w_m2", self.dhi_w_m2.as_mut(), f64::INFINITY),
+        ];
+        for (slot, (column, values, max_w_m2)) in irradiance.into_iter().enumerate() {
+            let Some(values) = values else { continue };
+            let value = values[k];
+            check_finite(&self.source, line, column, value)?;
+            if value < -NEGATIVE_CLAMP_W_M2 {
+                return Err(WeatherError::NegativeIrradiance {
+                    file: self.source.clone(),
+                    line,
+                    column: column.to_string(),
+                    value,
+                    tolerance_w_m2: NEGATIVE_CLAMP_W_M2,
+                });
+            }
+            if value < 0.0 {
+                clamps.negatives[slot].0 += 1;
+                clamps.negatives[slot].1 = clamps.negatives[slot].1.min(value);
+                values[k] = 0.0;
+            }
+            if value > max_w_m2 {
+                return Err(WeatherError::OutOfRange {
+                    file: self.source.clone(),
+                    line,
+                    column: column.to_string(),
+                    value,
+                    range: format!("0..={max_w_m2:.0}"),
+                    hint: " W/m² (extraterrestrial normal irradiance that day, plus 10)"
+                        .to_string(),
+                });
+            }
+        }
+        Ok(())
+    }
+
+    /// Row `k`'s DHI against GHI: above by at most [`DIFFUSE_EXCESS_CLAMP_W_M2`] it is set
+    /// to GHI and counted, by more rejected.
+    fn clamp_diffuse(&mut self, k: usize, clamps: &mut Clamps) -> Result<(), WeatherError> {
+        let Some(dhi) = self.dhi_w_m2.as_mut() else {
+            return Ok(());
+        };
+        let ghi = self.ghi_w_m2[k];
+        let excess = dhi[k] - ghi;
+        if excess > DIFFUSE_EXCESS_CLAMP_W_M2 {
+            return Err(WeatherError::DiffuseAboveGlobal {
+                file: self.source.clone(),
+                line: self.line[k],
+                dhi_w_m2: dhi[k],
+                ghi_w_m2: ghi,
+                tolerance_w_m2: DIFFUSE_EXCESS_CLAMP_W_M2,
+            });
+        }
+        if excess > 0.0 {
+            clamps.diffuse.0 += 1;
+            clamps.diffuse.1 = clamps.diffuse.1.max(excess);
+            dhi[k] = ghi;
+        }
+        Ok(())
+    }
+
+    /// Row `k`'s air temperature, and wind, albedo and pressure where given, within their
+    /// plausible ranges.
+    fn check_other_ranges(&self, k: usize) -> Result<(), WeatherError> {
+        let (file, line) = (&self.source, self.line[k]);
+        check_range(file, line, &AIR_TEMP_RULE, self.air_temp_c[k])?;
+        for (rule, values) in [
+            (&WIND_RULE, &self.wind_m_s),
+            (&ALBEDO_RULE, &self.albedo_frac),
+            (&PRESSURE_RULE, &self.pressure_hpa),
+        ] {
+            if let Some(values) = values {
+                check_range(file, line, rule, values[k])?;
+            }
+        }
+        Ok(())
+    }
+
+    /// The checked columns as a [`Weather`], stamps moved to the interval's start.
+    fn into_weather(self, shift: i64, warnings: Vec<WeatherWarning>) -> Weather {
         let local_start_s: Vec<i64> = self.stamp_s.iter().map(|s| s - shift).collect();
-        let mut weather = Weather {
+        Weather {
             source: self.source,
             site: self.site,
-            interval_s,
+            interval_s: self.interval_s,
             stamp: self.stamp,
             local_start_s,
             source_line: self.line,
@@ -606,25 +642,65 @@ impl UncheckedWeather {
             albedo_frac: self.albedo_frac,
             pressure_hpa: self.pressure_hpa,
             warnings,
-        };
-        if !gaps.is_empty() {
-            let first_missing = weather.local_start_s[gaps[0].0 - 1] + interval_s + shift;
-            let intervals: i64 = gaps.iter().map(|g| g.1).sum();
-            fill_gaps(&mut weather, &gaps);
-            weather.warnings.push(WeatherWarning::FilledGaps {
-                gaps: gaps.len(),
-                intervals: intervals as usize,
-                first_missing: LocalTime(first_missing).format(),
+        }
+    }
+}
+
+/// What [`UncheckedWeather::validate`] clamped, for the warnings.
+#[derive(Default)]
+struct Clamps {
+    /// Per irradiance column (GHI, DNI, DHI): values clamped to 0, and the most negative.
+    negatives: [(usize, f64); 3],
+    /// DHI values set to GHI, and the largest excess.
+    diffuse: (usize, f64),
+}
+
+impl Clamps {
+    /// One warning per irradiance column with clamped negatives, then one for diffuse.
+    fn warnings(&self) -> Vec<WeatherWarning> {
+        let mut warnings = Vec::new();
+        for (slot, column) in ["ghi_w_m2", "dni_w_m2", "dhi_w_m2"].iter().enumerate() {
+            let (count, most_negative_w_m2) = self.negatives[slot];
+            if count > 0 {
+                warnings.push(WeatherWarning::ClampedNegativeIrradiance {
+                    column: column.to_string(),
+                    count,
+                    most_negative_w_m2,
+                });
+            }
+        }
+        if self.diffuse.0 > 0 {
+            warnings.push(WeatherWarning::ClampedDiffuseAboveGlobal {
+                count: self.diffuse.0,
+                largest_excess_w_m2: self.diffuse.1,
             });
         }
-        let covered = weather.months_covered();
-        if covered.iter().any(|c| !c) {
-            let missing = (1..=12u32).filter(|m| !covered[*m as usize - 1]).collect();
-            weather
-                .warnings
-                .push(WeatherWarning::MonthsMissing { missing });
-        }
-        Ok(weather)
+        warnings
+    }
+}
+
+/// Fills the `gaps` (index of the row after the gap, missing intervals; not empty) and
+/// warns with their number, the intervals filled and the first missing stamp as the file
+/// writes it (`shift` turns an interval's start back into an end stamp).
+fn repair_gaps(weather: &mut Weather, gaps: &[(usize, i64)], shift: i64) {
+    let first_missing = weather.local_start_s[gaps[0].0 - 1] + weather.interval_s + shift;
+    let intervals: i64 = gaps.iter().map(|g| g.1).sum();
+    fill_gaps(weather, gaps);
+    weather.warnings.push(WeatherWarning::FilledGaps {
+        gaps: gaps.len(),
+        intervals: intervals as usize,
+        first_missing: LocalTime(first_missing).format(),
+    });
+}
+
+/// Warns when some calendar months have no row.
+fn warn_missing_months(weather: &mut Weather) {
+    let covered = weather.months_covered();
+    if covered.iter().any(|c| !c) {
+        let missing = (1..=12u32).filter(|m| !covered[*m as usize - 1]).collect();
+        weather
+            .warnings
+            .push(WeatherWarning::MonthsMissing { missing });
     }
 }
 
@@ -673,48 +749,9 @@ fn check_range(file: &str, line: usize, rule: &RangeRule, value: f64) -> Result<
 /// [`UncheckedWeather::validate`]). `gaps` holds (index of the row after the gap, count)
 /// in the unfilled series.
 fn fill_gaps(w: &mut Weather, gaps: &[(usize, i64)]) {
-    let n_old = w.len();
-    let added: i64 = gaps.iter().map(|g| g.1).sum();
-    let n_new = n_old + added as usize;
-    // Row index mapping old → new and the list of filled rows with their bounding rows.
-    let mut starts = Vec::with_capacity(n_new);
-    let mut lines = Vec::with_capacity(n_new);
-    let mut source_row: Vec<Option<usize>> = Vec::with_capacity(n_new);
-    let mut gap_iter = gaps.iter().peekable();
-    for k in 0..n_old {
-        if let Some(&&(after, missing)) = gap_iter.peek() {
-            if after == k {
-                for j in 1..=missing {
-                    starts.push(w.local_start_s[k - 1] + j * w.interval_s);
-                    lines.push(0);
-                    source_row.push(None);
-                }
-                gap_iter.next();
-            }
-        }
-        starts.push(w.local_start_s[k]);
-        lines.push(w.source_line[k]);
-        source_row.push(Some(k));
-    }
-
-    // For each new row: Some(old index) or the bounding rows (new indices) and the fraction.
-    let mut bounds: Vec<Option<(usize, usize, f64)>> = vec![None; n_new];
-    let mut i = 0;
-    while i < n_new {
-        if source_row[i].is_none() {
-            let lo = i - 1;
-            let mut hi = i;
-            while source_row[hi].is_none() {
-                hi += 1;
-            }
-            let span = (hi - lo) as f64;
-            for (j, b) in bounds.iter_mut().enumerate().take(hi).skip(i) {
-                *b = Some((lo, hi, (j - lo) as f64 / span));
-            }
-            i = hi;
-        }
-        i += 1;
-    }
+    let (starts, lines, source_row) = rows_with_gaps(w, gaps);
+    let n_new = starts.len();
+    let bounds = gap_bounds(&source_row);
 
     // Same clock time on the neighbouring days, only where that row is a real one.
     let day_neighbours = |j: usize| -> Vec<usize> {
@@ -779,6 +816,61 @@ fn fill_gaps(w: &mut Weather, gaps: &[(usize, i64)]) {
     w.pressure_hpa = w.pressure_hpa.as_deref().map(linear);
     w.local_start_s = starts;
     w.source_line = lines;
+}
+
+/// The filled series' stamps, file lines (0 for an inserted row) and, per row, the row of
+/// the unfilled series it comes from (`None` for an inserted row).
+fn rows_with_gaps(
+    w: &Weather,
+    gaps: &[(usize, i64)],
+) -> (Vec<i64>, Vec<usize>, Vec<Option<usize>>) {
+    let n_old = w.len();
+    let added: i64 = gaps.iter().map(|g| g.1).sum();
+    let n_new = n_old + added as usize;
+    let mut starts = Vec::with_capacity(n_new);
+    let mut lines = Vec::with_capacity(n_new);
+    let mut source_row: Vec<Option<usize>> = Vec::with_capacity(n_new);
+    let mut gap_iter = gaps.iter().peekable();
+    for k in 0..n_old {
+        if let Some(&&(after, missing)) = gap_iter.peek() {
+            if after == k {
+                for j in 1..=missing {
+                    starts.push(w.local_start_s[k - 1] + j * w.interval_s);
+                    lines.push(0);
+                    source_row.push(None);
+                }
+                gap_iter.next();
+            }
+        }
+        starts.push(w.local_start_s[k]);
+        lines.push(w.source_line[k]);
+        source_row.push(Some(k));
+    }
+    (starts, lines, source_row)
+}
+
+/// For each inserted row, the real rows bounding its gap and its fraction of the way from
+/// the first to the second; `None` for real rows.
+fn gap_bounds(source_row: &[Option<usize>]) -> Vec<Option<(usize, usize, f64)>> {
+    let n_new = source_row.len();
+    let mut bounds: Vec<Option<(usize, usize, f64)>> = vec![None; n_new];
+    let mut i = 0;
+    while i < n_new {
+        if source_row[i].is_none() {
+            let lo = i - 1;
+            let mut hi = i;
+            while source_row[hi].is_none() {
+                hi += 1;
+            }
+            let span = (hi - lo) as f64;
+            for (j, b) in bounds.iter_mut().enumerate().take(hi).skip(i) {
+                *b = Some((lo, hi, (j - lo) as f64 / span));
+            }
+            i = hi;
+        }
+        i += 1;
+    }
+    bounds
 }
 
 /// Mean extraterrestrial irradiance on a horizontal surface over one interval, W/m².

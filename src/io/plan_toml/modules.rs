@@ -1,0 +1,303 @@
+//! `[module_type.NAME]` and `[group.NAME]`: datasheet values checked for range and for their
+//! own consistency, then fitted to the single-diode model; groups with their orientation,
+//! thermal model and soiling.
+//!
+//! Where a group sits (centre, rows, columns) and its horizon are geometry (`geometry.rs`);
+//! which modules are wired together is in `layouts.rs`.
+
+use std::collections::BTreeMap;
+
+use crate::error::PlanError;
+use crate::input::plan::{Group, Module, ModuleType};
+use crate::physics::diode::{fit_de_soto, Datasheet, BYPASS_DROP_DEFAULT_V};
+use crate::physics::thermal::CellTemperatureModel;
+
+use super::ctx::Ctx;
+use super::raw::{RawGroup, RawModuleType, S};
+
+/// Every `[module_type.NAME]`, in a stable order (BTreeMap: by id); at least one.
+pub(super) fn validate_module_types(
+    ctx: &Ctx,
+    raw: &BTreeMap<String, S<RawModuleType>>,
+) -> Result<Vec<ModuleType>, PlanError> {
+    let mut module_types = Vec::new();
+    for (id, mt) in raw {
+        module_types.push(validate_module_type(ctx, id, mt)?);
+    }
+    if module_types.is_empty() {
+        return Err(PlanError::Missing {
+            file: ctx.file.clone(),
+            key: "module_type".into(),
+            hint: "add a [module_type.NAME] table with the datasheet values".into(),
+        });
+    }
+    Ok(module_types)
+}
+
+/// Every `[group.NAME]` (at least one) and its modules, numbered `<group>-1`, `<group>-2`, …
+pub(super) fn validate_groups(
+    ctx: &Ctx,
+    raw: &BTreeMap<String, S<RawGroup>>,
+    module_types: &[ModuleType],
+) -> Result<(Vec<Group>, Vec<Module>), PlanError> {
+    let mut groups = Vec::new();
+    let mut modules = Vec::new();
+    for (id, g) in raw {
+        let group = validate_group(ctx, id, g, module_types)?;
+        for n in 1..=group.count {
+            modules.push(Module {
+                id: format!("{id}-{n}"),
+                group: groups.len(),
+                module_type: group.module_type,
+            });
+        }
+        groups.push(group);
+    }
+    if groups.is_empty() {
+        return Err(PlanError::Missing {
+            file: ctx.file.clone(),
+            key: "group".into(),
+            hint: "add a [group.NAME] table (module_type, count, tilt_deg, azimuth_deg)".into(),
+        });
+    }
+    Ok((groups, modules))
+}
+
+fn validate_module_type(
+    ctx: &Ctx,
+    id: &str,
+    m: &S<RawModuleType>,
+) -> Result<ModuleType, PlanError> {
+    let k = |name: &str| format!("module_type.{id}.{name}");
+    let r = m.get_ref();
+    let pmax_w = ctx.above(&r.pmax_w, &k("pmax_w"), 0.0, 2000.0)?;
+    let voc_v = ctx.above(&r.voc_v, &k("voc_v"), 0.0, 200.0)?;
+    let isc_a = ctx.above(&r.isc_a, &k("isc_a"), 0.0, 50.0)?;
+    let vmp_v = ctx.above(&r.vmp_v, &k("vmp_v"), 0.0, 200.0)?;
+    let imp_a = ctx.above(&r.imp_a, &k("imp_a"), 0.0, 50.0)?;
+    let alpha_pct = ctx.range(&r.alpha_isc_pct_k, &k("alpha_isc_pct_k"), -0.1, 0.3)?;
+    let beta_pct = ctx.range(&r.beta_voc_pct_k, &k("beta_voc_pct_k"), -1.0, 0.0)?;
+    let gamma_pct = ctx.range(&r.gamma_pmax_pct_k, &k("gamma_pmax_pct_k"), -1.5, 0.0)?;
+    let cells = ctx.int_range(&r.cells_in_series, &k("cells_in_series"), 1, 300)? as u32;
+    let bypass = ctx.int_range(&r.bypass_diodes, &k("bypass_diodes"), 1, 12)? as u32;
+    if !cells.is_multiple_of(bypass) {
+        return Err(ctx.err(
+            r.bypass_diodes.span(),
+            &k("bypass_diodes"),
+            format!(
+                "{} = {bypass} does not divide cells_in_series = {cells} into equal substrings",
+                k("bypass_diodes")
+            ),
+        ));
+    }
+    let bypass_drop_v = ctx.opt_range(
+        &r.bypass_drop_v,
+        &k("bypass_drop_v"),
+        0.1,
+        2.0,
+        BYPASS_DROP_DEFAULT_V,
+    )?;
+    let noct_c = ctx.range(&r.noct_c, &k("noct_c"), 30.0, 70.0)?;
+    let length_m = ctx.above(&r.length_m, &k("length_m"), 0.0, 5.0)?;
+    let width_m = ctx.above(&r.width_m, &k("width_m"), 0.0, 5.0)?;
+    let max_system_v = ctx.above(&r.max_system_v, &k("max_system_v"), 0.0, 2000.0)?;
+    let max_series_fuse_a = ctx.above(&r.max_series_fuse_a, &k("max_series_fuse_a"), 0.0, 100.0)?;
+
+    let datasheet = Datasheet {
+        voc_v,
+        isc_a,
+        vmp_v,
+        imp_a,
+        alpha_isc_a_k: alpha_pct / 100.0 * isc_a,
+        beta_voc_v_k: beta_pct / 100.0 * voc_v,
+        cells_in_series: cells,
+    };
+    // The datasheet's own consistency, before the fit sees it.
+    check_datasheet(ctx, id, r, &datasheet, pmax_w, length_m * width_m)?;
+    let reference = fit_de_soto(&datasheet).map_err(|e| {
+        ctx.err(
+            m.span(),
+            &format!("module_type.{id}"),
+            format!("module_type.{id}: the datasheet cannot be fitted: {e}"),
+        )
+    })?;
+    let substring = reference.substring(bypass);
+    Ok(ModuleType {
+        id: id.to_string(),
+        pmax_w,
+        datasheet,
+        gamma_pmax_frac_k: gamma_pct / 100.0,
+        bypass_diodes: bypass,
+        bypass_drop_v,
+        noct_c,
+        length_m,
+        width_m,
+        max_system_v,
+        max_series_fuse_a,
+        reference,
+        substring,
+    })
+}
+
+/// The datasheet's own consistency: Vmp below Voc, Imp below Isc, Pmax close to Vmp × Imp
+/// and a plausible efficiency for the module's `area` (m²).
+fn check_datasheet(
+    ctx: &Ctx,
+    id: &str,
+    r: &RawModuleType,
+    datasheet: &Datasheet,
+    pmax_w: f64,
+    area: f64,
+) -> Result<(), PlanError> {
+    let k = |name: &str| format!("module_type.{id}.{name}");
+    let (voc_v, isc_a, vmp_v, imp_a) = (
+        datasheet.voc_v,
+        datasheet.isc_a,
+        datasheet.vmp_v,
+        datasheet.imp_a,
+    );
+    if vmp_v >= voc_v {
+        return Err(ctx.err(
+            r.vmp_v.span(),
+            &k("vmp_v"),
+            format!("{} = {vmp_v} must be below voc_v = {voc_v}", k("vmp_v")),
+        ));
+    }
+    if imp_a >= isc_a {
+        return Err(ctx.err(
+            r.imp_a.span(),
+            &k("imp_a"),
+            format!("{} = {imp_a} must be below isc_a = {isc_a}", k("imp_a")),
+        ));
+    }
+    let p_check = vmp_v * imp_a;
+    if (p_check - pmax_w).abs() > 0.03 * pmax_w {
+        return Err(ctx.err(
+            r.pmax_w.span(),
+            &k("pmax_w"),
+            format!("{} = {pmax_w} differs from vmp_v × imp_a = {p_check:.1} by more than 3 %; check the datasheet", k("pmax_w")),
+        ));
+    }
+    let eff = pmax_w / (1000.0 * area);
+    if !(0.02..=0.30).contains(&eff) {
+        return Err(ctx.err(
+            r.length_m.span(),
+            &k("length_m"),
+            format!("module area {area:.3} m² gives an STC efficiency of {:.1} %, outside 2..30 %; check length_m and width_m", eff * 100.0),
+        ));
+    }
+    Ok(())
+}
+
+fn validate_group(
+    ctx: &Ctx,
+    id: &str,
+    g: &S<RawGroup>,
+    types: &[ModuleType],
+) -> Result<Group, PlanError> {
+    let k = |name: &str| format!("group.{id}.{name}");
+    let r = g.get_ref();
+    if id.is_empty() || !id.chars().all(|c| c.is_ascii_alphanumeric() || c == '_') {
+        return Err(ctx.err(
+            g.span(),
+            &format!("group.{id}"),
+            format!("group name {id:?} must be letters, digits or _ (module ids are <group>-<n>)"),
+        ));
+    }
+    let module_type = types
+        .iter()
+        .position(|t| &t.id == r.module_type.get_ref())
+        .ok_or_else(|| {
+            let known: Vec<&str> = types.iter().map(|t| t.id.as_str()).collect();
+            ctx.err(
+                r.module_type.span(),
+                &k("module_type"),
+                format!(
+                    "{} = {:?} names no [module_type] table; known: {}",
+                    k("module_type"),
+                    r.module_type.get_ref(),
+                    known.join(", ")
+                ),
+            )
+        })?;
+    let count = ctx.int_range(&r.count, &k("count"), 1, 200)? as usize;
+    let tilt_deg = ctx.range(&r.tilt_deg, &k("tilt_deg"), 0.0, 90.0)?;
+    let azimuth_deg = ctx.range(&r.azimuth_deg, &k("azimuth_deg"), 0.0, 360.0)?;
+    let thermal = thermal_model(ctx, id, g, &types[module_type])?;
+    let soiling_frac = match &r.soiling_pct {
+        None => [0.0; 12],
+        Some(v) => ctx.monthly(v, &k("soiling_pct"), 0.0, 100.0, 0.01)?,
+    };
+    Ok(Group {
+        id: id.to_string(),
+        module_type,
+        count,
+        tilt_deg,
+        azimuth_deg,
+        thermal,
+        soiling_frac,
+    })
+}
+
+/// `group.<id>.thermal` (Sandia open rack, glass–polymer, when absent) and the Faiman
+/// coefficients, which are only accepted with `thermal = "faiman"`.
+fn thermal_model(
+    ctx: &Ctx,
+    id: &str,
+    g: &S<RawGroup>,
+    module_type: &ModuleType,
+) -> Result<CellTemperatureModel, PlanError> {
+    let k = |name: &str| format!("group.{id}.{name}");
+    let r = g.get_ref();
+    let thermal_name = r
+        .thermal
+        .as_ref()
+        .map_or("sandia-open-rack-glass-polymer", |t| t.get_ref().as_str());
+    let thermal = match thermal_name {
+        "sandia-open-rack-glass-glass" => CellTemperatureModel::SANDIA_GLASS_GLASS_OPEN_RACK,
+        "sandia-close-roof-glass-glass" => CellTemperatureModel::SANDIA_GLASS_GLASS_CLOSE_ROOF,
+        "sandia-open-rack-glass-polymer" => CellTemperatureModel::SANDIA_GLASS_POLYMER_OPEN_RACK,
+        "sandia-insulated-back-glass-polymer" => {
+            CellTemperatureModel::SANDIA_GLASS_POLYMER_INSULATED_BACK
+        }
+        "faiman" => CellTemperatureModel::Faiman {
+            u0: ctx.opt_range(&r.faiman_u0_w_m2k, &k("faiman_u0_w_m2k"), 1.0, 100.0, 25.0)?,
+            u1: ctx.opt_range(
+                &r.faiman_u1_w_s_m3k,
+                &k("faiman_u1_w_s_m3k"),
+                0.0,
+                50.0,
+                6.84,
+            )?,
+        },
+        "noct" => CellTemperatureModel::Noct {
+            noct_c: module_type.noct_c,
+        },
+        other => {
+            let span = r.thermal.as_ref().map_or(g.span(), |t| t.span());
+            return Err(ctx.err(
+                span,
+                &k("thermal"),
+                format!(
+                    "{} = {other:?} is not known; use sandia-open-rack-glass-glass, sandia-close-roof-glass-glass, sandia-open-rack-glass-polymer, sandia-insulated-back-glass-polymer, faiman or noct",
+                    k("thermal")
+                ),
+            ));
+        }
+    };
+    if thermal_name != "faiman" {
+        for (v, name) in [
+            (&r.faiman_u0_w_m2k, "faiman_u0_w_m2k"),
+            (&r.faiman_u1_w_s_m3k, "faiman_u1_w_s_m3k"),
+        ] {
+            if let Some(v) = v {
+                return Err(ctx.err(
+                    v.span(),
+                    &k(name),
+                    format!("{} is only used with thermal = \"faiman\"", k(name)),
+                ));
+            }
+        }
+    }
+    Ok(thermal)
+}
