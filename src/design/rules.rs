@@ -477,6 +477,42 @@ fn stc_voltage_drop(plan: &Plan, w: &InputWiring, f: &InputFigures) -> (f64, f64
     (frac, drop, vmp)
 }
 
+/// The figures the limit checks use for one input, for pictures and reports.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct InputNumbers {
+    /// Highest string Voc at the coldest temperature, V.
+    pub voc_cold_max_v: f64,
+    /// 1.25 × the summed Isc, A.
+    pub isc_125_a: f64,
+    /// The controller's input current rating, A.
+    pub input_rating_a: f64,
+    /// Cable voltage drop at STC, fraction of the string Vmp.
+    pub voltage_drop_frac: f64,
+    /// Lowest string Vmp in full sun at the hottest air temperature, V.
+    pub vmp_hot_min_v: f64,
+    /// String fuse rating range (1.56 × Isc up to the modules' maximum series fuse) when
+    /// three or more strings are in parallel.
+    pub fuse_range_a: Option<(f64, f64)>,
+}
+
+/// The figures of [`check_layout`] for one input.
+pub fn input_numbers(plan: &Plan, w: &InputWiring, temps: &DesignTemperatures) -> InputNumbers {
+    let f = input_figures(plan, w, temps);
+    InputNumbers {
+        voc_cold_max_v: f.extremes.voc_cold_max_v,
+        isc_125_a: ISC_FACTOR * f.extremes.isc_sum_a,
+        input_rating_a: plan.controllers[w.controller].model.max_input_a(),
+        voltage_drop_frac: stc_voltage_drop(plan, w, &f).0,
+        vmp_hot_min_v: f.vmp_hot_min_v,
+        fuse_range_a: (w.parallel() >= 3).then(|| {
+            (
+                CONDUCTOR_FACTOR * ISC_FACTOR * f.isc_string_max_a,
+                f.fuse_min_a,
+            )
+        }),
+    }
+}
+
 /// The highest cable voltage drop at STC of a layout's inputs, as a fraction of the string
 /// Vmp (what the `voltage-drop` rule compares with the plan's target).
 pub fn layout_voltage_drop_frac(plan: &Plan, layout: &Layout, temps: &DesignTemperatures) -> f64 {

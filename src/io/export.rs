@@ -847,7 +847,7 @@ impl<'a> Staging<'a> {
     }
 
     fn png(&mut self, chart: &Chart) -> Result<(), Error> {
-        self.png_named(chart.stem(), chart)
+        self.png_named(&chart.stem(), chart)
     }
 
     /// As [`Self::png`], under a chosen file stem.

@@ -134,6 +134,8 @@ pub enum Chart {
     MonthlyUnmet(MonthlyUnmet),
     /// Sun paths, horizon and obstacles seen from one group (the shade report).
     SunPath(Box<crate::results::shade_view::SunPathView>),
+    /// The wiring diagram of one layout (`wiring_<id>`).
+    Wiring(Box<crate::io::diagram::WiringDiagram>),
 }
 
 /// The charts a run can draw, and a line for each one it cannot (for provenance.txt).
@@ -145,14 +147,23 @@ pub struct PlannedCharts {
 
 impl Chart {
     /// File name without extension.
-    pub fn stem(&self) -> &'static str {
+    pub fn stem(&self) -> String {
         match self {
-            Chart::MonthlyEnergy(_) => "monthly_energy",
-            Chart::GainMap(_) => "gain_map",
-            Chart::Losses(_) => "losses",
-            Chart::DailySoc(_) => "daily_soc",
-            Chart::MonthlyUnmet(_) => "monthly_unmet",
-            Chart::SunPath(_) => "sun_path",
+            Chart::MonthlyEnergy(_) => "monthly_energy".into(),
+            Chart::GainMap(_) => "gain_map".into(),
+            Chart::Losses(_) => "losses".into(),
+            Chart::DailySoc(_) => "daily_soc".into(),
+            Chart::MonthlyUnmet(_) => "monthly_unmet".into(),
+            Chart::SunPath(_) => "sun_path".into(),
+            Chart::Wiring(d) => format!("wiring_{}", d.id),
+        }
+    }
+
+    /// Picture size in pixels.
+    pub fn size(&self) -> (u32, u32) {
+        match self {
+            Chart::Wiring(d) => d.size(),
+            _ => (WIDTH_PX, HEIGHT_PX),
         }
     }
 
@@ -164,7 +175,7 @@ impl Chart {
         fonts()?;
         let mut buf = String::new();
         {
-            let root = SVGBackend::with_string(&mut buf, (WIDTH_PX, HEIGHT_PX)).into_drawing_area();
+            let root = SVGBackend::with_string(&mut buf, self.size()).into_drawing_area();
             self.draw(&root)?;
             root.present().map_err(|e| e.to_string())?;
         }
@@ -178,7 +189,7 @@ impl Chart {
     /// The fonts cannot be loaded, or the file cannot be encoded or written.
     pub fn to_png(&self, path: &Path) -> Result<(), String> {
         fonts()?;
-        let root = BitMapBackend::new(path, (WIDTH_PX, HEIGHT_PX)).into_drawing_area();
+        let root = BitMapBackend::new(path, self.size()).into_drawing_area();
         self.draw(&root)?;
         root.present().map_err(|e| e.to_string())
     }
@@ -192,6 +203,7 @@ impl Chart {
             Chart::DailySoc(c) => draw_daily_soc(root, c),
             Chart::MonthlyUnmet(c) => draw_monthly_unmet(root, c),
             Chart::SunPath(v) => draw_sun_path(root, v),
+            Chart::Wiring(d) => return crate::io::diagram::draw(root, d),
         }
         .map_err(|e| e.to_string())
     }
@@ -217,6 +229,11 @@ pub fn plan_charts(r: &RankResult) -> PlannedCharts {
     let label = |o: &crate::results::rank::LayoutOutcome| {
         format!("{} {}", o.layout.id, shorten(&o.layout.display_name(), 80))
     };
+    if let Some(o) = r.recommended() {
+        charts.push(Chart::Wiring(Box::new(
+            crate::io::diagram::WiringDiagram::new(&r.loaded.plan, &o.layout, &r.temps),
+        )));
+    }
     let best: Vec<_> = ranked.iter().take(MAX_LAYOUTS).collect();
     charts.push(Chart::MonthlyEnergy(MonthlyEnergy {
         layouts: best

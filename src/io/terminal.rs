@@ -5,7 +5,7 @@
 
 use std::fmt::Write as _;
 
-use crate::design::cautions::CAUTIONS;
+use crate::design::cautions::{CAUTIONS, CAUTIONS_SHORT};
 use crate::design::rules::Severity;
 use crate::design::sizing::ModuleAnswer;
 use crate::input::weather::Weather;
@@ -20,9 +20,6 @@ use crate::results::{CheckResult, RankResult, ShadeResult};
 use crate::sim::energy::Step;
 use crate::time::LocalTime;
 use crate::weather_gen::synth::MONTH_NAMES;
-
-/// One line at the top of long reports; the full cautions close them.
-const CAUTIONS_SHORT: &str = "Caution: DC arrays are live whenever lit; follow your local electrical code and have a licensed professional check the design (full cautions at the end).";
 
 /// The note a plan with a battery model but no load gets.
 pub const BATTERY_WITHOUT_LOAD: &str = "note: the plan has a battery model but no [load]: nothing draws from the battery, so once it is full it turns the harvest away; the ranking uses the energy offered, and delivered energy is what the battery could still take";

@@ -638,6 +638,14 @@ pub enum Conductor {
 }
 
 impl Conductor {
+    /// The material's name in reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            Conductor::Copper => "copper",
+            Conductor::Aluminium => "aluminium",
+        }
+    }
+
     /// Resistivity at 20 °C, Ω·mm²/m.
     ///
     /// # Source
