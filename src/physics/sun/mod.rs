@@ -2513,7 +2513,7 @@ mod tests {
     }
 
     fn ephem_rows() -> Vec<EphemRow> {
-        let text = include_str!("../../tests/reference/sun_ephem.csv");
+        let text = include_str!("../../../tests/reference/sun_ephem.csv");
         let mut lines = text.lines().filter(|l| !l.starts_with('#'));
         let header: Vec<&str> = lines.next().unwrap().split(',').collect();
         let col = |name: &str| {
