@@ -2,11 +2,10 @@
 //! file, import the open typical-year format.
 //!
 //! Each command is one function returning an [`Outcome`] (text for stdout, warnings for
-//! stderr); the binary only parses flags and calls them. This module also owns the small
-//! TOML format of the synthesizer's monthly inputs (`<site>.monthly.toml`, documented in
-//! `notebooks-free-docs/method-synth.md`) and the per-month summary that `inspect` prints.
-//! It never overwrites a command's input file, and writes outputs atomically. The maths lives
-//! in `synth.rs` (pure) and the file formats in `io/`.
+//! stderr); the binary only parses flags and calls them. Orchestration only: the maths lives
+//! in `weather_gen::synth` (pure), the per-month summary in `results::weather_summary`, and
+//! the file formats (the monthly-inputs TOML, weather CSV, typical-year files, plots) in
+//! `io/`. It never overwrites a command's input file, and writes outputs atomically.
 
 use std::fmt::Write as _;
 use std::path::Path;

@@ -504,12 +504,10 @@ pub fn input_numbers(plan: &Plan, w: &InputWiring, temps: &DesignTemperatures) -
         input_rating_a: plan.controllers[w.controller].model.max_input_a(),
         voltage_drop_frac: stc_voltage_drop(plan, w, &f).0,
         vmp_hot_min_v: f.vmp_hot_min_v,
-        fuse_range_a: (w.parallel() >= 3).then(|| {
-            (
-                CONDUCTOR_FACTOR * ISC_FACTOR * f.isc_string_max_a,
-                f.fuse_min_a,
-            )
-        }),
+        fuse_range_a: (w.parallel() >= 3).then_some((
+            CONDUCTOR_FACTOR * ISC_FACTOR * f.isc_string_max_a,
+            f.fuse_min_a,
+        )),
     }
 }
 

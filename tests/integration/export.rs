@@ -144,6 +144,8 @@ fn writes_every_file_and_leaves_no_temporaries() {
         "daily_soc.svg",
         "monthly_unmet.png",
         "monthly_unmet.svg",
+        "wiring_L1.png",
+        "wiring_L1.svg",
     ]
     .map(String::from)
     .into();
@@ -596,5 +598,35 @@ fn wiring_lists_every_used_module_exactly_once_per_layout() {
         seen.dedup();
         assert_eq!(seen.len(), mine.len(), "{}: a module twice", o.layout.id);
         assert!(mine.iter().all(|&k| positions[k] >= 1));
+    }
+}
+
+/// The wiring diagram of the recommended layout exists as SVG and PNG and names every module
+/// of the layout, the controller input and the figures the checks used.
+/// Source: definition (what the diagram is for; common practice, no source).
+#[test]
+fn the_wiring_diagram_names_every_module_of_the_recommended_layout() {
+    let r = demo();
+    let rec = r.recommended().expect("a recommended layout");
+    let stem = format!("wiring_{}", rec.layout.id);
+    let svg = fs::read_to_string(out_dir().join(format!("{stem}.svg"))).expect("SVG written");
+    let png = fs::read(out_dir().join(format!("{stem}.png"))).expect("PNG written");
+    // Source: the PNG signature (ISO/IEC 15948, 8 bytes).
+    assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n");
+    for w in rec.layout.wiring_rows(&r.loaded.plan) {
+        // plotters writes each text on a line of its own between the tags.
+        assert!(
+            svg.lines().any(|l| l.trim() == w.module),
+            "{} missing from {stem}.svg",
+            w.module
+        );
+    }
+    for needle in [
+        "string Voc at",
+        "1.25 × Isc",
+        "voltage drop at STC",
+        "battery",
+    ] {
+        assert!(svg.contains(needle), "{needle} missing");
     }
 }
