@@ -7,8 +7,8 @@ use std::path::PathBuf;
 use clap::{Args, Parser, Subcommand, ValueEnum};
 
 use wirerank::commands::{
-    CurveRequest, CurveTarget, LayoutRef, OutputFormat, PlanSource, RankRequest, Request,
-    SunpathRequest, WeatherRequest,
+    CheckShow, CurveRequest, CurveTarget, LayoutRef, OutputFormat, PlanSource, RankRequest,
+    Request, SunpathRequest, WeatherRequest,
 };
 use wirerank::results::rank::Criterion;
 
@@ -127,6 +127,12 @@ pub struct ShadeArgs {
 pub struct CheckArgs {
     /// The plan file (TOML); `demo` checks the bundled demo plan.
     pub plan: PathBuf,
+    /// List only the layouts that break a hard limit.
+    #[arg(long, conflicts_with = "passing")]
+    pub failing: bool,
+    /// List only the layouts that pass every hard limit.
+    #[arg(long)]
+    pub passing: bool,
 }
 
 #[derive(Debug, Args, Default)]
@@ -143,6 +149,10 @@ pub struct OutputArgs {
     /// into this folder (created if missing).
     #[arg(long)]
     pub out: Option<PathBuf>,
+    /// Show at most N ranked layouts in the report (default: every listed layout; for an
+    /// enumeration the best 20 and the recommended one). The files always hold every layout.
+    #[arg(long, value_name = "N")]
+    pub top: Option<usize>,
     /// List the wiring, module by module, of every candidate layout (the report lists the
     /// recommended and the plan's listed layouts; the files always hold every layout).
     #[arg(long)]
@@ -244,6 +254,7 @@ impl Cli {
                 out: self.demo.out,
                 hourly: self.demo.hourly,
                 wiring: self.demo.wiring,
+                top: self.demo.top,
                 quiet: self.demo.quiet,
             }),
             Some(Command::Rank(a)) => Request::Rank(RankRequest {
@@ -257,13 +268,23 @@ impl Cli {
                 out: a.output.out,
                 hourly: a.output.hourly,
                 wiring: a.output.wiring,
+                top: a.output.top,
                 quiet: a.output.quiet,
             }),
-            Some(Command::Check(a)) => Request::Check(if a.plan.as_os_str() == "demo" {
-                PlanSource::Demo
-            } else {
-                PlanSource::File(a.plan)
-            }),
+            Some(Command::Check(a)) => Request::Check(
+                if a.plan.as_os_str() == "demo" {
+                    PlanSource::Demo
+                } else {
+                    PlanSource::File(a.plan)
+                },
+                if a.failing {
+                    CheckShow::Failing
+                } else if a.passing {
+                    CheckShow::Passing
+                } else {
+                    CheckShow::All
+                },
+            ),
             Some(Command::Curve(a)) => Request::Curve(CurveRequest {
                 plan: if a.plan.as_os_str() == "demo" {
                     PlanSource::Demo

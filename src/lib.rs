@@ -43,7 +43,7 @@ use crate::error::Error;
 pub fn run(request: Request, on_layout_done: &(dyn Fn() + Sync)) -> Result<Outcome, Error> {
     match request {
         Request::Rank(r) => commands::rank::rank(&r, on_layout_done),
-        Request::Check(source) => commands::check::check(&source),
+        Request::Check(source, show) => commands::check::check(&source, show),
         Request::Weather(w) => match w {
             WeatherRequest::Synth { input, seed, out } => {
                 commands::weather::synth_from_file(&input, seed, &out)

@@ -1,7 +1,7 @@
 //! `wirerank check`: every candidate layout against the electrical limits, no simulation.
 
 use crate::commands::load::load;
-use crate::commands::{Outcome, PlanSource};
+use crate::commands::{CheckShow, Outcome, PlanSource};
 use crate::design::candidates::candidate_layouts;
 use crate::design::rules::{self, design_temperatures};
 use crate::error::Error;
@@ -29,7 +29,7 @@ pub fn check_limits(source: &PlanSource) -> Result<CheckResult, Error> {
     })
 }
 
-pub fn check(source: &PlanSource) -> Result<Outcome, Error> {
+pub fn check(source: &PlanSource, show: CheckShow) -> Result<Outcome, Error> {
     let r = check_limits(source)?;
     let passed = r
         .findings
@@ -37,7 +37,7 @@ pub fn check(source: &PlanSource) -> Result<Outcome, Error> {
         .filter(|f| f.iter().all(|x| x.severity != rules::Severity::Reject))
         .count();
     Ok(Outcome {
-        stdout: io::terminal::check(&r),
+        stdout: io::terminal::check(&r, show),
         warnings: r.loaded.warning_texts(),
         nothing_passed: passed == 0,
     })

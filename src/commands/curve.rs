@@ -219,8 +219,9 @@ fn print_array(out: &mut String, label: &str, curve: &ArrayCurve, points: usize,
         let maxima = curve.local_maxima(0.0, voc);
         let _ = writeln!(
             out,
-            "input {label}: Voc {voc:.2} V, {} local power maxima",
-            maxima.len()
+            "input {label}: Voc {voc:.2} V, {} local power maxim{}",
+            maxima.len(),
+            if maxima.len() == 1 { "um" } else { "a" }
         );
         for m in &maxima {
             let _ = writeln!(

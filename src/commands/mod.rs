@@ -48,6 +48,8 @@ pub struct RankRequest {
     pub hourly: bool,
     /// List the wiring of every candidate in the report.
     pub wiring: bool,
+    /// At most this many ranked layouts in the report (`None`: the default).
+    pub top: Option<usize>,
     pub quiet: bool,
 }
 
@@ -78,6 +80,8 @@ pub enum CurveTarget {
     /// A layout's array at one weather interval (its stamp as written in the file).
     Layout { layout: LayoutRef, at: String },
 }
+
+pub use crate::results::CheckShow;
 
 /// How a command names one layout.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -122,7 +126,7 @@ pub enum Request {
     /// `wirerank curve`.
     Curve(CurveRequest),
     /// `wirerank check`: limits only.
-    Check(PlanSource),
+    Check(PlanSource, CheckShow),
     /// `wirerank weather ...`.
     Weather(WeatherRequest),
     /// `wirerank shade`: share of direct light lost per module and month.

@@ -144,7 +144,7 @@ pub fn rank(r: &RankRequest, on_layout_done: &(dyn Fn() + Sync)) -> Result<Outco
     )?;
     let nothing_passed = result.outcomes.iter().all(|o| o.rank.is_none());
     let mut stdout = match r.format {
-        OutputFormat::Table => io::terminal::ranking_with(&result, r.wiring),
+        OutputFormat::Table => io::terminal::ranking_with(&result, r.wiring, r.top),
         OutputFormat::Json => io::json::ranking_json(&result)?,
     };
     if let Some(dir) = &r.out {

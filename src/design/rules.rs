@@ -439,7 +439,7 @@ impl InputCheck<'_> {
                 ));
             } else {
                 push(out, Severity::Warn, Rule::StringFuse, format!(
-                    "{tag}{p} strings in parallel: fit each string with overcurrent protection rated {fuse_low:.1}..={fuse_min:.0} A"
+                    "{tag}{p} strings in parallel: fit each string with overcurrent protection rated {fuse_low:.1}–{fuse_min:.0} A"
                 ));
             }
         }

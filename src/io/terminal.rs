@@ -16,7 +16,7 @@ use crate::results::rank::LayoutOutcome;
 use crate::results::recommend::{TIE_BAND_FRAC, UNMET_TIE_FRAC_OF_LOAD};
 use crate::results::uncertainty::empirical_variability;
 use crate::results::weather_summary::WeatherSummary;
-use crate::results::{CheckResult, RankResult, ShadeResult};
+use crate::results::{CheckResult, CheckShow, RankResult, ShadeResult};
 use crate::sim::energy::Step;
 use crate::time::LocalTime;
 use crate::weather_gen::synth::MONTH_NAMES;
@@ -48,14 +48,20 @@ fn site_header(out: &mut String, l: &Loaded) {
 /// The ranking report with the wiring list of the recommended layout and of the plan's
 /// listed layouts.
 pub fn ranking(r: &RankResult) -> String {
-    ranking_with(r, false)
+    ranking_with(r, false, None)
 }
+
+/// How many ranked layouts the report shows by default: every one when the plan lists its
+/// layouts, the best 20 (and the recommended one) of an enumeration.
+pub const DEFAULT_TOP_ENUMERATED: usize = 20;
 
 /// The ranking report: the decision, the ranked and rejected layouts with their reasons,
 /// the wiring lists (of every candidate when `wiring_all`), P50/P90, the winter outlook,
 /// monthly energy, the light on each orientation and the cautions.
-pub fn ranking_with(r: &RankResult, wiring_all: bool) -> String {
-    let t = RankingText::new(r);
+pub fn ranking_with(r: &RankResult, wiring_all: bool, top: Option<usize>) -> String {
+    let enumerated = r.outcomes.iter().any(|o| o.layout.id.starts_with('E'));
+    let top = top.or(enumerated.then_some(DEFAULT_TOP_ENUMERATED));
+    let t = RankingText::new(r, top);
     let mut out = String::new();
     t.header(&mut out);
     t.recommendation(&mut out);
@@ -81,14 +87,19 @@ pub fn ranking_with(r: &RankResult, wiring_all: bool) -> String {
 /// The ranking report's sections, each written by one method.
 struct RankingText<'a> {
     r: &'a RankResult,
+    /// The ranked layouts shown (all, or the best `--top` and the recommended one).
     ranked: Vec<&'a LayoutOutcome>,
+    /// Ranked layouts not shown.
+    hidden: usize,
     rejected: Vec<&'a LayoutOutcome>,
     /// Width of the layout-name column.
     name_w: usize,
 }
 
 impl<'a> RankingText<'a> {
-    fn new(r: &'a RankResult) -> Self {
+    /// The report's view of a run; with `top`, only the best `top` ranked layouts and the
+    /// recommended one are shown (`hidden` counts the rest).
+    fn new(r: &'a RankResult, top: Option<usize>) -> Self {
         let name_w = r
             .outcomes
             .iter()
@@ -96,9 +107,19 @@ impl<'a> RankingText<'a> {
             .max()
             .unwrap_or(6)
             .clamp(6, 90);
+        let rec = r.recommendation.as_ref().map(|x| x.layout.as_str());
+        let all_ranked: Vec<&LayoutOutcome> =
+            r.outcomes.iter().filter(|o| o.rank.is_some()).collect();
+        let keep = top.unwrap_or(usize::MAX);
+        let ranked: Vec<&LayoutOutcome> = all_ranked
+            .iter()
+            .copied()
+            .filter(|o| o.rank.is_some_and(|k| k <= keep) || Some(o.layout.id.as_str()) == rec)
+            .collect();
         RankingText {
             r,
-            ranked: r.outcomes.iter().filter(|o| o.rank.is_some()).collect(),
+            hidden: all_ranked.len() - ranked.len(),
+            ranked,
             rejected: r.outcomes.iter().filter(|o| o.rank.is_none()).collect(),
             name_w,
         }
@@ -345,6 +366,14 @@ impl<'a> RankingText<'a> {
         if self.ranked.is_empty() {
             let _ = writeln!(out, "      (no layout passes the electrical limits)");
         }
+        if self.hidden > 0 {
+            let _ = writeln!(
+                out,
+                "      … and {} more ranked layout{} (--top N shows more; every layout is in --format json and the --out files)",
+                self.hidden,
+                if self.hidden == 1 { "" } else { "s" }
+            );
+        }
         let _ = writeln!(
             out,
             "  → = the layout to build; energies in kWh a year. offered = what the controllers could put out; delivered = what the battery and the load took (a full battery turns the rest away); worst = the month with the least offered; low-sun = sun below {:.0}°",
@@ -562,7 +591,7 @@ fn notes(o: &LayoutOutcome, modules: usize) -> Vec<String> {
 }
 
 /// `wirerank check`: every layout with pass / warn / reject and the numbers.
-pub fn check(r: &CheckResult) -> String {
+pub fn check(r: &CheckResult, show: CheckShow) -> String {
     let mut out = String::new();
     site_header(&mut out, &r.loaded);
     let plan = &r.loaded.plan;
@@ -608,6 +637,14 @@ pub fn check(r: &CheckResult) -> String {
         };
         if !rejected {
             passed += 1;
+        }
+        let listed = match show {
+            CheckShow::All => true,
+            CheckShow::Failing => rejected,
+            CheckShow::Passing => !rejected,
+        };
+        if !listed {
+            continue;
         }
         let _ = writeln!(out, "{verdict}  {:<4} {}", l.id, l.display_name());
         for f in findings {

@@ -69,3 +69,14 @@ pub struct ShadeResult {
     /// The sky seen from each placed group (sun-path pictures).
     pub views: Vec<shade_view::SunPathView>,
 }
+
+/// Which layouts `check` lists.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum CheckShow {
+    #[default]
+    All,
+    /// Only those that break a hard limit.
+    Failing,
+    /// Only those that pass every hard limit.
+    Passing,
+}

@@ -407,3 +407,27 @@ fn without_battery_model_or_load_the_battery_columns_are_empty_and_the_charts_sk
     assert!(prov.contains("monthly_unmet: not drawn, the plan has no [load] table"));
     assert!(!text(&out.stdout).contains("Fewest extra modules"));
 }
+
+#[test]
+fn top_limits_the_ranked_rows_and_says_how_many_are_hidden() {
+    let out = wirerank(&["rank", "demo", "--top", "2"]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let s = text(&out.stdout);
+    // Source: the demo ranks 4 layouts (golden report); 2 shown, 2 hidden.
+    assert!(s.contains("… and 2 more ranked layouts"), "{s}");
+    assert!(!s.contains("    4  "), "rank 4 is hidden: {s}");
+}
+
+#[test]
+fn check_can_list_only_failing_or_only_passing_layouts() {
+    let failing = text(&wirerank(&["check", "demo", "--failing"]).stdout);
+    let passing = text(&wirerank(&["check", "demo", "--passing"]).stdout);
+    // Source: the demo's 6 layouts, 2 rejected (golden check report).
+    assert_eq!(failing.matches("\nreject  ").count(), 2, "{failing}");
+    assert!(
+        !failing.contains("\npass  ") && !failing.contains("\nwarn  "),
+        "{failing}"
+    );
+    assert_eq!(passing.matches("\nreject  ").count(), 0, "{passing}");
+    assert!(passing.contains("4 of 6 layouts pass"), "{passing}");
+}
