@@ -170,7 +170,11 @@ pub fn rank(r: &RankRequest, on_layout_done: &(dyn Fn() + Sync)) -> Result<Outco
     }
     Ok(Outcome {
         stdout,
-        warnings: result.loaded.warning_texts(),
+        warnings: {
+            let mut w = result.loaded.warning_texts();
+            w.extend(io::terminal::facing_away_notes(&result));
+            w
+        },
         nothing_passed,
     })
 }

@@ -176,6 +176,9 @@ impl<'a> RankingText<'a> {
         if plan.battery.model.is_some() && plan.consumption.is_none() {
             let _ = writeln!(out, "{BATTERY_WITHOUT_LOAD}");
         }
+        for note in facing_away_notes(r) {
+            let _ = writeln!(out, "note: {note}");
+        }
         let _ = writeln!(out, "{CAUTIONS_SHORT}");
         let _ = writeln!(out);
     }
@@ -1026,4 +1029,21 @@ pub fn summary_text(w: &Weather, s: &WeatherSummary) -> String {
 /// nothing a plan contains can drive the terminal.
 pub fn quoted(s: &str) -> String {
     format!("{:?}", s)
+}
+
+/// One line per orientation group whose plane gets far less light than the horizontal.
+pub fn facing_away_notes(r: &RankResult) -> Vec<String> {
+    let plan = &r.loaded.plan;
+    crate::results::light::facing_away(&r.light, &r.horizontal_kwh_m2)
+        .into_iter()
+        .map(|(id, ratio)| {
+            let g = plan.groups.iter().find(|g| g.id == id);
+            format!(
+                "group {id} (tilt {:.0}°, azimuth {:.0}°) gets {:.0} % of the horizontal sunlight over the year: it faces away from the sun's path; check its azimuth (clockwise from north: 180 = south, 0 = north)",
+                g.map_or(0.0, |g| g.tilt_deg),
+                g.map_or(0.0, |g| g.azimuth_deg),
+                ratio * 100.0
+            )
+        })
+        .collect()
 }

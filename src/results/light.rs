@@ -1,5 +1,5 @@
-//! Sums over months and the year: light per orientation group (phase 1) and, per layout, the
-//! energy delivered and lost at each step (phase 2).
+//! Sums over months and the year: light per orientation group (phase 1), and the groups
+//! whose plane gets far less light than the horizontal.
 //!
 //! Pure bookkeeping: no physics and no formatting.
 
@@ -86,6 +86,28 @@ pub fn group_monthly(c: &Conditions, group_ids: &[String]) -> Vec<GroupMonthly> 
                 after_iam_kwh_m2: after,
                 mean_daytime_cell_c: mean,
             }
+        })
+        .collect()
+}
+
+/// A group whose plane gets less than this fraction of the horizontal insolation over the
+/// year is flagged: a tilted plane facing the equator gets more than the horizontal at most
+/// latitudes, so well below it usually means it faces away (or its azimuth was written
+/// from the south instead of from the north). Common practice, no source.
+pub const FACING_AWAY_FRAC: f64 = 0.8;
+
+/// The groups whose yearly plane insolation is below [`FACING_AWAY_FRAC`] of the
+/// horizontal: (group id, plane / horizontal).
+pub fn facing_away(light: &[GroupMonthly], horizontal_kwh_m2: &[f64; 12]) -> Vec<(String, f64)> {
+    let h: f64 = horizontal_kwh_m2.iter().sum();
+    if h <= 0.0 {
+        return Vec::new();
+    }
+    light
+        .iter()
+        .filter_map(|g| {
+            let ratio = g.poa_kwh_m2.iter().sum::<f64>() / h;
+            (ratio < FACING_AWAY_FRAC).then(|| (g.group.clone(), ratio))
         })
         .collect()
 }

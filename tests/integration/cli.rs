@@ -132,6 +132,27 @@ fn template_is_a_valid_plan() {
     assert!(plan.is_ok(), "{:?}", plan.err());
 }
 
+/// `template > p.toml && rank p.toml` runs as it is beside the bundled samples.
+#[cfg(unix)]
+#[test]
+fn the_template_ranks_as_written_beside_the_samples() {
+    let dir = tempfile::tempdir().expect("temporary folder");
+    std::os::unix::fs::symlink(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples"),
+        dir.path().join("weather-samples"),
+    )
+    .expect("link the samples");
+    let plan = dir.path().join("p.toml");
+    std::fs::write(&plan, wirerank(&["template"]).stdout).expect("write the plan");
+    let out = wirerank(&["rank", plan.to_str().expect("utf-8"), "--quiet"]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    assert!(
+        text(&out.stdout).contains("Build L1"),
+        "{}",
+        text(&out.stdout)
+    );
+}
+
 #[test]
 fn sunpath_csv_has_the_documented_columns() {
     let out = wirerank(&[

@@ -260,3 +260,41 @@ fn the_report_names_months_and_opens_with_the_decision() {
         "{text}"
     );
 }
+
+/// A group facing north at 47° N gets far less than the horizontal sunlight: the report and
+/// stderr say so.
+/// Source: geometry of the sun's path (a plane tilted 40° towards the pole at 47° N sees
+/// well under the horizontal insolation; common practice, no source).
+#[test]
+fn a_plane_facing_away_from_the_sun_is_flagged() {
+    let dir = tempfile::tempdir().expect("temporary folder");
+    let weather = Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples/larchwood-2025.csv");
+    let plan = wirerank::commands::load::DEMO_PLAN
+        .replace(
+            "file = \"larchwood-2025.csv\"",
+            &format!("file = {:?}", weather.to_str().expect("utf-8")),
+        )
+        .replacen("azimuth_deg = 180", "azimuth_deg = 0", 1);
+    let path = dir.path().join("north.toml");
+    std::fs::write(&path, plan).expect("write");
+    let out = Command::new(env!("CARGO_BIN_EXE_wirerank"))
+        .args(["rank", path.to_str().expect("utf-8")])
+        .env_remove("RUST_BACKTRACE")
+        .output()
+        .expect("runs");
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        stdout.contains("faces away from the sun's path"),
+        "{stdout}"
+    );
+    assert!(stderr.contains("group roof"), "{stderr}");
+    // The demo as written (south roof, south-west shed wall) is not flagged.
+    assert!(!wirerank::io::terminal::ranking(demo()).contains("faces away"));
+}
