@@ -153,6 +153,9 @@ pub struct OutputArgs {
     /// enumeration the best 20 and the recommended one). The files always hold every layout.
     #[arg(long, value_name = "N")]
     pub top: Option<usize>,
+    /// With --out, also draw the wiring diagram of this layout (its id, e.g. L2; repeatable).
+    #[arg(long = "diagram", value_name = "ID", requires = "out")]
+    pub diagrams: Vec<String>,
     /// List the wiring, module by module, of every candidate layout (the report lists the
     /// recommended and the plan's listed layouts; the files always hold every layout).
     #[arg(long)]
@@ -255,6 +258,7 @@ impl Cli {
                 hourly: self.demo.hourly,
                 wiring: self.demo.wiring,
                 top: self.demo.top,
+                diagrams: self.demo.diagrams,
                 quiet: self.demo.quiet,
             }),
             Some(Command::Rank(a)) => Request::Rank(RankRequest {
@@ -269,6 +273,7 @@ impl Cli {
                 hourly: a.output.hourly,
                 wiring: a.output.wiring,
                 top: a.output.top,
+                diagrams: a.output.diagrams,
                 quiet: a.output.quiet,
             }),
             Some(Command::Check(a)) => Request::Check(

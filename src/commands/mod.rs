@@ -50,6 +50,8 @@ pub struct RankRequest {
     pub wiring: bool,
     /// At most this many ranked layouts in the report (`None`: the default).
     pub top: Option<usize>,
+    /// With `out`: layout ids whose wiring diagram to draw besides the recommended one's.
+    pub diagrams: Vec<String>,
     pub quiet: bool,
 }
 

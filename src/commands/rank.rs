@@ -151,7 +151,10 @@ pub fn rank(r: &RankRequest, on_layout_done: &(dyn Fn() + Sync)) -> Result<Outco
         let written = io::export::write_outputs(
             &result,
             dir,
-            &io::export::ExportOptions { hourly: r.hourly },
+            &io::export::ExportOptions {
+                hourly: r.hourly,
+                diagrams: r.diagrams.clone(),
+            },
         )?;
         if r.format == OutputFormat::Table {
             stdout.push_str(&format!(

@@ -113,10 +113,12 @@ pub const DELIVERED_STEP: &str = "delivered";
 pub const LIST_SEPARATOR: &str = " | ";
 
 /// What to write besides the files that are always written.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
 pub struct ExportOptions {
     /// Also write hourly.csv (needs a run made with interval rows kept).
     pub hourly: bool,
+    /// Layout ids whose wiring diagram to draw besides the recommended layout's.
+    pub diagrams: Vec<String>,
 }
 
 /// Writes monthly.csv, summary.csv, losses.csv (and hourly.csv when asked) plus
@@ -195,7 +197,7 @@ pub fn write_outputs(
                 .map_err(polars_error(HOURLY_CSV))?,
         ));
     }
-    let planned = plots::plan_charts(r);
+    let planned = plots::plan_charts(r, &opts.diagrams);
     for chart in &planned.charts {
         let name = format!("{}.svg", chart.stem());
         let svg = chart

@@ -210,7 +210,7 @@ impl Chart {
 }
 
 /// Gathers the data of every chart the run allows.
-pub fn plan_charts(r: &RankResult) -> PlannedCharts {
+pub fn plan_charts(r: &RankResult, diagrams: &[String]) -> PlannedCharts {
     let ranked: Vec<_> = r
         .outcomes
         .iter()
@@ -229,7 +229,18 @@ pub fn plan_charts(r: &RankResult) -> PlannedCharts {
     let label = |o: &crate::results::rank::LayoutOutcome| {
         format!("{} {}", o.layout.id, shorten(&o.layout.display_name(), 80))
     };
-    if let Some(o) = r.recommended() {
+    // The wiring diagram of the recommended layout, then of each layout asked for by id.
+    let mut drawn: Vec<&str> = Vec::new();
+    let asked = r.recommended().into_iter().chain(
+        diagrams
+            .iter()
+            .filter_map(|id| r.outcomes.iter().find(|o| &o.layout.id == id)),
+    );
+    for o in asked {
+        if drawn.contains(&o.layout.id.as_str()) {
+            continue;
+        }
+        drawn.push(&o.layout.id);
         charts.push(Chart::Wiring(Box::new(
             crate::io::diagram::WiringDiagram::new(&r.loaded.plan, &o.layout, &r.temps),
         )));

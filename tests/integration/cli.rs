@@ -452,3 +452,29 @@ fn check_can_list_only_failing_or_only_passing_layouts() {
     assert_eq!(passing.matches("\nreject  ").count(), 0, "{passing}");
     assert!(passing.contains("4 of 6 layouts pass"), "{passing}");
 }
+
+/// `--diagram ID` draws another layout's wiring besides the recommended one's; a three-input
+/// plan draws every input.
+#[test]
+fn diagram_option_draws_a_chosen_layout_of_a_three_input_plan() {
+    let dir = tempfile::tempdir().expect("temporary folder");
+    let out_dir = dir.path().join("r");
+    let out = wirerank(&[
+        "rank",
+        fixture("plan_three_inputs.toml").to_str().expect("utf-8"),
+        "--quiet",
+        "--out",
+        out_dir.to_str().expect("utf-8"),
+        "--diagram",
+        "L2",
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let svg = std::fs::read_to_string(out_dir.join("wiring_L2.svg")).expect("L2 drawn");
+    assert!(
+        out_dir.join("wiring_L1.png").exists(),
+        "the recommended layout too"
+    );
+    for input in ["in1 (MPPT", "in2 (MPPT", "pwm3 (PWM"] {
+        assert!(svg.contains(input), "{input} missing");
+    }
+}

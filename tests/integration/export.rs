@@ -46,8 +46,15 @@ fn written() -> &'static (tempfile::TempDir, Vec<PathBuf>) {
     OUT.get_or_init(|| {
         let dir = tempfile::tempdir().expect("a temporary folder");
         let out = dir.path().join("run");
-        let paths = write_outputs(demo(), &out, &ExportOptions { hourly: true })
-            .expect("the demo's files are written");
+        let paths = write_outputs(
+            demo(),
+            &out,
+            &ExportOptions {
+                hourly: true,
+                ..ExportOptions::default()
+            },
+        )
+        .expect("the demo's files are written");
         (dir, paths)
     })
 }
@@ -489,7 +496,15 @@ fn provenance_names_version_inputs_models_criterion_and_cautions() {
 #[test]
 fn the_same_run_gives_the_same_bytes() {
     let dir = tempfile::tempdir().expect("temporary folder");
-    write_outputs(demo(), dir.path(), &ExportOptions { hourly: true }).expect("written");
+    write_outputs(
+        demo(),
+        dir.path(),
+        &ExportOptions {
+            hourly: true,
+            ..ExportOptions::default()
+        },
+    )
+    .expect("written");
     for name in listing(&out_dir()) {
         let a = fs::read(out_dir().join(&name)).expect("first");
         let b = fs::read(dir.path().join(&name)).expect("second");
@@ -505,7 +520,14 @@ fn unwritable_folder_is_an_output_error_and_leaves_nothing() {
     let blocker = dir.path().join("blocker");
     fs::write(&blocker, "not a folder").expect("blocker file");
     let out = blocker.join("runs").join("one");
-    match write_outputs(demo(), &out, &ExportOptions { hourly: true }) {
+    match write_outputs(
+        demo(),
+        &out,
+        &ExportOptions {
+            hourly: true,
+            ..ExportOptions::default()
+        },
+    ) {
         Err(Error::Output { path, .. }) => assert!(path.contains("blocker"), "{path}"),
         other => panic!("expected an output error, got {other:?}"),
     }
@@ -519,7 +541,14 @@ fn failed_rename_removes_every_temporary() {
     // was written.
     let dir = tempfile::tempdir().expect("temporary folder");
     fs::create_dir_all(dir.path().join(MONTHLY_CSV).join("keep")).expect("blocking folder");
-    match write_outputs(demo(), dir.path(), &ExportOptions { hourly: false }) {
+    match write_outputs(
+        demo(),
+        dir.path(),
+        &ExportOptions {
+            hourly: false,
+            ..ExportOptions::default()
+        },
+    ) {
         Err(Error::Output { path, .. }) => assert!(path.ends_with(MONTHLY_CSV), "{path}"),
         other => panic!("expected an output error, got {other:?}"),
     }
@@ -563,12 +592,27 @@ fn without_interval_rows_the_gain_map_is_skipped_and_hourly_csv_refused() {
     }
     let dir = tempfile::tempdir().expect("temporary folder");
     let out = dir.path().join("out");
-    match write_outputs(&r, &out, &ExportOptions { hourly: true }) {
+    match write_outputs(
+        &r,
+        &out,
+        &ExportOptions {
+            hourly: true,
+            ..ExportOptions::default()
+        },
+    ) {
         Err(Error::Usage(m)) => assert!(m.contains("hourly"), "{m}"),
         other => panic!("expected a usage error, got {other:?}"),
     }
     assert!(!out.exists(), "nothing is created when refusing");
-    write_outputs(&r, &out, &ExportOptions { hourly: false }).expect("written");
+    write_outputs(
+        &r,
+        &out,
+        &ExportOptions {
+            hourly: false,
+            ..ExportOptions::default()
+        },
+    )
+    .expect("written");
     let files = listing(&out);
     assert!(!files.contains("gain_map.png") && !files.contains(HOURLY_CSV));
     assert!(files.contains("monthly_energy.png") && files.contains("losses.svg"));
