@@ -39,7 +39,7 @@ fn print_points(out: &mut String, label: &str, pts: &[(f64, f64, f64)], csv: boo
 pub fn curve(r: &CurveRequest) -> Result<Outcome, Error> {
     if r.points < 2 || r.points > 10_000 {
         return Err(Error::Usage(format!(
-            "--points = {} is outside 2..=10000",
+            "--points = {} is outside 2 to 10000",
             r.points
         )));
     }
@@ -63,12 +63,12 @@ pub fn curve(r: &CurveRequest) -> Result<Outcome, Error> {
             };
             if !(0.0..=2000.0).contains(irradiance_w_m2) {
                 return Err(Error::Usage(format!(
-                    "--irradiance-w-m2 = {irradiance_w_m2} is outside 0..=2000"
+                    "--irradiance-w-m2 = {irradiance_w_m2} is outside 0 to 2000"
                 )));
             }
             if !(-60.0..=100.0).contains(cell_temp_c) {
                 return Err(Error::Usage(format!(
-                    "--cell-temp-c = {cell_temp_c} is outside -60..=100"
+                    "--cell-temp-c = {cell_temp_c} is outside -60 to 100"
                 )));
             }
             let t = match module_type {

@@ -38,7 +38,7 @@ pub fn sunpath(r: &SunpathRequest) -> Result<Outcome, Error> {
         })?;
         if !v.is_finite() || v < lo || v > hi {
             return Err(Error::Usage(format!(
-                "--{} = {v} is outside {lo}..={hi}",
+                "--{} = {v} is outside {lo} to {hi}",
                 key.replace('_', "-")
             )));
         }
@@ -71,12 +71,12 @@ pub fn sunpath(r: &SunpathRequest) -> Result<Outcome, Error> {
         .unwrap_or(0.0);
     if !(-500.0..=9000.0).contains(&elev) {
         return Err(Error::Usage(format!(
-            "--elevation-m = {elev} is outside -500..=9000"
+            "--elevation-m = {elev} is outside -500 to 9000"
         )));
     }
     if r.step_min == 0 || r.step_min > 1440 {
         return Err(Error::Usage(format!(
-            "--step-min = {} is outside 1..=1440",
+            "--step-min = {} is outside 1 to 1440",
             r.step_min
         )));
     }

@@ -52,7 +52,7 @@ impl P90Inputs {
         ] {
             if !(v.is_finite() && (FRACTION_RANGE.0..=FRACTION_RANGE.1).contains(&v)) {
                 return Err(format!(
-                    "{name} = {v} is outside {}..={} (a fraction: 0.05 is 5 %)",
+                    "{name} = {v} is outside {} to {} (a fraction: 0.05 is 5 %)",
                     FRACTION_RANGE.0, FRACTION_RANGE.1
                 ));
             }

@@ -296,7 +296,7 @@ impl Weather {
                     file: self.source.clone(),
                     what: what.to_string(),
                     value,
-                    range: format!("{lo}..={hi}"),
+                    range: format!("{lo} to {hi}"),
                 });
             }
         }
@@ -573,7 +573,7 @@ impl UncheckedWeather {
                     line,
                     column: column.to_string(),
                     value,
-                    range: format!("0..={max_w_m2:.0}"),
+                    range: format!("0 to {max_w_m2:.0}"),
                     hint: " W/m² (extraterrestrial normal irradiance that day, plus 10)"
                         .to_string(),
                 });
@@ -739,7 +739,7 @@ fn check_range(file: &str, line: usize, rule: &RangeRule, value: f64) -> Result<
             line,
             column: rule.column.to_string(),
             value,
-            range: format!("{}..={}", rule.lo, rule.hi),
+            range: format!("{} to {}", rule.lo, rule.hi),
             hint: rule.hint.to_string(),
         })
     }

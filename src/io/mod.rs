@@ -53,3 +53,24 @@ pub fn create_output_dir(dir: &std::path::Path) -> Result<(), crate::error::Erro
         source,
     })
 }
+
+/// A TOML reader's message in a person's words: Rust type names become what they mean
+/// (`expected f64` → `expected a number`), without the trailing period.
+pub fn plain_toml_message(message: &str) -> String {
+    let mut m = message.trim().trim_end_matches('.').to_string();
+    for (rust, words) in [
+        ("expected f64", "expected a number"),
+        ("expected f32", "expected a number"),
+        ("expected u32", "expected a whole number"),
+        ("expected u64", "expected a whole number"),
+        ("expected usize", "expected a whole number"),
+        ("expected i32", "expected a whole number"),
+        ("expected i64", "expected a whole number"),
+        ("expected u8", "expected a whole number"),
+        ("expected a boolean", "expected true or false"),
+        ("expected a sequence", "expected a list in [ ]"),
+    ] {
+        m = m.replace(rust, words);
+    }
+    m
+}

@@ -70,7 +70,7 @@ fn parse_monthly_with_spans(text: &str, file: &str) -> Result<(MonthlyInputs, Sp
         let (line, column) = e.span().map_or((1, 1), |s| line_col(text, s.start));
         Error::Usage(format!(
             "{file}:{line}:{column} {}",
-            e.message().trim().trim_end_matches('.')
+            crate::io::plain_toml_message(e.message())
         ))
     })?;
     let year = i32::try_from(*raw.year.get_ref()).map_err(|_| {
@@ -175,7 +175,7 @@ air_range_dk = [8, 8, 9, 10, 11, 12, 12, 12, 11, 9, 8, 7]
         // (april) starts at column 30; line 7's sixth value (june) at column 44.
         check_toml_error(
             ("10.5, 15.0", "-99, 15.0"),
-            "site.monthly.toml:8:30 air_mean_c for april = -99 is outside -60..=50",
+            "site.monthly.toml:8:30 air_mean_c for april = -99 is outside -60 to 50",
         );
         check_toml_error(
             ("5.6, 6.2, 6.4", "5.6, -6.2, 6.4"),
@@ -187,7 +187,7 @@ air_range_dk = [8, 8, 9, 10, 11, 12, 12, 12, 11, 9, 8, 7]
         );
         check_toml_error(
             ("latitude_deg = 45.0", "latitude_deg = 145.0"),
-            "site.monthly.toml:2:16 latitude_deg = 145 is outside -90..=90",
+            "site.monthly.toml:2:16 latitude_deg = 145 is outside -90 to 90",
         );
         check_toml_error(("year = 2025", "yaer = 2025"), "site.monthly.toml:");
         check_toml_error(

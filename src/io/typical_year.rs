@@ -379,7 +379,7 @@ fn parse_location(file: &str, line: &str) -> Result<WeatherSite, WeatherError> {
         if v.is_finite() && (lo..=hi).contains(&v) {
             Ok(v)
         } else {
-            Err(bad(key, text, format!("is outside {lo}..={hi}")))
+            Err(bad(key, text, format!("is outside {lo} to {hi}")))
         }
     };
     let latitude_deg = number(6, "latitude (field 7)", -90.0, 90.0)?;
@@ -461,7 +461,7 @@ fn parse_row(file: &str, line: usize, text: &str) -> Result<Row, WeatherError> {
                 line,
                 column: name.to_string(),
                 value: v as f64,
-                range: format!("{lo}..={hi}"),
+                range: format!("{lo} to {hi}"),
                 hint: String::new(),
             })
         }

@@ -270,7 +270,7 @@ fn header_values(
             .parse()
             .map_err(|_| bad(key, value, *line, "is not a number"))?;
         if !(v.is_finite() && (lo..=hi).contains(&v)) {
-            return Err(bad(key, value, *line, &format!("is outside {lo}..={hi}")));
+            return Err(bad(key, value, *line, &format!("is outside {lo} to {hi}")));
         }
         Ok(Some(v))
     };

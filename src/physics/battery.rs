@@ -792,13 +792,13 @@ impl<'a> Series<'a> {
         for k in 0..n {
             if !(1..=12).contains(&month[k]) {
                 return Err(format!(
-                    "interval {k}: month = {} must be in 1..=12",
+                    "interval {k}: month = {} must be in 1 to 12",
                     month[k]
                 ));
             }
             if hour[k] > 23 {
                 return Err(format!(
-                    "interval {k}: hour = {} must be in 0..=23",
+                    "interval {k}: hour = {} must be in 0 to 23",
                     hour[k]
                 ));
             }

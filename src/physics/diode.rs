@@ -114,10 +114,10 @@ pub enum FitError {
     #[error("datasheet imp_a = {imp_a} is not below isc_a = {isc_a}: the maximum-power current must be lower than the short-circuit current")]
     ImpNotBelowIsc { imp_a: f64, isc_a: f64 },
     /// The fill factor is outside [`FILL_FACTOR_RANGE`].
-    #[error("datasheet fill factor vmp·imp/(voc·isc) = {fill_factor:.3} is outside {lo:.2}..={hi:.2} (below: probably a typing error; above: beyond what silicon cells reach)")]
+    #[error("datasheet fill factor vmp·imp/(voc·isc) = {fill_factor:.3} is outside {lo:.2} to {hi:.2} (below: probably a typing error; above: beyond what silicon cells reach)")]
     FillFactor { fill_factor: f64, lo: f64, hi: f64 },
     /// The Voc temperature coefficient is implausible.
-    #[error("datasheet beta_voc_v_k = {value} V/K is {pct_per_k:.3} %/K of voc_v; expected {lo:.2}..={hi:.2} %/K (is it given in %/K instead of V/K?)")]
+    #[error("datasheet beta_voc_v_k = {value} V/K is {pct_per_k:.3} %/K of voc_v; expected {lo:.2} to {hi:.2} %/K (is it given in %/K instead of V/K?)")]
     BetaOutOfRange {
         value: f64,
         pct_per_k: f64,
@@ -125,7 +125,7 @@ pub enum FitError {
         hi: f64,
     },
     /// The Isc temperature coefficient is implausible.
-    #[error("datasheet alpha_isc_a_k = {value} A/K is {pct_per_k:.3} %/K of isc_a; expected {lo:.2}..={hi:.2} %/K (is it given in %/K instead of A/K?)")]
+    #[error("datasheet alpha_isc_a_k = {value} A/K is {pct_per_k:.3} %/K of isc_a; expected {lo:.2} to {hi:.2} %/K (is it given in %/K instead of A/K?)")]
     AlphaOutOfRange {
         value: f64,
         pct_per_k: f64,

@@ -208,13 +208,13 @@ impl Surface {
     pub fn validate(&self) -> Result<(), String> {
         if !(0.0..=90.0).contains(&self.tilt_deg) {
             return Err(format!(
-                "tilt_deg = {} is outside 0..=90 (0 = horizontal, 90 = vertical)",
+                "tilt_deg = {} is outside 0 to 90 (0 = horizontal, 90 = vertical)",
                 self.tilt_deg
             ));
         }
         if !(0.0..=360.0).contains(&self.azimuth_deg) {
             return Err(format!(
-                "azimuth_deg = {} is outside 0..=360 (degrees clockwise from north, 180 = south)",
+                "azimuth_deg = {} is outside 0 to 360 (degrees clockwise from north, 180 = south)",
                 self.azimuth_deg
             ));
         }
@@ -468,7 +468,7 @@ impl GlassCover {
     pub fn validate(&self) -> Result<(), String> {
         if !(self.refractive_index > 1.0 && self.refractive_index <= 3.0) {
             return Err(format!(
-                "refractive_index = {} is outside 1..=3 (glass is about 1.5)",
+                "refractive_index = {} is outside 1 to 3 (glass is about 1.5)",
                 self.refractive_index
             ));
         }

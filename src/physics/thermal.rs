@@ -136,7 +136,7 @@ impl CellTemperatureModel {
             CellTemperatureModel::Noct { noct_c } => {
                 if !(noct_c > 20.0 && noct_c <= 100.0) {
                     return Err(format!(
-                        "noct_c = {noct_c} is outside 20..=100 °C (datasheets give about 42-50 °C)"
+                        "noct_c = {noct_c} is outside 20 to 100 °C (datasheets give about 42-50 °C)"
                     ));
                 }
                 Ok(())

@@ -161,7 +161,7 @@ mod tests {
         assert!(P90Inputs::new(0.05, f64::NAN).is_err());
         let msg = P90Inputs::new(5.0, 0.05).unwrap_err();
         assert!(
-            msg.starts_with("variability_frac = 5 is outside 0..=0.5"),
+            msg.starts_with("variability_frac = 5 is outside 0 to 0.5"),
             "{msg}"
         );
         assert_eq!(P90Inputs::new(0.045, 0.05).unwrap(), P90Inputs::TYPICAL);

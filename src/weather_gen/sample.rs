@@ -140,7 +140,7 @@ pub fn generate(climate: &SampleClimate, seed: u64) -> Result<Weather, WeatherEr
             file: source,
             what: "year".to_string(),
             value: f64::from(climate.year),
-            range: "1901..=2099".to_string(),
+            range: "1901 to 2099".to_string(),
         });
     }
     if let Some(bad) = climate
@@ -152,7 +152,7 @@ pub fn generate(climate: &SampleClimate, seed: u64) -> Result<Weather, WeatherEr
             file: source,
             what: "clearness_mean_frac".to_string(),
             value: *bad,
-            range: format!("{CLOUDY_MEAN}..={CLEAR_MEAN}"),
+            range: format!("{CLOUDY_MEAN} to {CLEAR_MEAN}"),
         });
     }
 

@@ -203,7 +203,7 @@ fn bad_plans_name_the_key_and_exit_2() {
         ("bad_plan_unknown_key.toml", "tilt_degree"),
         (
             "bad_plan_tilt_out_of_range.toml",
-            "group.roof.tilt_deg = 120 is outside 0..=90",
+            "group.roof.tilt_deg = 120 is outside 0 to 90",
         ),
         ("bad_plan_unknown_module_in_layout.toml", "roof-9"),
         ("bad_plan_module_used_twice.toml", "twice"),
@@ -477,4 +477,29 @@ fn diagram_option_draws_a_chosen_layout_of_a_three_input_plan() {
     for input in ["in1 (MPPT", "in2 (MPPT", "pwm3 (PWM"] {
         assert!(svg.contains(input), "{input} missing");
     }
+}
+
+/// Messages speak of numbers and ranges, not of programming-language types and syntax.
+#[test]
+fn plan_errors_use_plain_words_for_types_and_ranges() {
+    let dir = tempfile::tempdir().expect("temporary folder");
+    let p = dir.path().join("p.toml");
+    let template = text(&wirerank(&["template"]).stdout);
+    std::fs::write(
+        &p,
+        template.replace("latitude_deg = 47.2", "latitude_deg = \"north\""),
+    )
+    .expect("write");
+    let e = text(&wirerank(&["check", p.to_str().expect("utf-8")]).stderr);
+    assert!(e.contains("expected a number") && !e.contains("f64"), "{e}");
+    std::fs::write(
+        &p,
+        template.replace("latitude_deg = 47.2", "latitude_deg = 95"),
+    )
+    .expect("write");
+    let e = text(&wirerank(&["check", p.to_str().expect("utf-8")]).stderr);
+    assert!(
+        e.contains("is outside -90 to 90") && !e.contains("..="),
+        "{e}"
+    );
 }

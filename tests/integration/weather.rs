@@ -66,7 +66,7 @@ fn rejects_header_problems_naming_line_and_key() {
     );
     check_bad(
         "header_value",
-        " line 3: latitude_deg = \"147.2\" is outside -90..=90",
+        " line 3: latitude_deg = \"147.2\" is outside -90 to 90",
     );
     check_bad("interval", " line 7: interval_min = \"45\" must divide 60");
     check_bad(
@@ -143,16 +143,16 @@ fn rejects_implausible_values_with_a_hint() {
     // Source: notebooks-free-docs/weather-format.md ranges (−90..60 °C); the rest are this crate's documented limits.
     check_bad(
         "temperature",
-        " line 11: air_temp_c = 291.6 is outside -90..=60 °C (is it in kelvin",
+        " line 11: air_temp_c = 291.6 is outside -90 to 60 °C (is it in kelvin",
     );
-    check_bad("wind", " line 11: wind_m_s = -1.2 is outside 0..=75 m/s");
+    check_bad("wind", " line 11: wind_m_s = -1.2 is outside 0 to 75 m/s");
     check_bad(
         "albedo",
-        " line 12: albedo_frac = 20 is outside 0..=1 (a fraction, not a percentage)",
+        " line 12: albedo_frac = 20 is outside 0 to 1 (a fraction, not a percentage)",
     );
     check_bad(
         "pressure",
-        " line 11: pressure_hpa = 91250 is outside 300..=1100 hPa (is it in Pa",
+        " line 11: pressure_hpa = 91250 is outside 300 to 1100 hPa (is it in Pa",
     );
     check_bad(
         "negative",
@@ -164,7 +164,7 @@ fn rejects_implausible_values_with_a_hint() {
     );
     check_bad(
         "dni_above_extraterrestrial",
-        " line 12: dni_w_m2 = 1500 is outside 0..=",
+        " line 12: dni_w_m2 = 1500 is outside 0 to ",
     );
 }
 

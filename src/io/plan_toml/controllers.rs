@@ -308,7 +308,7 @@ fn efficiency_curve(
         }
         let (f, eta) = (p[0], p[1]);
         if !((0.0..=1.0).contains(&f) && eta > 0.0 && eta <= 1.0) {
-            return Err(ctx.err(e.span(), key, format!("{key} point {} = [{f}, {eta}]: output fraction must be in 0..=1 and efficiency in (0, 1]", n + 1)));
+            return Err(ctx.err(e.span(), key, format!("{key} point {} = [{f}, {eta}]: output fraction must be in 0 to 1 and efficiency in (0, 1]", n + 1)));
         }
         if let Some(&(last, _)) = pts.last() {
             if f <= last {

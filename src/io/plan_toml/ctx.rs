@@ -42,7 +42,11 @@ impl Ctx<'_> {
     pub(super) fn range(&self, v: &S<f64>, key: &str, lo: f64, hi: f64) -> Result<f64, PlanError> {
         let x = *v.get_ref();
         if !x.is_finite() || x < lo || x > hi {
-            return Err(self.err(v.span(), key, format!("{key} = {x} is outside {lo}..={hi}")));
+            return Err(self.err(
+                v.span(),
+                key,
+                format!("{key} = {x} is outside {lo} to {hi}"),
+            ));
         }
         Ok(x)
     }
@@ -83,7 +87,11 @@ impl Ctx<'_> {
     ) -> Result<i64, PlanError> {
         let x = *v.get_ref();
         if x < lo || x > hi {
-            return Err(self.err(v.span(), key, format!("{key} = {x} is outside {lo}..={hi}")));
+            return Err(self.err(
+                v.span(),
+                key,
+                format!("{key} = {x} is outside {lo} to {hi}"),
+            ));
         }
         Ok(x)
     }
@@ -118,7 +126,7 @@ impl Ctx<'_> {
                 return Err(self.err(
                     v.span(),
                     key,
-                    format!("{key}: month {} = {x} is outside {lo}..={hi}", k + 1),
+                    format!("{key}: month {} = {x} is outside {lo} to {hi}", k + 1),
                 ));
             }
             out[k] = x * scale;

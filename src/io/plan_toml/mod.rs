@@ -56,7 +56,7 @@ pub fn parse_plan(text: &str, file_name: &str, base_dir: &Path) -> Result<Plan, 
             file: ctx.file.clone(),
             line,
             column,
-            message: e.message().trim().to_string(),
+            message: crate::io::plain_toml_message(e.message()),
         }
     })?;
     validate(&ctx, raw, base_dir)

@@ -32,7 +32,7 @@ fn int_list(
                     return Err(ctx.err(
                         list.span(),
                         key,
-                        format!("{key} contains {x}, outside {lo}..={hi}"),
+                        format!("{key} contains {x}, outside {lo} to {hi}"),
                     ));
                 }
             }

@@ -41,7 +41,7 @@ impl HorizonProfile {
             }
             if !(HORIZON_MIN_ELEVATION_DEG..=90.0).contains(&el) {
                 return Err(format!(
-                    "horizon point {i}: elevation_deg = {el} is outside -5..=90"
+                    "horizon point {i}: elevation_deg = {el} is outside -5 to 90"
                 ));
             }
             if az <= prev {

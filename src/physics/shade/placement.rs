@@ -54,13 +54,13 @@ impl ModulePlacement {
         finite("centre_up_m", self.centre_up_m)?;
         if !(0.0..=90.0).contains(&self.tilt_deg) {
             return Err(format!(
-                "tilt_deg = {} is outside 0..=90 (0 = horizontal, 90 = vertical)",
+                "tilt_deg = {} is outside 0 to 90 (0 = horizontal, 90 = vertical)",
                 self.tilt_deg
             ));
         }
         if !(0.0..=360.0).contains(&self.azimuth_deg) {
             return Err(format!(
-                "azimuth_deg = {} is outside 0..=360 (degrees clockwise from north, 180 = south)",
+                "azimuth_deg = {} is outside 0 to 360 (degrees clockwise from north, 180 = south)",
                 self.azimuth_deg
             ));
         }
@@ -68,7 +68,7 @@ impl ModulePlacement {
         positive("width_m", self.width_m)?;
         if !(1..=MAX_SUBSTRINGS).contains(&self.substrings) {
             return Err(format!(
-                "substrings = {} is outside 1..={MAX_SUBSTRINGS}",
+                "substrings = {} is outside 1 to {MAX_SUBSTRINGS}",
                 self.substrings
             ));
         }

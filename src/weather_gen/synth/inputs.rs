@@ -334,7 +334,7 @@ fn check_months(
                 key,
                 month: m,
                 value: v,
-                range: format!("{lo}..={hi}"),
+                range: format!("{lo} to {hi}"),
                 hint,
             });
         }
@@ -349,7 +349,7 @@ fn check_site(key: &'static str, value: f64, lo: f64, hi: f64) -> Result<(), Syn
         Err(SynthError::BadSite {
             key,
             value,
-            range: format!("{lo}..={hi}"),
+            range: format!("{lo} to {hi}"),
             hint: "",
         })
     }
@@ -380,7 +380,7 @@ impl MonthlyInputs {
             year_calendar(self.year).ok_or_else(|| SynthError::BadSite {
                 key: "year",
                 value: f64::from(self.year),
-                range: format!("{}..={}", YEAR_RANGE.0, YEAR_RANGE.1),
+                range: format!("{} to {}", YEAR_RANGE.0, YEAR_RANGE.1),
                 hint: "",
             })?;
         let days = day_month.len();
@@ -457,7 +457,7 @@ impl MonthlyInputs {
             return Err(SynthError::BadSite {
                 key: "utc_offset_h",
                 value: self.utc_offset_h,
-                range: "-12..=14".to_string(),
+                range: "-12 to 14".to_string(),
                 hint: " in whole quarter hours (e.g. 1, -5, 5.5, 5.75)",
             });
         }
@@ -465,7 +465,7 @@ impl MonthlyInputs {
             return Err(SynthError::BadSite {
                 key: "year",
                 value: f64::from(self.year),
-                range: format!("{}..={}", YEAR_RANGE.0, YEAR_RANGE.1),
+                range: format!("{} to {}", YEAR_RANGE.0, YEAR_RANGE.1),
                 hint: " (the textbook sun formulas are fitted to these years)",
             });
         }
@@ -675,21 +675,21 @@ mod tests {
         );
         check_invalid(
             |i| i.air_mean_c[0] = 273.0,
-            "air_mean_c for january = 273 is outside -60..=50 °C",
+            "air_mean_c for january = 273 is outside -60 to 50 °C",
         );
         check_invalid(
             |i| i.wind_m_s.as_mut().unwrap()[1] = -1.0,
-            "wind_m_s for february = -1 is outside 0..=30",
+            "wind_m_s for february = -1 is outside 0 to 30",
         );
         check_invalid(
             |i| i.latitude_deg = 95.0,
-            "latitude_deg = 95 is outside -90..=90",
+            "latitude_deg = 95 is outside -90 to 90",
         );
         check_invalid(
             |i| i.utc_offset_h = 1.3,
-            "utc_offset_h = 1.3 is outside -12..=14 in whole quarter hours",
+            "utc_offset_h = 1.3 is outside -12 to 14 in whole quarter hours",
         );
-        check_invalid(|i| i.year = 1800, "year = 1800 is outside 1901..=2099");
+        check_invalid(|i| i.year = 1800, "year = 1800 is outside 1901 to 2099");
         check_invalid(|i| i.name = "  ".to_string(), "name is empty");
         let e = base_inputs();
         let mut bad = e.clone();
