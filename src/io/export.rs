@@ -298,7 +298,7 @@ fn battery_cells(r: &RankResult, e: &LayoutEnergy, month: Option<usize>) -> Batt
         .filter(|x| !x.is_nan())
         .fold(None, |a: Option<f64>, x| Some(a.map_or(x, |a| a.min(x))));
     BatteryCells {
-        harvested_kwh: (sum(&e.delivered_wh) + curtailed) / 1000.0,
+        harvested_kwh: months.iter().map(|&m| e.offered_wh(m)).sum::<f64>() / 1000.0,
         curtailed_kwh: curtailed / 1000.0,
         used_kwh: with_load.then(|| sum(&e.load_served_wh) / 1000.0),
         unmet_kwh: with_load.then(|| sum(&e.unmet_wh) / 1000.0),

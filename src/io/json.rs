@@ -7,7 +7,7 @@ use crate::design::cautions::CAUTIONS;
 use crate::design::rules::Severity;
 use crate::design::sizing::ModuleAnswer;
 use crate::error::Error;
-use crate::results::explain::Cause;
+use crate::results::explain::totals;
 use crate::results::RankResult;
 use crate::sim::energy::Step;
 
@@ -163,13 +163,7 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                 for (c, kwh) in &o.difference {
                     d.insert(c.key().to_string(), json!(r3(*kwh)));
                 }
-                let offered: f64 = o
-                    .difference
-                    .iter()
-                    .filter(|(c, _)| *c != Cause::Curtailment)
-                    .map(|(_, v)| v)
-                    .sum();
-                let delivered: f64 = o.difference.iter().map(|(_, v)| v).sum();
+                let (offered, delivered) = totals(&o.difference);
                 d.insert("total_offered".to_string(), json!(r3(offered)));
                 d.insert("total_delivered".to_string(), json!(r3(delivered)));
                 v["difference_from_recommended_kwh"] = Value::Object(d);
@@ -184,10 +178,8 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                 v["low_sun_kwh"] = json!(r3(e.low_sun_offered_wh.iter().sum::<f64>() / 1000.0));
                 v["awake_hours"] = json!(r3(e.awake_h.iter().sum::<f64>()));
                 v["potential_kwh"] = json!(r3(e.potential_wh.iter().sum::<f64>() / 1000.0));
-                let curtailed = e.step_total_wh(Step::Curtailed);
-                v["curtailed_kwh"] = json!(r3(curtailed / 1000.0));
-                v["harvested_kwh"] =
-                    json!(r3((e.delivered_wh.iter().sum::<f64>() + curtailed) / 1000.0));
+                v["curtailed_kwh"] = json!(r3(e.step_total_wh(Step::Curtailed) / 1000.0));
+                v["harvested_kwh"] = json!(r3(e.annual_offered_kwh()));
                 if plan.consumption.is_some() {
                     v["used_kwh"] = json!(r3(e.load_served_wh.iter().sum::<f64>() / 1000.0));
                     v["unmet_kwh"] = json!(r3(e.unmet_wh.iter().sum::<f64>() / 1000.0));

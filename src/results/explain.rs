@@ -115,16 +115,23 @@ pub fn difference_by_cause(a: &LayoutEnergy, b: &LayoutEnergy) -> Vec<(Cause, f6
         .collect()
 }
 
-/// The difference as one line a person reads, e.g. `−41.0 kWh offered a year: 39.0 more lost
-/// to PWM holding strings at battery voltage, 4.0 more to cables, 2.0 less to mismatch`.
-/// Causes below 0.05 kWh are left out; the largest come first.
-pub fn difference_line(diff: &[(Cause, f64)]) -> String {
-    let offered: f64 = diff
+/// The totals a difference by cause adds up to: (offered, delivered), kWh a year. Every
+/// cause counts towards delivered energy; all but the full battery towards offered energy.
+pub fn totals(diff: &[(Cause, f64)]) -> (f64, f64) {
+    let offered = diff
         .iter()
         .filter(|(c, _)| *c != Cause::Curtailment)
         .map(|(_, v)| v)
         .sum();
-    let delivered: f64 = diff.iter().map(|(_, v)| v).sum();
+    let delivered = diff.iter().map(|(_, v)| v).sum();
+    (offered, delivered)
+}
+
+/// The difference as one line a person reads, e.g. `−41.0 kWh offered a year: 39.0 more lost
+/// to PWM holding strings at battery voltage, 4.0 more to cables, 2.0 less to mismatch`.
+/// Causes below 0.05 kWh are left out; the largest come first.
+pub fn difference_line(diff: &[(Cause, f64)]) -> String {
+    let (offered, delivered) = totals(diff);
     let mut parts: Vec<&(Cause, f64)> = diff.iter().filter(|(_, v)| v.abs() >= 0.05).collect();
     parts.sort_by(|x, y| y.1.abs().total_cmp(&x.1.abs()));
     let words: Vec<String> = parts
