@@ -35,12 +35,13 @@ pub mod weather_gen;
 use crate::commands::{Outcome, Request, WeatherRequest};
 use crate::error::Error;
 
-/// Runs one command. `on_layout_done` is called once per simulated layout (the binary's
+/// Runs one command. `on_layout_done` is called once per simulated layout, with the number
+/// of layouts being simulated (the binary's
 /// progress display); it must not affect results.
 ///
 /// # Errors
 /// Bad input (plan, weather, arguments) or an output that cannot be written.
-pub fn run(request: Request, on_layout_done: &(dyn Fn() + Sync)) -> Result<Outcome, Error> {
+pub fn run(request: Request, on_layout_done: &(dyn Fn(usize) + Sync)) -> Result<Outcome, Error> {
     match request {
         Request::Rank(r) => commands::rank::rank(&r, on_layout_done),
         Request::Check(source, show) => commands::check::check(&source, show),

@@ -21,7 +21,7 @@ fn main() -> ExitCode {
     let request = cli.into_request();
     let quiet = matches!(&request, wirerank::commands::Request::Rank(r) if r.quiet);
     let progress = Progress::new(quiet);
-    let tick = || progress.tick();
+    let tick = |total: usize| progress.tick(total);
     let result = wirerank::run(request, &tick);
     progress.finish();
     match result {
@@ -81,8 +81,10 @@ impl Progress {
                 indicatif::ProgressDrawTarget::hidden(),
             );
             b.set_style(
-                indicatif::ProgressStyle::with_template("simulating layouts: {pos} done {elapsed}")
-                    .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+                indicatif::ProgressStyle::with_template(
+                    "simulating layouts: {pos}/{len} done in {elapsed}, about {eta} left",
+                )
+                .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
             );
             b
         });
@@ -93,9 +95,12 @@ impl Progress {
         }
     }
 
-    fn tick(&self) {
+    /// One more layout of `total` done.
+    fn tick(&self, total: usize) {
         let n = self.done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
         if let Some(b) = &self.bar {
+            // The ranking simulates `total` layouts (the sizing searches report no progress).
+            b.set_length((total as u64).max(n));
             if b.is_hidden() && self.started.elapsed() > std::time::Duration::from_secs(1) {
                 b.set_draw_target(indicatif::ProgressDrawTarget::stderr());
             }

@@ -131,7 +131,7 @@ pub fn simulate_and_rank(
     })
 }
 
-pub fn rank(r: &RankRequest, on_layout_done: &(dyn Fn() + Sync)) -> Result<Outcome, Error> {
+pub fn rank(r: &RankRequest, on_layout_done: &(dyn Fn(usize) + Sync)) -> Result<Outcome, Error> {
     // The month × hour gain picture needs the per-interval rows, so any export keeps them.
     let result = simulate_and_rank(
         &r.plan,

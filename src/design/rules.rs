@@ -105,6 +105,62 @@ impl Rule {
     }
 }
 
+impl Rule {
+    /// What would lift this rule's verdict, in a person's words.
+    pub fn remedy(self) -> &'static str {
+        match self {
+            Rule::ColdVoc => "fewer modules in series, or a controller with a higher maximum input voltage",
+            Rule::ModuleSystemVoltage => "fewer modules in series",
+            Rule::NeverWakes | Rule::HotVmp => "more modules in series",
+            Rule::NeverCharges => "more modules in series, or an MPPT controller",
+            Rule::ColdVmp => "fewer modules in series",
+            Rule::PwmHighVmp => "an MPPT controller, or fewer modules in series",
+            Rule::InputCurrent => "fewer strings in parallel on each input, more controller inputs, or a controller with a higher input rating",
+            Rule::LeadAmpacity | Rule::MainRunAmpacity => "a larger cable cross-section",
+            Rule::StringFuse => "fewer strings in parallel, or modules with a higher maximum series fuse",
+            Rule::VoltageDrop => "a larger cable cross-section or a shorter run",
+            Rule::MixedTypes => "one module type per string",
+        }
+    }
+}
+
+/// When no layout passes: the rules that rejected them, most frequent first, each with its
+/// count and what would lift it, and the plan options that would admit more wirings.
+pub fn nothing_passes_advice(plan: &Plan, findings: &[&[Finding]]) -> Vec<String> {
+    let mut counts: Vec<(Rule, usize)> = Vec::new();
+    for f in findings.iter().flat_map(|fs| fs.iter()) {
+        if f.severity != Severity::Reject {
+            continue;
+        }
+        match counts.iter_mut().find(|(r, _)| *r == f.rule) {
+            Some((_, n)) => *n += 1,
+            None => counts.push((f.rule, 1)),
+        }
+    }
+    counts.sort_by(|a, b| b.1.cmp(&a.1).then(a.0.cmp(&b.0)));
+    let mut out: Vec<String> = counts
+        .iter()
+        .map(|(r, n)| {
+            format!(
+                "{r} rejects {n} layout{}: try {}",
+                if *n == 1 { "" } else { "s" },
+                r.remedy()
+            )
+        })
+        .collect();
+    if plan.enumerate_all {
+        if !plan.enumerate.allow_unused_modules {
+            out.push("[enumerate] allow_unused_modules = true would also try wirings that leave some modules out".to_string());
+        }
+        if !plan.enumerate.allow_mixed_orientation && plan.groups.len() > 1 {
+            out.push("[enumerate] allow_mixed_orientation = true would also try strings that mix orientation groups".to_string());
+        }
+    } else {
+        out.push("layouts = \"all\" at the top of the plan would try every regular wiring instead of the listed ones".to_string());
+    }
+    out
+}
+
 impl std::fmt::Display for Rule {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         f.write_str(self.key())

@@ -368,6 +368,11 @@ impl<'a> RankingText<'a> {
         }
         if self.ranked.is_empty() {
             let _ = writeln!(out, "      (no layout passes the electrical limits)");
+            let findings: Vec<&[crate::design::rules::Finding]> =
+                r.outcomes.iter().map(|o| o.findings.as_slice()).collect();
+            for line in crate::design::rules::nothing_passes_advice(plan, &findings) {
+                let _ = writeln!(out, "      {line}");
+            }
         }
         if self.hidden > 0 {
             let _ = writeln!(
@@ -660,6 +665,13 @@ pub fn check(r: &CheckResult, show: CheckShow) -> String {
         }
     }
     let _ = writeln!(out);
+    if passed == 0 {
+        let findings: Vec<&[crate::design::rules::Finding]> =
+            r.findings.iter().map(Vec::as_slice).collect();
+        for line in crate::design::rules::nothing_passes_advice(plan, &findings) {
+            let _ = writeln!(out, "  {line}");
+        }
+    }
     let _ = writeln!(
         out,
         "{passed} of {n} layout{} pass{} the hard limits",

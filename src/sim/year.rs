@@ -471,8 +471,9 @@ pub struct RunOptions<'a> {
     pub parallel: bool,
     /// Keep one row per interval per layout (`LayoutEnergy::hourly`).
     pub hourly: bool,
-    /// Called once per finished layout (progress display); must not affect results.
-    pub on_layout_done: Option<&'a (dyn Fn() + Sync)>,
+    /// Called once per finished layout with the number of layouts in this run (progress
+    /// display); must not affect results.
+    pub on_layout_done: Option<&'a (dyn Fn(usize) + Sync)>,
 }
 
 /// Every layout over every interval from shared curves (the combination half of phase 2).
@@ -486,7 +487,7 @@ pub fn simulate_layouts(
     let one = |l: &&Layout| {
         let e = simulate_layout(plan, cond, curves, l, opts.hourly);
         if let Some(done) = opts.on_layout_done {
-            done();
+            done(layouts.len());
         }
         e
     };

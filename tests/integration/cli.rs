@@ -360,6 +360,14 @@ fn check_lists_every_layout_and_exits_1_when_none_passes() {
         fixture("plan_nothing_passes.toml").to_str().expect("utf-8"),
     ]);
     assert_eq!(out.status.code(), Some(1), "{}", text(&out.stderr));
+    // When nothing passes, the report says which limit rejects how many layouts and what
+    // would lift it, and which plan option would admit more wirings.
+    let s = text(&out.stdout);
+    assert!(
+        s.contains("cold-voc rejects 6 layouts: try fewer modules in series"),
+        "{s}"
+    );
+    assert!(s.contains("layouts = \"all\""), "{s}");
 }
 
 #[test]
