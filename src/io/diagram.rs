@@ -185,6 +185,19 @@ fn font(size: f64, bold: bool) -> TextStyle<'static> {
     ("sans-serif", size, style).into_font().color(&INK)
 }
 
+/// A filled box with an ink outline `outline_px` wide.
+fn boxed<DB: DrawingBackend>(
+    root: &DrawingArea<DB, Shift>,
+    a: (i32, i32),
+    b: (i32, i32),
+    fill: RGBColor,
+    outline_px: u32,
+) -> Result<(), String> {
+    root.draw(&Rectangle::new([a, b], fill.filled()))
+        .and_then(|()| root.draw(&Rectangle::new([a, b], INK.stroke_width(outline_px))))
+        .map_err(|e| e.to_string())
+}
+
 /// Draws the diagram.
 ///
 /// # Errors
@@ -202,13 +215,7 @@ pub fn draw<DB: DrawingBackend>(
     let mut lx = LEFT;
     for (g, name) in d.groups.iter().enumerate() {
         let fill = GROUP_FILLS[g % GROUP_FILLS.len()];
-        root.draw(&Rectangle::new([(lx, 42), (lx + 14, 54)], fill.filled()))
-            .map_err(err)?;
-        root.draw(&Rectangle::new(
-            [(lx, 42), (lx + 14, 54)],
-            INK.stroke_width(1),
-        ))
-        .map_err(err)?;
+        boxed(root, (lx, 42), (lx + 14, 54), fill, 1)?;
         root.draw(&text(
             &format!("group {name}"),
             lx + 20,
@@ -244,10 +251,7 @@ pub fn draw<DB: DrawingBackend>(
             for (k, (module, group)) in string.iter().enumerate() {
                 let fill = GROUP_FILLS[group % GROUP_FILLS.len()];
                 let (a, b) = ((x, ym - MODULE_H / 2), (x + MODULE_W, ym + MODULE_H / 2));
-                root.draw(&Rectangle::new([a, b], fill.filled()))
-                    .map_err(err)?;
-                root.draw(&Rectangle::new([a, b], INK.stroke_width(1)))
-                    .map_err(err)?;
+                boxed(root, a, b, fill, 1)?;
                 root.draw(&text(module, x + 6, ym - 8, font(13.0, false)))
                     .map_err(err)?;
                 if k + 1 < string.len() {
@@ -262,10 +266,7 @@ pub fn draw<DB: DrawingBackend>(
                 Some(f) => {
                     root.draw(&line((x_end, ym), (x_fuse, ym))).map_err(err)?;
                     let (a, b) = ((x_fuse, ym - 9), (x_fuse + FUSE_W, ym + 9));
-                    root.draw(&Rectangle::new([a, b], WHITE.filled()))
-                        .map_err(err)?;
-                    root.draw(&Rectangle::new([a, b], INK.stroke_width(1)))
-                        .map_err(err)?;
+                    boxed(root, a, b, WHITE, 1)?;
                     root.draw(&text(f, x_fuse + 3, ym - 7, font(10.0, false)))
                         .map_err(err)?;
                     root.draw(&line((x_fuse + FUSE_W, ym), (x_bus, ym)))
@@ -314,10 +315,7 @@ pub fn draw<DB: DrawingBackend>(
         ))
         .map_err(err)?;
         let (a, b) = ((x_ctl, y_ctl - 35), (x_ctl + CONTROLLER_W, y_ctl + 35));
-        root.draw(&Rectangle::new([a, b], RGBColor(245, 245, 248).filled()))
-            .map_err(err)?;
-        root.draw(&Rectangle::new([a, b], INK.stroke_width(2)))
-            .map_err(err)?;
+        boxed(root, a, b, RGBColor(245, 245, 248), 2)?;
         root.draw(&text(
             "controller input",
             x_ctl + 10,
@@ -346,16 +344,13 @@ pub fn draw<DB: DrawingBackend>(
         root.draw(&line((x_ctl + CONTROLLER_W, yc), (x_bat, yc)))
             .map_err(err)?;
     }
-    root.draw(&Rectangle::new(
-        [(x_bat, bt), (x_bat + BATTERY_W, bb)],
-        RGBColor(232, 240, 232).filled(),
-    ))
-    .map_err(err)?;
-    root.draw(&Rectangle::new(
-        [(x_bat, bt), (x_bat + BATTERY_W, bb)],
-        INK.stroke_width(2),
-    ))
-    .map_err(err)?;
+    boxed(
+        root,
+        (x_bat, bt),
+        (x_bat + BATTERY_W, bb),
+        RGBColor(232, 240, 232),
+        2,
+    )?;
     root.draw(&text(
         &d.battery,
         x_bat + 10,
