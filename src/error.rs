@@ -345,16 +345,24 @@ pub enum Error {
     },
 }
 
+/// " line N" when the line is known.
+fn line_note(line: &Option<usize>) -> String {
+    line.map_or(String::new(), |l| format!(" line {l}"))
+}
+
 /// Why the plan and the weather file do not give one site.
 #[derive(Debug, thiserror::Error)]
 pub enum SiteError {
     #[error("site.{key} is missing: give it in the plan's [site] table or as `# {key} = ...` in the weather file {weather}")]
     Missing { key: &'static str, weather: String },
-    #[error("site.{key} conflicts: the plan says {plan_value} but the weather file {weather} says {weather_value}; make them agree or remove one")]
+    #[error("site.{key} conflicts: the plan {plan}{} says {plan_value} but the weather file {weather}{} says {weather_value}; make them agree or remove one", line_note(.plan_line), line_note(.weather_line))]
     Conflict {
         key: &'static str,
         plan_value: f64,
+        plan: String,
+        plan_line: Option<usize>,
         weather_value: f64,
         weather: String,
+        weather_line: Option<usize>,
     },
 }

@@ -16,6 +16,7 @@
 //!            wiring, controller, battery)
 //! weather_gen  synthesis of a year from monthly means; the demo year
 //! time       local-standard and UTC instants, the one civil calendar
+//! num        numbers in messages without floating-point noise
 //! ```
 //!
 //! Only `io/` touches files and knows file formats; only the binary knows command-line flags.
@@ -26,6 +27,7 @@ pub mod design;
 pub mod error;
 pub mod input;
 pub mod io;
+pub mod num;
 pub mod physics;
 pub mod results;
 pub mod sim;

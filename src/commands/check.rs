@@ -3,26 +3,64 @@
 use crate::commands::load::load;
 use crate::commands::{CheckShow, Outcome, PlanSource};
 use crate::design::candidates::candidate_layouts;
-use crate::design::rules::{self, design_temperatures};
-use crate::error::Error;
+use crate::design::rules::{self, design_temperatures, DesignTemperatures};
+use crate::error::{Error, WeatherError};
 use crate::io;
-use crate::results::CheckResult;
+use crate::results::{CheckInput, CheckResult};
 
 /// Loads the plan and weather and checks every candidate layout's limits.
+///
+/// When the plan's weather file does not exist yet but the plan gives both
+/// `site.design_min_air_c` and `site.design_max_air_c`, the check goes on with those two
+/// temperatures (the limits need nothing else from the weather) and says so.
 ///
 /// # Errors
 /// As [`load`] and [`candidate_layouts`].
 pub fn check_limits(source: &PlanSource) -> Result<CheckResult, Error> {
-    let loaded = load(source)?;
-    let temps = design_temperatures(&loaded.plan, &loaded.weather);
-    let candidates = candidate_layouts(&loaded.plan, &temps)?;
+    let (input, temps) = match load(source) {
+        Ok(loaded) => {
+            let temps = design_temperatures(&loaded.plan, &loaded.weather);
+            (CheckInput::Loaded(Box::new(loaded)), temps)
+        }
+        Err(Error::Weather(WeatherError::Read { file, source: e }))
+            if e.kind() == std::io::ErrorKind::NotFound =>
+        {
+            let PlanSource::File(path) = source else {
+                return Err(Error::Weather(WeatherError::Read { file, source: e }));
+            };
+            let plan = io::plan_toml::read_plan(path)?;
+            let (Some(lo), Some(hi)) = (plan.site.design_min_air_c, plan.site.design_max_air_c)
+            else {
+                return Err(Error::Usage(format!(
+                    "cannot read {file}: {e}; give the weather file, or give site.design_min_air_c and site.design_max_air_c in {} to check the limits without it",
+                    path.display()
+                )));
+            };
+            let temps = DesignTemperatures {
+                min_air_c: lo,
+                max_air_c: hi,
+            };
+            let note =
+                format!("{file} not found; limits checked at the plan's design temperatures");
+            (
+                CheckInput::PlanOnly {
+                    plan: Box::new(plan),
+                    weather_note: note,
+                },
+                temps,
+            )
+        }
+        Err(e) => return Err(e),
+    };
+    let plan = input.plan();
+    let candidates = candidate_layouts(plan, &temps)?;
     let findings = candidates
         .layouts
         .iter()
-        .map(|l| rules::check_layout(&loaded.plan, l, &temps))
+        .map(|l| rules::check_layout(plan, l, &temps))
         .collect();
     Ok(CheckResult {
-        loaded,
+        input,
         temps,
         candidates,
         findings,
@@ -38,7 +76,10 @@ pub fn check(source: &PlanSource, show: CheckShow) -> Result<Outcome, Error> {
         .count();
     Ok(Outcome {
         stdout: io::terminal::check(&r, show),
-        warnings: r.loaded.warning_texts(),
+        warnings: match &r.input {
+            CheckInput::Loaded(l) => l.warning_texts(),
+            CheckInput::PlanOnly { .. } => Vec::new(),
+        },
         nothing_passed: passed == 0,
     })
 }

@@ -27,6 +27,8 @@ pub struct SiteSpec {
     pub design_min_air_c: Option<f64>,
     /// Design maximum air temperature for the hot-voltage check, °C.
     pub design_max_air_c: Option<f64>,
+    /// The plan line that gave each site key (`latitude_deg`, …), for messages.
+    pub key_lines: Vec<(&'static str, usize)>,
 }
 
 /// Ground reflectance: one value, or one per month (January first).

@@ -29,8 +29,11 @@ pub fn resolve_site(plan: &Plan, weather: &Weather) -> Result<Site, SiteError> {
             (Some(a), Some(b)) if (a - b).abs() > tol => Err(SiteError::Conflict {
                 key,
                 plan_value: a,
+                plan: plan.source.display().to_string(),
+                plan_line: line_of(&plan.site.key_lines, key),
                 weather_value: b,
                 weather: weather.source.clone(),
+                weather_line: line_of(&weather.site.key_lines, key),
             }),
             (Some(a), _) => Ok(Some(a)),
             (None, b) => Ok(b),
@@ -56,4 +59,9 @@ pub fn resolve_site(plan: &Plan, weather: &Weather) -> Result<Site, SiteError> {
         utc_offset_h: pick("utc_offset_h", ps.utc_offset_h, ws.utc_offset_h, 1e-9)?
             .ok_or_else(|| missing("utc_offset_h"))?,
     })
+}
+
+/// The recorded line of `key`, if any.
+fn line_of(lines: &[(&'static str, usize)], key: &str) -> Option<usize> {
+    lines.iter().find(|(k, _)| *k == key).map(|(_, l)| *l)
 }

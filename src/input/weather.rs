@@ -88,13 +88,28 @@ impl StampConvention {
 }
 
 /// Site facts a weather file may carry in its header; each may instead come from the plan.
-#[derive(Clone, Debug, Default, PartialEq)]
+///
+/// Two headers are equal when they give the same facts, wherever in the file they stand.
+#[derive(Clone, Debug, Default)]
 pub struct WeatherSite {
     pub name: Option<String>,
     pub latitude_deg: Option<f64>,
     pub longitude_deg: Option<f64>,
     pub elevation_m: Option<f64>,
     pub utc_offset_h: Option<f64>,
+    /// The file line that gave each site key (`latitude_deg`, …), for messages; empty when
+    /// the weather was made in memory.
+    pub key_lines: Vec<(&'static str, usize)>,
+}
+
+impl PartialEq for WeatherSite {
+    fn eq(&self, other: &Self) -> bool {
+        self.name == other.name
+            && self.latitude_deg == other.latitude_deg
+            && self.longitude_deg == other.longitude_deg
+            && self.elevation_m == other.elevation_m
+            && self.utc_offset_h == other.utc_offset_h
+    }
 }
 
 /// A repair made while reading, counted; the text tells the user what to do about it.

@@ -7,6 +7,7 @@
 //! bottom, everything meets at one battery on the right. It is a screening picture for the
 //! person doing the work, not a construction drawing.
 
+use crate::num::Num;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::FontStyle;
@@ -134,11 +135,11 @@ impl WiringDiagram {
             .collect();
         let battery = match &plan.battery.model {
             Some(b) => format!(
-                "battery {:.0} V, {:.0} Ah",
-                b.params().nominal_v,
-                b.params().capacity_ah
+                "battery {} V, {} Ah",
+                Num(b.params().nominal_v),
+                Num(b.params().capacity_ah)
             ),
-            None => format!("battery, charged at {:.1} V", plan.battery.charge_v),
+            None => format!("battery, charged at {} V", Num(plan.battery.charge_v)),
         };
         WiringDiagram {
             id: layout.id.clone(),

@@ -3,6 +3,7 @@
 //! Formatting only; every number arrives computed. Machine-readable output (JSON, CSV) lives
 //! in `io/`.
 
+use crate::num::Num;
 use std::fmt::Write as _;
 
 use crate::design::cautions::{CAUTIONS, CAUTIONS_SHORT};
@@ -16,7 +17,7 @@ use crate::results::rank::LayoutOutcome;
 use crate::results::recommend::{TIE_BAND_FRAC, UNMET_TIE_FRAC_OF_LOAD};
 use crate::results::uncertainty::empirical_variability;
 use crate::results::weather_summary::WeatherSummary;
-use crate::results::{CheckResult, CheckShow, RankResult, ShadeResult};
+use crate::results::{CheckInput, CheckResult, CheckShow, RankResult, ShadeResult};
 use crate::sim::energy::Step;
 use crate::time::LocalTime;
 use crate::weather_gen::synth::MONTH_NAMES;
@@ -132,12 +133,12 @@ impl<'a> RankingText<'a> {
         let plan = &r.loaded.plan;
         let battery = match &plan.battery.model {
             Some(b) => format!(
-                "battery {:.0} Ah {:.0} V {} (charging voltage follows its state; energy counts what the battery and the load take)",
-                b.params().capacity_ah,
-                b.params().nominal_v,
+                "battery {} Ah {} V {} (charging voltage follows its state; energy counts what the battery and the load take)",
+                Num(b.params().capacity_ah),
+                Num(b.params().nominal_v),
                 b.params().chemistry.key()
             ),
-            None => format!("battery charged at {:.1} V", plan.battery.charge_v),
+            None => format!("battery charged at {} V", Num(plan.battery.charge_v)),
         };
         let _ = writeln!(
             out,
@@ -601,13 +602,22 @@ fn notes(o: &LayoutOutcome, modules: usize) -> Vec<String> {
 /// `wirerank check`: every layout with pass / warn / reject and the numbers.
 pub fn check(r: &CheckResult, show: CheckShow) -> String {
     let mut out = String::new();
-    site_header(&mut out, &r.loaded);
-    let plan = &r.loaded.plan;
+    match &r.input {
+        CheckInput::Loaded(l) => site_header(&mut out, l),
+        CheckInput::PlanOnly { plan, weather_note } => {
+            let _ = writeln!(
+                out,
+                "{}  weather: {weather_note}",
+                plan.site.name.as_deref().unwrap_or("unnamed site")
+            );
+        }
+    }
+    let plan = r.input.plan();
     let _ = writeln!(
         out,
-        "{} modules, battery {:.1} V; limits checked at {:.0} °C (coldest) and {:.0} °C (hottest air)",
+        "{} modules, battery charged at {} V; limits checked at {:.0} °C (coldest) and {:.0} °C (hottest air)",
         plan.modules.len(),
-        plan.battery.charge_v,
+        Num(plan.battery.charge_v),
         r.temps.min_air_c,
         r.temps.max_air_c
     );
@@ -695,9 +705,9 @@ fn outlook(r: &RankResult, ranked: &[&LayoutOutcome]) -> String {
         "Winter outlook ({}) with the load and the battery{}:",
         winter.join(", "),
         spec.map_or(String::new(), |b| format!(
-            " ({:.0} Ah, {:.0} V, {})",
-            b.params().capacity_ah,
-            b.params().nominal_v,
+            " ({} Ah, {} V, {})",
+            Num(b.params().capacity_ah),
+            Num(b.params().nominal_v),
             b.params().chemistry.key()
         ))
     );

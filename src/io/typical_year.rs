@@ -409,6 +409,15 @@ fn parse_location(file: &str, line: &str) -> Result<WeatherSite, WeatherError> {
         longitude_deg: Some(longitude_deg),
         elevation_m: Some(elevation_m),
         utc_offset_h: Some(utc_offset_h),
+        key_lines: [
+            "latitude_deg",
+            "longitude_deg",
+            "elevation_m",
+            "utc_offset_h",
+        ]
+        .into_iter()
+        .map(|k| (k, 1))
+        .collect(),
     })
 }
 

@@ -304,6 +304,15 @@ fn header_values(
         longitude_deg: number("longitude_deg", -180.0, 180.0)?,
         elevation_m: number("elevation_m", -500.0, 9000.0)?,
         utc_offset_h,
+        key_lines: [
+            "latitude_deg",
+            "longitude_deg",
+            "elevation_m",
+            "utc_offset_h",
+        ]
+        .into_iter()
+        .filter_map(|k| get(k).map(|(_, _, line)| (k, *line)))
+        .collect(),
     };
 
     let Some((_, interval_text, interval_line)) = get("interval_min") else {

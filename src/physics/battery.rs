@@ -28,7 +28,7 @@ impl Chemistry {
     /// Key used in plans, JSON and CSV.
     pub fn key(self) -> &'static str {
         match self {
-            Chemistry::LeadAcid => "lead_acid",
+            Chemistry::LeadAcid => "lead-acid",
             Chemistry::LiFePo4 => "lifepo4",
         }
     }

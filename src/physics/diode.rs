@@ -12,6 +12,8 @@
 //! Sign convention (generator convention): current is positive when the cells deliver
 //! power; a substring driven above its photocurrent has a negative voltage.
 
+use crate::num::num;
+
 /// Boltzmann constant over elementary charge, V/K (also eV/K).
 ///
 /// # Source
@@ -99,25 +101,25 @@ pub struct Datasheet {
 #[derive(Debug, thiserror::Error)]
 pub enum FitError {
     /// A value is NaN or infinite.
-    #[error("datasheet {name} = {value} is not a finite number")]
+    #[error("datasheet {name} = {} is not a finite number", num(.value))]
     NotFinite { name: &'static str, value: f64 },
     /// A value that must be positive is not.
-    #[error("datasheet {name} = {value} must be greater than zero")]
+    #[error("datasheet {name} = {} must be greater than zero", num(.value))]
     NotPositive { name: &'static str, value: f64 },
     /// No cells.
     #[error("datasheet cells_in_series = 0: a module needs at least one cell")]
     NoCells,
     /// Vmp is not below Voc.
-    #[error("datasheet vmp_v = {vmp_v} is not below voc_v = {voc_v}: the maximum-power voltage must be lower than the open-circuit voltage")]
+    #[error("datasheet vmp_v = {} is not below voc_v = {}: the maximum-power voltage must be lower than the open-circuit voltage", num(.vmp_v), num(.voc_v))]
     VmpNotBelowVoc { vmp_v: f64, voc_v: f64 },
     /// Imp is not below Isc.
-    #[error("datasheet imp_a = {imp_a} is not below isc_a = {isc_a}: the maximum-power current must be lower than the short-circuit current")]
+    #[error("datasheet imp_a = {} is not below isc_a = {}: the maximum-power current must be lower than the short-circuit current", num(.imp_a), num(.isc_a))]
     ImpNotBelowIsc { imp_a: f64, isc_a: f64 },
     /// The fill factor is outside [`FILL_FACTOR_RANGE`].
     #[error("datasheet fill factor vmp·imp/(voc·isc) = {fill_factor:.3} is outside {lo:.2} to {hi:.2} (below: probably a typing error; above: beyond what silicon cells reach)")]
     FillFactor { fill_factor: f64, lo: f64, hi: f64 },
     /// The Voc temperature coefficient is implausible.
-    #[error("datasheet beta_voc_v_k = {value} V/K is {pct_per_k:.3} %/K of voc_v; expected {lo:.2} to {hi:.2} %/K (is it given in %/K instead of V/K?)")]
+    #[error("datasheet beta_voc_v_k = {} V/K is {pct_per_k:.3} %/K of voc_v; expected {lo:.2} to {hi:.2} %/K (is it given in %/K instead of V/K?)", num(.value))]
     BetaOutOfRange {
         value: f64,
         pct_per_k: f64,
@@ -125,7 +127,7 @@ pub enum FitError {
         hi: f64,
     },
     /// The Isc temperature coefficient is implausible.
-    #[error("datasheet alpha_isc_a_k = {value} A/K is {pct_per_k:.3} %/K of isc_a; expected {lo:.2} to {hi:.2} %/K (is it given in %/K instead of A/K?)")]
+    #[error("datasheet alpha_isc_a_k = {} A/K is {pct_per_k:.3} %/K of isc_a; expected {lo:.2} to {hi:.2} %/K (is it given in %/K instead of A/K?)", num(.value))]
     AlphaOutOfRange {
         value: f64,
         pct_per_k: f64,
@@ -136,7 +138,7 @@ pub enum FitError {
     #[error("the single-diode fit did not converge after {iterations} iterations (largest residual {residual:.2e}): the datasheet values may be inconsistent with one another, check the voc temperature coefficient and the maximum-power values")]
     NotConverged { iterations: usize, residual: f64 },
     /// The conditions can only be met with a negative series or shunt resistance.
-    #[error("no physical single-diode fit: fill factor {fill_factor:.3} and beta_voc_v_k = {beta_voc_v_k} V/K ({beta_pct_per_k:.3} %/K) need a negative series or shunt resistance (check both on the datasheet)")]
+    #[error("no physical single-diode fit: fill factor {fill_factor:.3} and beta_voc_v_k = {} V/K ({beta_pct_per_k:.3} %/K) need a negative series or shunt resistance (check both on the datasheet)", num(.beta_voc_v_k))]
     NoPhysicalSolution {
         fill_factor: f64,
         beta_voc_v_k: f64,

@@ -49,10 +49,31 @@ impl RankResult {
     }
 }
 
+/// What `check` read: the plan with its weather and site, or the plan alone when its weather
+/// file is not there and the plan's design temperatures stand in for the weather's extremes.
+#[derive(Clone, Debug)]
+pub enum CheckInput {
+    Loaded(Box<Loaded>),
+    PlanOnly {
+        plan: Box<crate::input::plan::Plan>,
+        /// Why the weather was not read (the file and the reason), for the header.
+        weather_note: String,
+    },
+}
+
+impl CheckInput {
+    pub fn plan(&self) -> &crate::input::plan::Plan {
+        match self {
+            CheckInput::Loaded(l) => &l.plan,
+            CheckInput::PlanOnly { plan, .. } => plan,
+        }
+    }
+}
+
 /// Every candidate layout with its limit findings, without simulating.
 #[derive(Clone, Debug)]
 pub struct CheckResult {
-    pub loaded: Loaded,
+    pub input: CheckInput,
     pub temps: rules::DesignTemperatures,
     pub candidates: Candidates,
     /// Findings per layout, in `candidates.layouts` order.

@@ -511,3 +511,143 @@ fn plan_errors_use_plain_words_for_types_and_ranges() {
         "{e}"
     );
 }
+
+/// A plan written beside a link to the bundled samples, from the template with `edits`.
+#[cfg(unix)]
+fn template_plan_with(dir: &Path, edits: &[(&str, &str)]) -> PathBuf {
+    let samples = dir.join("weather-samples");
+    if !samples.exists() {
+        std::os::unix::fs::symlink(
+            Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples"),
+            samples,
+        )
+        .expect("link the samples");
+    }
+    let mut plan = text(&wirerank(&["template"]).stdout);
+    for (from, to) in edits {
+        assert!(plan.contains(from), "the template has {from:?}");
+        plan = plan.replace(from, to);
+    }
+    let p = dir.join("p.toml");
+    std::fs::write(&p, plan).expect("write the plan");
+    p
+}
+
+/// −0.03 %/K is inside what a loose reading of the docs allows but outside what the fit
+/// accepts: the message gives the enforced range in the plan's own units (%/K), without
+/// the fit's V/K figure or its "is it given in %/K instead of V/K?" hint.
+#[cfg(unix)]
+#[test]
+fn a_small_voc_coefficient_is_refused_in_the_plans_units() {
+    let dir = tempfile::tempdir().expect("temporary folder");
+    let p = template_plan_with(
+        dir.path(),
+        &[("beta_voc_pct_k = -0.30", "beta_voc_pct_k = -0.03")],
+    );
+    let out = wirerank(&["check", p.to_str().expect("utf-8")]);
+    let e = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{e}");
+    assert!(
+        e.contains("beta_voc_pct_k = -0.03 %/K is outside -1 to -0.05 %/K") && !e.contains("V/K"),
+        "{e}"
+    );
+    assert!(!e.contains("0000000"), "no float noise: {e}");
+}
+
+/// A latitude given twice and differently names the plan's line and the weather file's line.
+#[cfg(unix)]
+#[test]
+fn a_site_conflict_names_both_files_and_lines() {
+    let dir = tempfile::tempdir().expect("temporary folder");
+    let p = template_plan_with(
+        dir.path(),
+        &[("latitude_deg = 47.2 ", "latitude_deg = 40.2 ")],
+    );
+    let out = wirerank(&["check", p.to_str().expect("utf-8")]);
+    let e = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{e}");
+    // Line 13 of the template holds latitude_deg; line 3 of the sample's header holds it.
+    assert!(
+        e.contains("p.toml line 13 says 40.2") && e.contains("larchwood-2025.csv line 3 says 47.2"),
+        "{e}"
+    );
+}
+
+/// `check` before there is a weather file: the plan's design temperatures stand in, and
+/// the report says which temperatures it used; without them the error says what to add.
+#[cfg(unix)]
+#[test]
+fn check_runs_without_a_weather_file_when_the_plan_gives_design_temperatures() {
+    let dir = tempfile::tempdir().expect("temporary folder");
+    let p = template_plan_with(
+        dir.path(),
+        &[(
+            "file = \"weather-samples/larchwood-2025.csv\"",
+            "file = \"not-made-yet.csv\"",
+        )],
+    );
+    let out = wirerank(&["check", p.to_str().expect("utf-8")]);
+    let o = text(&out.stdout);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    assert!(
+        o.contains("not-made-yet.csv not found; limits checked at the plan's design temperatures")
+            && o.contains("limits checked at -20 °C (coldest) and 35 °C (hottest air)"),
+        "{o}"
+    );
+    assert!(o.contains("pass"), "{o}");
+    // rank still needs the weather.
+    let out = wirerank(&["rank", p.to_str().expect("utf-8"), "--quiet"]);
+    assert_eq!(out.status.code(), Some(2));
+    // Without the design temperatures, check says what would let it run.
+    let p = template_plan_with(
+        dir.path(),
+        &[
+            (
+                "file = \"weather-samples/larchwood-2025.csv\"",
+                "file = \"not-made-yet.csv\"",
+            ),
+            ("design_min_air_c = -20 ", "# design_min_air_c = -20 "),
+        ],
+    );
+    let out = wirerank(&["check", p.to_str().expect("utf-8")]);
+    let e = text(&out.stderr);
+    assert_ne!(out.status.code(), Some(0));
+    assert!(
+        e.contains("not-made-yet.csv")
+            && e.contains("site.design_min_air_c and site.design_max_air_c"),
+        "{e}"
+    );
+}
+
+/// Values are echoed as the plan wrote them: a 25.6 V LiFePO4 bank prints as 25.6 V (not
+/// 26 V) and chemistry names keep the plan's spelling.
+#[cfg(unix)]
+#[test]
+fn the_report_echoes_battery_values_as_written() {
+    let dir = tempfile::tempdir().expect("temporary folder");
+    let p = template_plan_with(
+        dir.path(),
+        &[
+            ("nominal_v = 12 ", "nominal_v = 25.6 "),
+            ("charge_v = 13.6 ", "charge_v = 28.8 "),
+            ("# capacity_ah = 200", "capacity_ah = 100"),
+            ("# chemistry = \"lead-acid\"", "chemistry = \"lifepo4\""),
+        ],
+    );
+    let out = wirerank(&["rank", p.to_str().expect("utf-8"), "--quiet"]);
+    let o = text(&out.stdout);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    assert!(o.contains("battery 100 Ah 25.6 V lifepo4"), "{o}");
+    let p = template_plan_with(
+        dir.path(),
+        &[
+            ("# capacity_ah = 200", "capacity_ah = 200"),
+            ("# chemistry = \"lead-acid\"", "chemistry = \"lead-acid\""),
+        ],
+    );
+    let o = text(&wirerank(&["rank", p.to_str().expect("utf-8"), "--quiet"]).stdout);
+    assert!(
+        o.contains("battery 200 Ah 12 V lead-acid") && !o.contains("lead_acid"),
+        "{o}"
+    );
+}

@@ -4,6 +4,7 @@
 //! Section rules (what range applies to which key) live in the section files, not here.
 
 use crate::error::PlanError;
+use crate::num::Num;
 
 use super::raw::{OneOrMonthly, S};
 
@@ -45,7 +46,7 @@ impl Ctx<'_> {
             return Err(self.err(
                 v.span(),
                 key,
-                format!("{key} = {x} is outside {lo} to {hi}"),
+                format!("{key} = {x} is outside {} to {}", Num(lo), Num(hi)),
             ));
         }
         Ok(x)
@@ -58,7 +59,11 @@ impl Ctx<'_> {
             return Err(self.err(
                 v.span(),
                 key,
-                format!("{key} = {x} must be above {lo} and at most {hi}"),
+                format!(
+                    "{key} = {x} must be above {} and at most {}",
+                    Num(lo),
+                    Num(hi)
+                ),
             ));
         }
         Ok(x)

@@ -9,7 +9,8 @@ use std::collections::BTreeMap;
 
 use crate::error::PlanError;
 use crate::input::plan::{Group, Module, ModuleType};
-use crate::physics::diode::{fit_de_soto, Datasheet, BYPASS_DROP_DEFAULT_V};
+use crate::num::Num;
+use crate::physics::diode::{fit_de_soto, Datasheet, BETA_REL_RANGE_PER_K, BYPASS_DROP_DEFAULT_V};
 use crate::physics::thermal::CellTemperatureModel;
 
 use super::ctx::Ctx;
@@ -76,7 +77,25 @@ fn validate_module_type(
     let vmp_v = ctx.above(&r.vmp_v, &k("vmp_v"), 0.0, 200.0)?;
     let imp_a = ctx.above(&r.imp_a, &k("imp_a"), 0.0, 50.0)?;
     let alpha_pct = ctx.range(&r.alpha_isc_pct_k, &k("alpha_isc_pct_k"), -0.1, 0.3)?;
-    let beta_pct = ctx.range(&r.beta_voc_pct_k, &k("beta_voc_pct_k"), -1.0, 0.0)?;
+    // The range the single-diode fit accepts (physics::diode::BETA_REL_RANGE_PER_K), in
+    // the plan's %/K, so that the message speaks the plan's units.
+    let (beta_lo, beta_hi) = (
+        100.0 * BETA_REL_RANGE_PER_K.0,
+        100.0 * BETA_REL_RANGE_PER_K.1,
+    );
+    let beta_pct = *r.beta_voc_pct_k.get_ref();
+    if !(beta_pct.is_finite() && (beta_lo..=beta_hi).contains(&beta_pct)) {
+        return Err(ctx.err(
+            r.beta_voc_pct_k.span(),
+            &k("beta_voc_pct_k"),
+            format!(
+                "{} = {beta_pct} %/K is outside {} to {} %/K: silicon modules print about -0.25 to -0.45 %/K and none loses less than 0.05 % of Voc per kelvin; check the sign and that the value is in per cent per kelvin",
+                k("beta_voc_pct_k"),
+                Num(beta_lo),
+                Num(beta_hi)
+            ),
+        ));
+    }
     let gamma_pct = ctx.range(&r.gamma_pmax_pct_k, &k("gamma_pmax_pct_k"), -1.5, 0.0)?;
     let cells = ctx.int_range(&r.cells_in_series, &k("cells_in_series"), 1, 300)? as u32;
     let bypass = ctx.int_range(&r.bypass_diodes, &k("bypass_diodes"), 1, 12)? as u32;

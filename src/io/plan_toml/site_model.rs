@@ -30,6 +30,15 @@ pub(super) fn validate_site(ctx: &Ctx, raw: Option<&RawSite>) -> Result<SiteSpec
         utc_offset_h: opt(&s.utc_offset_h, "site.utc_offset_h", -12.0, 14.0)?,
         design_min_air_c: opt(&s.design_min_air_c, "site.design_min_air_c", -90.0, 60.0)?,
         design_max_air_c: opt(&s.design_max_air_c, "site.design_max_air_c", -90.0, 60.0)?,
+        key_lines: [
+            ("latitude_deg", &s.latitude_deg),
+            ("longitude_deg", &s.longitude_deg),
+            ("elevation_m", &s.elevation_m),
+            ("utc_offset_h", &s.utc_offset_h),
+        ]
+        .into_iter()
+        .filter_map(|(k, v)| v.as_ref().map(|v| (k, ctx.line_col(v.span().start).0)))
+        .collect(),
     };
     if let (Some(off), Some(v)) = (site.utc_offset_h, &s.utc_offset_h) {
         if ((off * 4.0).round() - off * 4.0).abs() > 1e-9 {

@@ -205,6 +205,7 @@ fn unchecked_weather(
             longitude_deg: Some(climate.longitude_deg),
             elevation_m: Some(climate.elevation_m),
             utc_offset_h: Some(climate.utc_offset_h),
+            key_lines: Vec::new(),
         },
         interval_s: 3600,
         stamp: StampConvention::Start,
