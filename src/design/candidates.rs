@@ -13,10 +13,60 @@ pub type PrunedCounts = Vec<(Rule, usize)>;
 /// Largest number of candidates enumeration will produce before giving up.
 pub const MAX_CANDIDATES: usize = 20_000;
 
+/// Largest number of input choices enumeration will skip (because they break a hard limit)
+/// before giving up. Kept choices are bounded by [`MAX_CANDIDATES`]; skipped ones were not,
+/// and a plan with many groups could skip hundreds of millions for a handful of layouts.
+/// A skipped choice costs well under a microsecond, so the walk now stops within seconds.
+pub const MAX_CHOICES_SKIPPED: usize = 3_000_000;
+
 /// Why enumeration stopped.
 #[derive(Clone, Debug, PartialEq, Eq)]
-pub struct TooManyLayouts {
-    pub limit: usize,
+pub enum TooManyLayouts {
+    /// More than [`MAX_CANDIDATES`] layouts.
+    Candidates { limit: usize },
+    /// More than [`MAX_CHOICES_SKIPPED`] input choices skipped.
+    Choices { limit: usize },
+}
+
+impl TooManyLayouts {
+    /// What a person can change in the plan to shrink the space: only options that are on,
+    /// and the plan's shape (groups, inputs) where it is large.
+    pub fn advice(&self, plan: &Plan) -> String {
+        let what = match self {
+            TooManyLayouts::Candidates { limit } => {
+                format!("layouts = \"all\" gives more than {limit} candidate layouts")
+            }
+            TooManyLayouts::Choices { limit } => format!(
+                "layouts = \"all\" skipped {limit} ways of wiring a controller input that break a limit without finishing the search"
+            ),
+        };
+        let mut ways = vec!["list the layouts you want as [[layout]] tables instead".to_string()];
+        if plan.enumerate.allow_unused_modules {
+            ways.push("set [enumerate] allow_unused_modules = false".into());
+        }
+        if plan.enumerate.allow_mixed_orientation {
+            ways.push("set [enumerate] allow_mixed_orientation = false".into());
+        }
+        if plan.groups.len() > 2 {
+            ways.push(format!(
+                "merge orientation groups that face the same way (the plan has {})",
+                plan.groups.len()
+            ));
+        }
+        if plan.controllers.len() > 2 {
+            ways.push(format!(
+                "plan fewer controller inputs (the plan has {})",
+                plan.controllers.len()
+            ));
+        }
+        let last = ways.pop().unwrap_or_default();
+        let ways = if ways.is_empty() {
+            last
+        } else {
+            format!("{}, or {last}", ways.join(", "))
+        };
+        format!("{what}; to shrink the search, {ways}")
+    }
 }
 
 /// One input's strings as counts: `composition[g]` modules of group g per string.
@@ -60,6 +110,7 @@ pub fn enumerate_pruned(
         opts,
         reject,
         pruned: &mut pruned,
+        skipped: 0,
     };
     recurse(&mut ctx, &counts, 0, &mut chosen, &mut out)?;
     Ok((out, pruned))
@@ -70,6 +121,8 @@ struct Walk<'a, 'p> {
     opts: EnumerateOptions,
     reject: &'a dyn Fn(&Plan, &InputDraft) -> Option<Rule>,
     pruned: &'p mut PrunedCounts,
+    /// Input choices skipped so far because they break a hard limit.
+    skipped: usize,
 }
 
 fn recurse(
@@ -87,7 +140,7 @@ fn recurse(
         if any && (remaining == 0 || opts.allow_unused_modules) {
             out.push(build(plan, chosen));
             if out.len() > MAX_CANDIDATES {
-                return Err(TooManyLayouts {
+                return Err(TooManyLayouts::Candidates {
                     limit: MAX_CANDIDATES,
                 });
             }
@@ -118,6 +171,12 @@ fn recurse(
                 compositions: &choice.string_kinds,
             };
             if let Some(rule) = (w.reject)(plan, &draft) {
+                w.skipped += 1;
+                if w.skipped > MAX_CHOICES_SKIPPED {
+                    return Err(TooManyLayouts::Choices {
+                        limit: MAX_CHOICES_SKIPPED,
+                    });
+                }
                 match w.pruned.iter_mut().find(|(r, _)| *r == rule) {
                     Some((_, n)) => *n += 1,
                     None => w.pruned.push((rule, 1)),
@@ -276,13 +335,8 @@ pub fn candidate_layouts(
     let mut pruned = Vec::new();
     if plan.enumerate_all {
         let reject = |p: &Plan, d: &InputDraft| rules::input_hard_limit(p, temps, d);
-        let (found, skipped) = enumerate_pruned(plan, plan.enumerate, &reject).map_err(|e| {
-            Error::Usage(format!(
-                "{}: layouts = \"all\" gives more than {} candidate layouts; list the layouts you want instead, or turn off [enumerate] allow_unused_modules / allow_mixed_orientation",
-                plan.source.display(),
-                e.limit
-            ))
-        })?;
+        let (found, skipped) = enumerate_pruned(plan, plan.enumerate, &reject)
+            .map_err(|e| Error::Usage(format!("{}: {}", plan.source.display(), e.advice(plan))))?;
         pruned = skipped;
         // De-duplicate by hashing each layout's canonical form once.
         let mut seen: std::collections::HashSet<_> = all.iter().map(Layout::canonical).collect();

@@ -2,7 +2,9 @@
 
 use std::path::Path;
 
-use wirerank::design::candidates::{enumerate, enumerate_pruned, MAX_CANDIDATES};
+use wirerank::design::candidates::{
+    enumerate, enumerate_pruned, TooManyLayouts, MAX_CANDIDATES, MAX_CHOICES_SKIPPED,
+};
 use wirerank::design::rules::{input_hard_limit, DesignTemperatures};
 use wirerank::input::plan::{EnumerateOptions, Plan};
 use wirerank::io::plan_toml::parse_plan;
@@ -157,7 +159,7 @@ fn forty_modules_on_four_inputs_stay_tractable() {
     let (found, pruned) = enumerate_pruned(&p, EnumerateOptions::default(), &|p, d| {
         input_hard_limit(p, &temps, d)
     })
-    .unwrap_or_else(|e| panic!("40 modules, 4 inputs: over the {} cap", e.limit));
+    .unwrap_or_else(|e| panic!("40 modules, 4 inputs: {}", e.advice(&p)));
     eprintln!(
         "40 modules, 4 inputs: {} candidates, pruned {pruned:?}",
         found.len()
@@ -196,4 +198,48 @@ fn ids_are_unique_on_the_20_module_enumeration_and_shared_codes_differ_in_wiring
         shared > 0,
         "the fixture repeats codes (it exists to test that)"
     );
+}
+
+/// Four orientation groups of 15 modules on two inputs where almost every choice breaks a
+/// limit: the walk used to skip hundreds of millions of choices for a handful of layouts.
+/// It now stops after [`MAX_CHOICES_SKIPPED`] choices with advice that names only the
+/// options that are on (here neither enumerate option is, so neither is suggested).
+/// Source: definition (the budget), common practice, no source.
+#[test]
+fn a_walk_that_mostly_skips_stops_at_its_budget_with_advice() {
+    let p = plan(
+        &[
+            ("a", 15, 180.0),
+            ("b", 15, 90.0),
+            ("c", 15, 270.0),
+            ("d", 15, 200.0),
+        ],
+        &["in1", "in2"],
+    );
+    let temps = DesignTemperatures {
+        min_air_c: -10.0,
+        max_air_c: 40.0,
+    };
+    let e = enumerate_pruned(&p, EnumerateOptions::default(), &|p, d| {
+        input_hard_limit(p, &temps, d)
+    })
+    .expect_err("60 modules in 4 groups cannot be walked within the budget");
+    assert_eq!(
+        e,
+        TooManyLayouts::Choices {
+            limit: MAX_CHOICES_SKIPPED
+        }
+    );
+    let advice = e.advice(&p);
+    assert!(
+        advice.contains("[[layout]]")
+            && advice.contains("merge orientation groups")
+            && !advice.contains("allow_unused_modules")
+            && !advice.contains("allow_mixed_orientation"),
+        "{advice}"
+    );
+    // With the options on, the advice names them.
+    let mut q = p.clone();
+    q.enumerate.allow_unused_modules = true;
+    assert!(e.advice(&q).contains("allow_unused_modules = false"));
 }
