@@ -2,6 +2,7 @@
 
 use crate::commands::load::load;
 use crate::commands::{Outcome, OutputFormat, PlanSource, RankRequest};
+use crate::design::assign;
 use crate::design::candidates::candidate_layouts;
 use crate::design::rules::{self, design_temperatures};
 use crate::design::sizing::size_best;
@@ -12,7 +13,7 @@ use crate::results::explain::difference_by_cause;
 use crate::results::light;
 use crate::results::recommend::recommend;
 use crate::results::summary::LayoutSummary;
-use crate::results::{rank, uncertainty, RankResult};
+use crate::results::{rank, uncertainty, AssignmentGain, AssignmentReport, RankResult};
 use crate::sim::conditions;
 use crate::sim::{curves, year};
 
@@ -51,13 +52,32 @@ pub fn simulate_and_rank(
         })
         .collect();
     let conditions = conditions::phase1(plan, &loaded.weather, &loaded.site);
+    // The substring curves are shared by the ranking and the battery sizing below.
+    let curves = curves::all_interval_curves(plan, &conditions, opts.parallel);
+    // Which modules share a string: enumerated layouts take the seed assignment where shade
+    // makes modules of one group differ (the plan's listed layouts are kept as written).
+    let profiles = curves::shade_profiles(plan, &conditions, &curves);
+    let assigning = plan.enumerate_all && profiles.any_choice(plan);
+    let mut id_order: Vec<(String, layout::Layout)> = Vec::new();
+    if assigning {
+        for o in outcomes
+            .iter_mut()
+            .filter(|o| !o.rejected() && o.layout.id.starts_with('E'))
+        {
+            let seeded = assign::seed(plan, &profiles, &o.layout);
+            if seeded.inputs != o.layout.inputs {
+                id_order.push((
+                    o.layout.id.clone(),
+                    std::mem::replace(&mut o.layout, seeded),
+                ));
+            }
+        }
+    }
     let passing: Vec<&layout::Layout> = outcomes
         .iter()
         .filter(|o| !o.rejected())
         .map(|o| &o.layout)
         .collect();
-    // The substring curves are shared by the ranking and the battery sizing below.
-    let curves = curves::all_interval_curves(plan, &conditions, opts.parallel);
     let energies = year::simulate_layouts(plan, &conditions, &curves, &passing, opts);
     let mut energies = energies.into_iter();
     // Every figure is per mean year: a weather file of several years is scaled to one.
@@ -68,8 +88,7 @@ pub fn simulate_and_rank(
     let horizontal_kwh_m2 = light::horizontal_monthly_kwh_m2(&conditions).map(|x| x * per_year);
     let months_present = light::months_present(&conditions);
     let winter_months = rank::winter_months(&horizontal_kwh_m2, &months_present);
-    for o in outcomes.iter_mut().filter(|o| !o.rejected()) {
-        let mut e = energies.next().expect("one energy per passing layout");
+    let fill = |o: &mut rank::LayoutOutcome, mut e: crate::sim::energy::LayoutEnergy| {
         e.scale_to_mean_year(per_year);
         let s = LayoutSummary::new(plan, &o.layout, &e, &temps, &months_present, &winter_months);
         // P50/P90 apply to the energy offered (what separates wirings).
@@ -79,8 +98,75 @@ pub fn simulate_and_rank(
         ));
         o.summary = Some(s);
         o.energy = Some(e);
+    };
+    for o in outcomes.iter_mut().filter(|o| !o.rejected()) {
+        fill(o, energies.next().expect("one energy per passing layout"));
     }
     rank::rank(&mut outcomes, criterion);
+    // One layout simulated alone, as the criterion's key (for the swap search).
+    let quiet = year::RunOptions {
+        parallel: false,
+        hourly: false,
+        on_layout_done: None,
+    };
+    let summarise = |l: &layout::Layout| {
+        let mut e = year::simulate_layouts(plan, &conditions, &curves, &[l], quiet)
+            .pop()
+            .expect("one layout in, one energy out");
+        e.scale_to_mean_year(per_year);
+        LayoutSummary::new(plan, l, &e, &temps, &months_present, &winter_months)
+    };
+    let assignment = assigning.then(|| {
+        let mut report = AssignmentReport {
+            seeded: id_order.len(),
+            ..AssignmentReport::default()
+        };
+        // The swap search on the best few enumerated layouts (the rest keep the seed).
+        let eval = |l: &layout::Layout| rank::sort_key(&summarise(l), criterion);
+        let best: Vec<usize> = outcomes
+            .iter()
+            .enumerate()
+            .filter(|(_, o)| o.rank.is_some() && o.layout.id.starts_with('E'))
+            .map(|(k, _)| k)
+            .take(SWAP_SEARCHED)
+            .collect();
+        for k in best {
+            let o = &outcomes[k];
+            let Some(s) = &o.summary else { continue };
+            let found = assign::search(
+                plan,
+                &profiles,
+                &o.layout,
+                rank::sort_key(s, criterion),
+                &eval,
+                SWAP_EVALUATIONS,
+            );
+            report.searched += 1;
+            report.evaluations += found.evaluations;
+            if found.swaps > 0 {
+                report.improved += 1;
+                let o = &mut outcomes[k];
+                if !id_order.iter().any(|(id, _)| *id == o.layout.id) {
+                    id_order.push((o.layout.id.clone(), o.layout.clone()));
+                }
+                o.layout = found.layout;
+                let e = year::simulate_layouts(
+                    plan,
+                    &conditions,
+                    &curves,
+                    &[&o.layout],
+                    quiet_with(opts),
+                )
+                .pop()
+                .expect("one layout in, one energy out");
+                fill(o, e);
+            }
+        }
+        report
+    });
+    if assignment.as_ref().is_some_and(|a| a.improved > 0) {
+        rank::rank(&mut outcomes, criterion);
+    }
     let recommendation = recommend(&outcomes, criterion);
     // Every other ranked layout against the recommended one, by cause.
     let best_id = recommendation.as_ref().map(|r| r.layout.clone());
@@ -102,6 +188,22 @@ pub fn simulate_and_rank(
     let recommended = recommendation
         .as_ref()
         .and_then(|r| outcomes.iter().find(|o| o.layout.id == r.layout));
+    // What choosing the modules gained for the recommended layout over id order.
+    let assignment = assignment.map(|mut a| {
+        a.recommended = recommended.and_then(|best| {
+            let (_, plain) = id_order.iter().find(|(id, _)| *id == best.layout.id)?;
+            let s = best.summary.as_ref()?;
+            let p = summarise(plain);
+            Some(AssignmentGain {
+                layout: best.layout.id.clone(),
+                score_kwh: rank::score_kwh(s, criterion),
+                id_order_score_kwh: rank::score_kwh(&p, criterion),
+                offered_kwh: s.annual_offered_kwh(),
+                id_order_offered_kwh: p.annual_offered_kwh(),
+            })
+        });
+        a
+    });
     let (sizing, module_sizing) = match recommended {
         Some(best) => size_best(
             plan,
@@ -128,7 +230,22 @@ pub fn simulate_and_rank(
         module_sizing,
         recommendation,
         years: 1.0 / per_year,
+        assignment,
     })
+}
+
+/// How many of the best enumerated layouts the swap search refines, and its simulation
+/// budget per layout (notebooks-free-docs/method-assignment.md).
+pub const SWAP_SEARCHED: usize = 3;
+pub const SWAP_EVALUATIONS: usize = 400;
+
+/// The run's options for re-simulating one layout: hourly rows as asked, no progress ticks.
+fn quiet_with(opts: year::RunOptions) -> year::RunOptions {
+    year::RunOptions {
+        parallel: false,
+        hourly: opts.hourly,
+        on_layout_done: None,
+    }
 }
 
 pub fn rank(r: &RankRequest, on_layout_done: &(dyn Fn(usize) + Sync)) -> Result<Outcome, Error> {

@@ -46,6 +46,42 @@ fn site_header(out: &mut String, l: &Loaded) {
     );
 }
 
+/// What module assignment did, in one sentence: the gain over id order for the recommended
+/// layout, and how many layouts were assigned and searched.
+fn assignment_line(
+    a: &crate::results::AssignmentReport,
+    c: crate::results::rank::Criterion,
+) -> String {
+    let searched = format!(
+        "{} enumerated layout{} took the least shaded modules and grouped similar shade in strings; the best {} {} searched further by swaps ({} simulation{}, {} improved)",
+        a.seeded,
+        if a.seeded == 1 { "" } else { "s" },
+        a.searched,
+        if a.searched == 1 { "was" } else { "were" },
+        a.evaluations,
+        if a.evaluations == 1 { "" } else { "s" },
+        a.improved
+    );
+    match &a.recommended {
+        Some(g) => {
+            let gain = g.score_kwh - g.id_order_score_kwh;
+            let what = match c {
+                crate::results::rank::Criterion::Unmet => format!(
+                    "{:.1} kWh a year less unmet load",
+                    gain
+                ),
+                _ => format!("{:+.1} kWh a year of {}", gain, c.short()),
+            };
+            format!(
+                "Modules chosen by shade: {} gains {what} ({:+.1} kWh offered) over the same shape with modules in id order; {searched}.",
+                g.layout,
+                g.offered_kwh - g.id_order_offered_kwh
+            )
+        }
+        None => format!("Modules chosen by shade: {searched}; the recommended layout's wiring is as in id order or listed in the plan."),
+    }
+}
+
 /// The ranking report with the wiring list of the recommended layout and of the plan's
 /// listed layouts.
 pub fn ranking(r: &RankResult) -> String {
@@ -194,6 +230,9 @@ impl<'a> RankingText<'a> {
         };
         let _ = writeln!(out, "Build {}: {}", o.layout.id, o.layout.display_name());
         let _ = writeln!(out, "  Why: {}", rec.reason);
+        if let Some(a) = &self.r.assignment {
+            let _ = writeln!(out, "  {}", assignment_line(a, rec.criterion));
+        }
         if let (Some(id), Some(gap)) = (&rec.runner_up, &rec.runner_up_gap) {
             let name = self
                 .r

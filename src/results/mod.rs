@@ -39,6 +39,9 @@ pub struct RankResult {
     pub recommendation: Option<recommend::Recommendation>,
     /// Years of weather the figures are the mean of (1 for a typical year).
     pub years: f64,
+    /// What module assignment did; `None` when every group's modules are interchangeable or
+    /// the plan lists its layouts.
+    pub assignment: Option<AssignmentReport>,
 }
 
 impl RankResult {
@@ -47,6 +50,32 @@ impl RankResult {
         let id = &self.recommendation.as_ref()?.layout;
         self.outcomes.iter().find(|o| &o.layout.id == id)
     }
+}
+
+/// What choosing which modules share a string did (enumerated layouts of a plan whose
+/// modules of one group see different shade; notebooks-free-docs/method-assignment.md).
+#[derive(Clone, Debug, Default)]
+pub struct AssignmentReport {
+    /// Enumerated layouts whose modules were chosen by the seed instead of taken in id order.
+    pub seeded: usize,
+    /// The best few layouts searched further by swaps, and how many of them a swap improved.
+    pub searched: usize,
+    pub improved: usize,
+    /// Simulations the swap search ran.
+    pub evaluations: usize,
+    /// The recommended layout against the same shape with modules in id order.
+    pub recommended: Option<AssignmentGain>,
+}
+
+/// The recommended layout's figures with its chosen modules and in id order.
+#[derive(Clone, Debug)]
+pub struct AssignmentGain {
+    pub layout: String,
+    /// The ranking criterion's figure (kWh; for `unmet`, minus the unmet kWh).
+    pub score_kwh: f64,
+    pub id_order_score_kwh: f64,
+    pub offered_kwh: f64,
+    pub id_order_offered_kwh: f64,
 }
 
 /// What `check` read: the plan with its weather and site, or the plan alone when its weather

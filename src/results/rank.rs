@@ -120,6 +120,21 @@ pub fn score_kwh(s: &LayoutSummary, c: Criterion) -> f64 {
 }
 
 /// Orders two summaries by a criterion, best first.
+/// The criterion as one key, higher better, ordered as [`compare`] orders layouts (arrays
+/// compare element by element): for `unmet` fewer days short, then less unmet load, then
+/// more winter energy offered; otherwise the criterion's kWh; then the annual offered energy.
+pub fn sort_key(s: &LayoutSummary, c: Criterion) -> [f64; 4] {
+    match c {
+        Criterion::Unmet => [
+            -s.annual_days_short(),
+            -s.annual_unmet_kwh(),
+            s.winter_offered_kwh,
+            s.annual_offered_kwh(),
+        ],
+        _ => [score_kwh(s, c), s.annual_offered_kwh(), 0.0, 0.0],
+    }
+}
+
 pub fn compare(a: &LayoutSummary, b: &LayoutSummary, c: Criterion) -> std::cmp::Ordering {
     let primary = match c {
         Criterion::Unmet => a

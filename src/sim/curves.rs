@@ -252,3 +252,93 @@ pub fn all_interval_curves(
             .collect()
     }
 }
+
+/// What shade does to each module over the year, for choosing which modules share a string
+/// (notebooks-free-docs/method-assignment.md).
+#[derive(Clone, Debug)]
+pub struct ShadeProfiles {
+    /// Per module: its interchangeability class. Two modules share a class when they belong
+    /// to the same orientation group and every one of their substrings has the same curve in
+    /// every interval of the year, so swapping them can never change any result.
+    pub class: Vec<usize>,
+    /// Per module: the sum of its substrings' maximum powers over the year, Wh (what it could
+    /// give alone, after shade).
+    pub energy_wh: Vec<f64>,
+    /// Per module, per hour of the day (local standard time): the share of its group's best
+    /// module's energy in that hour that this module loses to shade (0 = never shaded then).
+    pub lost_by_hour: Vec<[f64; 24]>,
+}
+
+impl ShadeProfiles {
+    /// True when some orientation group holds modules of more than one class, so that which
+    /// modules share a string can matter.
+    pub fn any_choice(&self, plan: &Plan) -> bool {
+        (0..plan.groups.len()).any(|g| {
+            let mut classes = plan
+                .modules
+                .iter()
+                .enumerate()
+                .filter(|(_, m)| m.group == g)
+                .map(|(i, _)| self.class[i]);
+            classes
+                .next()
+                .is_some_and(|first| classes.any(|c| c != first))
+        })
+    }
+}
+
+/// Computes every module's [`ShadeProfiles`] entry from the shared curves.
+pub fn shade_profiles(
+    plan: &Plan,
+    cond: &Conditions,
+    curves: &[Option<IntervalCurves>],
+) -> ShadeProfiles {
+    let n = plan.modules.len();
+    let mut sequences: Vec<Vec<u16>> = vec![Vec::new(); n];
+    let mut energy_wh = vec![0.0; n];
+    let mut lost = vec![[0.0; 24]; n];
+    let mut best_by_hour = vec![[0.0; 24]; n];
+    let mut mpp = vec![0.0; n];
+    for (k, info) in cond.intervals.iter().enumerate() {
+        let Some(ic) = &curves[k] else { continue };
+        for mi in 0..n {
+            sequences[mi].extend_from_slice(&ic.module_subs[mi]);
+            mpp[mi] = ic.module_subs[mi]
+                .iter()
+                .map(|&s| ic.curves[s as usize].mpp_w)
+                .sum();
+            energy_wh[mi] += mpp[mi] * info.hours;
+        }
+        let h = (info.hour as usize).min(23);
+        for g in 0..plan.groups.len() {
+            let best = (0..n)
+                .filter(|&mi| plan.modules[mi].group == g)
+                .map(|mi| mpp[mi])
+                .fold(0.0, f64::max);
+            for mi in (0..n).filter(|&mi| plan.modules[mi].group == g) {
+                lost[mi][h] += (best - mpp[mi]) * info.hours;
+                best_by_hour[mi][h] += best * info.hours;
+            }
+        }
+    }
+    let mut keys: std::collections::HashMap<(usize, &[u16]), usize> =
+        std::collections::HashMap::new();
+    let class = (0..n)
+        .map(|mi| {
+            let next = keys.len();
+            *keys
+                .entry((plan.modules[mi].group, sequences[mi].as_slice()))
+                .or_insert(next)
+        })
+        .collect();
+    let lost_by_hour = lost
+        .iter()
+        .zip(&best_by_hour)
+        .map(|(l, b)| std::array::from_fn(|h| if b[h] > 0.0 { l[h] / b[h] } else { 0.0 }))
+        .collect();
+    ShadeProfiles {
+        class,
+        energy_wh,
+        lost_by_hour,
+    }
+}

@@ -1,4 +1,5 @@
 //! Integration tests, compiled into one binary and grouped by topic.
+mod assign;
 mod cli;
 mod decision;
 mod electrical;

@@ -1,0 +1,520 @@
+//! Which physical modules form each string, and which stay unused, for one layout shape
+//! (per input: modules in series, strings in parallel, groups drawn on).
+//!
+//! Enumeration decides the shape and takes each group's modules in id order; where shade
+//! makes modules of one group differ, which modules share a string is a real choice (a
+//! string of similarly shaded modules loses far less than one that mixes shaded and sunny
+//! ones). The method (notebooks-free-docs/method-assignment.md):
+//!
+//! 1. **Seed**: per group, the modules that give most over the year are used (the most
+//!    shaded stay unused when the shape leaves some out), chained so that each next module
+//!    is the one whose shade-by-hour profile is closest to the last; the layout's slots of
+//!    that group are filled in that order, so neighbours in the chain share strings.
+//! 2. **Improve**: swaps of two modules of the same group between strings, or between a
+//!    string and the unused ones, each evaluated with the full simulation; the best swap of
+//!    a round is taken while it improves the ranking criterion. Modules of the same class
+//!    ([`ShadeProfiles::class`]: the same curve in every interval) are interchangeable and
+//!    never swapped with each other.
+//!
+//! [`exhaustive`] evaluates every distinct assignment; it is the check of the method on
+//! small plans.
+
+use std::collections::HashSet;
+
+use rayon::prelude::*;
+
+use crate::input::layout::Layout;
+use crate::input::plan::Plan;
+use crate::sim::curves::ShadeProfiles;
+
+/// A module's place: input, string and position indices into `Layout::inputs`.
+type Slot = (usize, usize, usize);
+
+/// Distance between two modules' shade-by-hour profiles (Euclidean, in lost shares).
+fn distance(a: &[f64; 24], b: &[f64; 24]) -> f64 {
+    a.iter()
+        .zip(b)
+        .map(|(x, y)| (x - y) * (x - y))
+        .sum::<f64>()
+        .sqrt()
+}
+
+/// The layout's slots that hold a module of group `g`, in input, string, position order.
+fn slots_of_group(plan: &Plan, layout: &Layout, g: usize) -> Vec<Slot> {
+    let mut out = Vec::new();
+    for (wi, w) in layout.inputs.iter().enumerate() {
+        for (si, s) in w.strings.iter().enumerate() {
+            for (pi, &m) in s.iter().enumerate() {
+                if plan.modules[m].group == g {
+                    out.push((wi, si, pi));
+                }
+            }
+        }
+    }
+    out
+}
+
+/// The seed assignment of `layout`'s shape (step 1 of the method); the id, code and shape
+/// are kept.
+pub fn seed(plan: &Plan, prof: &ShadeProfiles, layout: &Layout) -> Layout {
+    let mut out = layout.clone();
+    for g in 0..plan.groups.len() {
+        let slots = slots_of_group(plan, layout, g);
+        if slots.is_empty() {
+            continue;
+        }
+        let mut pool: Vec<usize> = (0..plan.modules.len())
+            .filter(|&m| plan.modules[m].group == g)
+            .collect();
+        pool.sort_by(|&a, &b| {
+            prof.energy_wh[b]
+                .total_cmp(&prof.energy_wh[a])
+                .then(a.cmp(&b))
+        });
+        pool.truncate(slots.len());
+        // Chain: from the module that gives most, always on to the closest profile.
+        let mut chain = Vec::with_capacity(pool.len());
+        let mut rest = pool;
+        let mut last = rest.remove(0);
+        chain.push(last);
+        while !rest.is_empty() {
+            let (k, _) = rest
+                .iter()
+                .enumerate()
+                .map(|(k, &m)| (k, distance(&prof.lost_by_hour[last], &prof.lost_by_hour[m])))
+                .min_by(|a, b| a.1.total_cmp(&b.1).then(a.0.cmp(&b.0)))
+                .expect("rest is not empty");
+            last = rest.remove(k);
+            chain.push(last);
+        }
+        for ((wi, si, pi), m) in slots.into_iter().zip(chain) {
+            out.inputs[wi].strings[si][pi] = m;
+        }
+    }
+    out
+}
+
+/// The layout's slots of each group filled from `order` (per group, modules best first):
+/// the first modules of each group's order are used, in slot order.
+fn fill_in_order(plan: &Plan, layout: &Layout, order: &dyn Fn(usize) -> Vec<usize>) -> Layout {
+    let mut out = layout.clone();
+    for g in 0..plan.groups.len() {
+        let slots = slots_of_group(plan, layout, g);
+        for ((wi, si, pi), m) in slots.into_iter().zip(order(g)) {
+            out.inputs[wi].strings[si][pi] = m;
+        }
+    }
+    out
+}
+
+/// Starting points for the swap search: the chained seed, the modules in order of their
+/// year's energy, in order of when in the day shade takes their light (morning first), and
+/// the shape as given (id order); equivalent ones once.
+pub fn starts(plan: &Plan, prof: &ShadeProfiles, layout: &Layout) -> Vec<Layout> {
+    let group_modules = |g: usize| -> Vec<usize> {
+        (0..plan.modules.len())
+            .filter(|&m| plan.modules[m].group == g)
+            .collect()
+    };
+    let by_energy = |g: usize| {
+        let mut v = group_modules(g);
+        v.sort_by(|&a, &b| {
+            prof.energy_wh[b]
+                .total_cmp(&prof.energy_wh[a])
+                .then(a.cmp(&b))
+        });
+        v
+    };
+    // When in the day a module loses its light: the loss-weighted mean hour.
+    let timing = |m: usize| {
+        let l = &prof.lost_by_hour[m];
+        let total: f64 = l.iter().sum();
+        if total > 0.0 {
+            l.iter().enumerate().map(|(h, x)| h as f64 * x).sum::<f64>() / total
+        } else {
+            12.0
+        }
+    };
+    let by_timing = |g: usize| {
+        // The modules that give most stay in use; among them, similar timing goes together.
+        let n = slots_of_group(plan, layout, g).len();
+        let mut v = by_energy(g);
+        v.truncate(n);
+        v.sort_by(|&a, &b| timing(a).total_cmp(&timing(b)).then(a.cmp(&b)));
+        v
+    };
+    let mut out: Vec<Layout> = Vec::new();
+    let mut seen = HashSet::new();
+    for l in [
+        seed(plan, prof, layout),
+        fill_in_order(plan, layout, &by_energy),
+        fill_in_order(plan, layout, &by_timing),
+        layout.clone(),
+    ] {
+        if seen.insert(class_key(prof, &l)) {
+            out.push(l);
+        }
+    }
+    out
+}
+
+/// The whole method: the swap search from each of [`starts`] (the first with `first_key`
+/// already known), sharing `max_evaluations`; the best result. Ties keep the earlier start.
+pub fn search<K, F>(
+    plan: &Plan,
+    prof: &ShadeProfiles,
+    layout: &Layout,
+    first_key: K,
+    eval: &F,
+    max_evaluations: usize,
+) -> Assigned<K>
+where
+    K: PartialOrd + Clone + Send,
+    F: Fn(&Layout) -> K + Sync,
+{
+    let starts = starts(plan, prof, layout);
+    let share = max_evaluations / starts.len().max(1);
+    let mut best: Option<Assigned<K>> = None;
+    let mut evaluations = 0;
+    for (k, s) in starts.into_iter().enumerate() {
+        let key = if k == 0 {
+            first_key.clone()
+        } else {
+            evaluations += 1;
+            eval(&s)
+        };
+        let found = improve(plan, prof, s, key, eval, share);
+        evaluations += found.evaluations;
+        if best.as_ref().is_none_or(|b| found.key > b.key) {
+            best = Some(found);
+        }
+    }
+    let mut best = best.expect("at least one start");
+    best.evaluations = evaluations;
+    best
+}
+
+/// The modules of group `g` that `layout` leaves unused, in id order.
+fn unused_of_group(plan: &Plan, layout: &Layout, g: usize) -> Vec<usize> {
+    let used: HashSet<usize> = layout
+        .inputs
+        .iter()
+        .flat_map(|w| w.strings.iter().flatten().copied())
+        .collect();
+    (0..plan.modules.len())
+        .filter(|&m| plan.modules[m].group == g && !used.contains(&m))
+        .collect()
+}
+
+/// One swap: the module at a slot with the module at another slot, or with an unused module.
+#[derive(Clone, Copy, Debug)]
+enum Swap {
+    Slots(Slot, Slot),
+    Unused(Slot, usize),
+}
+
+fn apply(layout: &Layout, swap: Swap) -> Layout {
+    let mut l = layout.clone();
+    match swap {
+        Swap::Slots((a, b, c), (d, e, f)) => {
+            let x = l.inputs[a].strings[b][c];
+            l.inputs[a].strings[b][c] = l.inputs[d].strings[e][f];
+            l.inputs[d].strings[e][f] = x;
+        }
+        Swap::Unused((a, b, c), m) => l.inputs[a].strings[b][c] = m,
+    }
+    l
+}
+
+/// Every swap that can change a result: same group, different class, different strings;
+/// one representative per (string, class) and per unused class.
+fn swaps(plan: &Plan, prof: &ShadeProfiles, layout: &Layout) -> Vec<Swap> {
+    let mut out = Vec::new();
+    for g in 0..plan.groups.len() {
+        let mut reps: Vec<(Slot, usize)> = Vec::new();
+        let mut seen: HashSet<(usize, usize, usize)> = HashSet::new();
+        for slot in slots_of_group(plan, layout, g) {
+            let class = prof.class[layout.inputs[slot.0].strings[slot.1][slot.2]];
+            if seen.insert((slot.0, slot.1, class)) {
+                reps.push((slot, class));
+            }
+        }
+        let mut unused_classes = HashSet::new();
+        let unused: Vec<usize> = unused_of_group(plan, layout, g)
+            .into_iter()
+            .filter(|&m| unused_classes.insert(prof.class[m]))
+            .collect();
+        for (i, &(a, ca)) in reps.iter().enumerate() {
+            for &(b, cb) in &reps[i + 1..] {
+                if ca != cb && (a.0, a.1) != (b.0, b.1) {
+                    out.push(Swap::Slots(a, b));
+                }
+            }
+            for &m in &unused {
+                if prof.class[m] != ca {
+                    out.push(Swap::Unused(a, m));
+                }
+            }
+        }
+    }
+    out
+}
+
+/// The result of [`improve`] or [`exhaustive`].
+#[derive(Clone, Debug)]
+pub struct Assigned<K> {
+    pub layout: Layout,
+    /// The criterion's key of `layout` (higher is better).
+    pub key: K,
+    /// Simulations run.
+    pub evaluations: usize,
+    /// Swaps taken (0 for [`exhaustive`]).
+    pub swaps: usize,
+}
+
+/// Step 2 of the method: from `start` (with its key), take the best improving swap of each
+/// round until none improves or `max_evaluations` simulations have run. `eval` simulates a
+/// layout and returns the ranking criterion's key, higher better; it must be deterministic.
+pub fn improve<K, F>(
+    plan: &Plan,
+    prof: &ShadeProfiles,
+    start: Layout,
+    start_key: K,
+    eval: &F,
+    max_evaluations: usize,
+) -> Assigned<K>
+where
+    K: PartialOrd + Clone + Send,
+    F: Fn(&Layout) -> K + Sync,
+{
+    let mut best = Assigned {
+        layout: start,
+        key: start_key,
+        evaluations: 0,
+        swaps: 0,
+    };
+    loop {
+        let room = max_evaluations.saturating_sub(best.evaluations);
+        let mut moves = swaps(plan, prof, &best.layout);
+        if moves.is_empty() || room == 0 {
+            return best;
+        }
+        moves.truncate(room);
+        best.evaluations += moves.len();
+        let tried: Vec<(Layout, K)> = moves
+            .par_iter()
+            .map(|&m| {
+                let l = apply(&best.layout, m);
+                let k = eval(&l);
+                (l, k)
+            })
+            .collect();
+        // The first of the best (deterministic whatever the thread timing).
+        let mut winner: Option<(Layout, K)> = None;
+        for (l, k) in tried {
+            let beats_current = k > best.key;
+            let beats_winner = winner.as_ref().is_none_or(|(_, w)| k > *w);
+            if beats_current && beats_winner {
+                winner = Some((l, k));
+            }
+        }
+        match winner {
+            Some((l, k)) => {
+                best.layout = l;
+                best.key = k;
+                best.swaps += 1;
+            }
+            None => return best,
+        }
+    }
+}
+
+/// Per input, the strings as sorted class lists, sorted: equal for assignments that can
+/// never give different results.
+fn class_key(prof: &ShadeProfiles, layout: &Layout) -> Vec<Vec<Vec<usize>>> {
+    layout
+        .inputs
+        .iter()
+        .map(|w| {
+            let mut strings: Vec<Vec<usize>> = w
+                .strings
+                .iter()
+                .map(|s| {
+                    let mut c: Vec<usize> = s.iter().map(|&m| prof.class[m]).collect();
+                    c.sort_unstable();
+                    c
+                })
+                .collect();
+            strings.sort();
+            strings
+        })
+        .collect()
+}
+
+/// Every distinct assignment of `layout`'s shape (distinct by [`class_key`]), or `None` when
+/// there are more than `limit`.
+pub fn all_assignments(
+    plan: &Plan,
+    prof: &ShadeProfiles,
+    layout: &Layout,
+    limit: usize,
+) -> Option<Vec<Layout>> {
+    // Each string takes its modules per group in increasing id order (series order does not
+    // matter); every choice of which modules go to which string is walked.
+    let strings: Vec<(usize, usize)> = layout
+        .inputs
+        .iter()
+        .enumerate()
+        .flat_map(|(wi, w)| (0..w.strings.len()).map(move |si| (wi, si)))
+        .collect();
+    let mut out = Vec::new();
+    let mut seen = HashSet::new();
+    let mut free = vec![true; plan.modules.len()];
+    let mut current = layout.clone();
+    let mut raw = 0usize;
+    #[allow(clippy::too_many_arguments)]
+    fn walk(
+        plan: &Plan,
+        prof: &ShadeProfiles,
+        strings: &[(usize, usize)],
+        k: usize,
+        current: &mut Layout,
+        free: &mut [bool],
+        out: &mut Vec<Layout>,
+        seen: &mut HashSet<Vec<Vec<Vec<usize>>>>,
+        raw: &mut usize,
+        limit: usize,
+    ) -> bool {
+        if k == strings.len() {
+            *raw += 1;
+            if *raw > limit.saturating_mul(50) {
+                return false;
+            }
+            if seen.insert(class_key(prof, current)) {
+                out.push(current.clone());
+            }
+            return out.len() <= limit;
+        }
+        let (wi, si) = strings[k];
+        fill(
+            plan, prof, strings, k, wi, si, 0, current, free, out, seen, raw, limit,
+        )
+    }
+    #[allow(clippy::too_many_arguments)]
+    fn fill(
+        plan: &Plan,
+        prof: &ShadeProfiles,
+        strings: &[(usize, usize)],
+        k: usize,
+        wi: usize,
+        si: usize,
+        pos: usize,
+        current: &mut Layout,
+        free: &mut [bool],
+        out: &mut Vec<Layout>,
+        seen: &mut HashSet<Vec<Vec<Vec<usize>>>>,
+        raw: &mut usize,
+        limit: usize,
+    ) -> bool {
+        let len = current.inputs[wi].strings[si].len();
+        if pos == len {
+            return walk(
+                plan,
+                prof,
+                strings,
+                k + 1,
+                current,
+                free,
+                out,
+                seen,
+                raw,
+                limit,
+            );
+        }
+        let old = current.inputs[wi].strings[si][pos];
+        let g = plan.modules[old].group;
+        // Increasing ids among this string's modules of the same group.
+        let after = current.inputs[wi].strings[si][..pos]
+            .iter()
+            .filter(|&&m| plan.modules[m].group == g)
+            .max()
+            .map_or(0, |&m| m + 1);
+        for m in after..plan.modules.len() {
+            if !free[m] || plan.modules[m].group != g {
+                continue;
+            }
+            free[m] = false;
+            current.inputs[wi].strings[si][pos] = m;
+            let go_on = fill(
+                plan,
+                prof,
+                strings,
+                k,
+                wi,
+                si,
+                pos + 1,
+                current,
+                free,
+                out,
+                seen,
+                raw,
+                limit,
+            );
+            free[m] = true;
+            current.inputs[wi].strings[si][pos] = old;
+            if !go_on {
+                return false;
+            }
+        }
+        true
+    }
+    walk(
+        plan,
+        prof,
+        &strings,
+        0,
+        &mut current,
+        &mut free,
+        &mut out,
+        &mut seen,
+        &mut raw,
+        limit,
+    )
+    .then_some(out)
+}
+
+/// Evaluates every distinct assignment (at most `limit`) and returns the best; `None` when
+/// there are more than `limit`. The check of the method on small plans.
+pub fn exhaustive<K, F>(
+    plan: &Plan,
+    prof: &ShadeProfiles,
+    layout: &Layout,
+    eval: &F,
+    limit: usize,
+) -> Option<Assigned<K>>
+where
+    K: PartialOrd + Clone + Send,
+    F: Fn(&Layout) -> K + Sync,
+{
+    let all = all_assignments(plan, prof, layout, limit)?;
+    let evaluations = all.len();
+    let keyed: Vec<(Layout, K)> = all
+        .into_par_iter()
+        .map(|l| {
+            let k = eval(&l);
+            (l, k)
+        })
+        .collect();
+    let mut best: Option<(Layout, K)> = None;
+    for (l, k) in keyed {
+        if best.as_ref().is_none_or(|(_, b)| k > *b) {
+            best = Some((l, k));
+        }
+    }
+    best.map(|(layout, key)| Assigned {
+        layout,
+        key,
+        evaluations,
+        swaps: 0,
+    })
+}
