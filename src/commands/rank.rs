@@ -133,10 +133,16 @@ pub fn simulate_and_rank(
         for k in best {
             let o = &outcomes[k];
             let Some(s) = &o.summary else { continue };
+            // The search starts from the shape in id order (its seed is the current layout,
+            // whose key is known).
+            let shape = id_order
+                .iter()
+                .find(|(id, _)| *id == o.layout.id)
+                .map_or(&o.layout, |(_, l)| l);
             let found = assign::search(
                 plan,
                 &profiles,
-                &o.layout,
+                shape,
                 rank::sort_key(s, criterion),
                 &eval,
                 SWAP_EVALUATIONS,

@@ -174,23 +174,35 @@ where
 {
     let starts = starts(plan, prof, layout);
     let share = max_evaluations / starts.len().max(1);
+    // Starts and swaps often meet the same assignment again: simulate each one once.
+    let memo: std::sync::Mutex<std::collections::HashMap<Vec<Vec<Vec<usize>>>, K>> =
+        std::sync::Mutex::new(std::collections::HashMap::new());
+    let simulated = std::sync::atomic::AtomicUsize::new(0);
+    let cached = |l: &Layout| -> K {
+        let key = class_key(prof, l);
+        if let Some(k) = memo.lock().ok().and_then(|m| m.get(&key).cloned()) {
+            return k;
+        }
+        simulated.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+        let k = eval(l);
+        if let Ok(mut m) = memo.lock() {
+            m.insert(key, k.clone());
+        }
+        k
+    };
+    if let Ok(mut m) = memo.lock() {
+        m.insert(class_key(prof, &starts[0]), first_key.clone());
+    }
     let mut best: Option<Assigned<K>> = None;
-    let mut evaluations = 0;
-    for (k, s) in starts.into_iter().enumerate() {
-        let key = if k == 0 {
-            first_key.clone()
-        } else {
-            evaluations += 1;
-            eval(&s)
-        };
-        let found = improve(plan, prof, s, key, eval, share);
-        evaluations += found.evaluations;
+    for s in starts {
+        let key = cached(&s);
+        let found = improve(plan, prof, s, key, &cached, share);
         if best.as_ref().is_none_or(|b| found.key > b.key) {
             best = Some(found);
         }
     }
     let mut best = best.expect("at least one start");
-    best.evaluations = evaluations;
+    best.evaluations = simulated.into_inner();
     best
 }
 
