@@ -71,6 +71,7 @@ pub fn simulate_and_rank(
     for o in outcomes.iter_mut().filter(|o| !o.rejected()) {
         let mut e = energies.next().expect("one energy per passing layout");
         e.scale_to_mean_year(per_year);
+        rules::price_warnings(&mut o.findings, &e);
         let s = LayoutSummary::new(plan, &o.layout, &e, &temps, &months_present, &winter_months);
         // P50/P90 apply to the energy offered (what separates wirings).
         o.p90 = Some(uncertainty::p50_p90(

@@ -392,7 +392,7 @@ fn findings(o: &LayoutOutcome, severity: Severity) -> String {
     o.findings
         .iter()
         .filter(|f| f.severity == severity)
-        .map(|f| format!("{}: {}", f.rule, f.message))
+        .map(|f| format!("{}: {}", f.rule, f.text()))
         .collect::<Vec<_>>()
         .join(LIST_SEPARATOR)
 }
