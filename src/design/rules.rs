@@ -642,9 +642,13 @@ impl InputCheck<'_> {
                 b.value, Num(b.limit), b.value - b.limit
             ));
         } else if isc_125 > c.model.max_input_a() {
-            let uses = if c.model.is_pwm() { "its rated current" } else { "the current it draws" };
+            let draws = if c.model.is_pwm() {
+                "the PWM controller's rated current"
+            } else {
+                "the most the controller draws"
+            };
             push(out, Severity::Warn, Rule::InputCurrent, format!(
-                "{tag}1.25 × Isc of {p} parallel strings is {isc_125:.1} A, above {uses}, {} A (within the {} A it withstands): in strong sun the controller limits itself",
+                "{tag}1.25 × Isc of {p} parallel strings is {isc_125:.1} A, above {} A, {draws} (within the {} A array short-circuit current it withstands): in strong sun it limits itself",
                 Num(c.model.max_input_a()), Num(c.max_array_isc_a)
             ));
         }
@@ -913,6 +917,8 @@ mod tests {
             "tests/fixtures/plan_pwm_vs_mppt.toml",
             "tests/fixtures/plan_hot_site.toml",
             "tests/fixtures/plan_cold_site.toml",
+            "tests/fixtures/plan_hot_desert.toml",
+            "tests/fixtures/plan_six_parallel.toml",
             "benches/data/plan_24_modules.toml",
         ] {
             let path = root.join(rel);
@@ -993,5 +999,217 @@ mod tests {
         for r in Rule::INPUT_ONLY {
             assert!(Rule::ALL.contains(&r));
         }
+    }
+    fn fixture(rel: &str) -> Plan {
+        let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+        let path = root.join(rel);
+        let text = std::fs::read_to_string(&path).expect("fixture reads");
+        parse_plan(&text, rel, &path).expect("fixture parses")
+    }
+
+    fn listed(plan: &Plan, name: &str) -> Layout {
+        crate::input::layout::listed(plan)
+            .into_iter()
+            .find(|l| l.label.as_deref() == Some(name))
+            .expect("listed layout")
+    }
+
+    /// Every finding carries its rule's documented severity (method-limits.md), except that
+    /// `string-fuse` rejects when no fuse can exist. Source: definition (issue 15: reject what
+    /// is unsafe or can never work, warn what only costs energy).
+    #[test]
+    fn every_finding_has_its_rules_severity() {
+        let mut seen = std::collections::BTreeSet::new();
+        for plan in plans() {
+            let layouts = enumerate(&plan, plan.enumerate).expect("enumerates");
+            for temps in [(-40.0, 50.0), (-20.0, 34.0)] {
+                let temps = DesignTemperatures {
+                    min_air_c: temps.0,
+                    max_air_c: temps.1,
+                };
+                for l in layouts.iter().chain(crate::input::layout::listed(&plan).iter()) {
+                    for f in check_layout(&plan, l, &temps) {
+                        seen.insert(f.rule);
+                        if f.rule == Rule::StringFuse && f.severity == Severity::Reject {
+                            assert!(f.message.contains("maximum series fuse"));
+                            continue;
+                        }
+                        assert_eq!(f.severity, f.rule.severity(), "{}: {}", f.rule, f.message);
+                    }
+                }
+            }
+        }
+        for r in [Rule::HotVmp, Rule::InputCurrent, Rule::ArrayIsc, Rule::ColdVoc] {
+            assert!(seen.contains(&r), "{r} never found: {seen:?}");
+        }
+        // A rule that only warns never prunes.
+        for r in Rule::INPUT_ONLY {
+            assert_eq!(r.severity(), Severity::Reject, "{r}");
+        }
+    }
+
+    /// Six strings of one 5.80 A module: 1.25 × 6 × 5.80 A = 43.5 A. Source: NEC 690.8(A)(1)
+    /// (maximum circuit current 1.25 × the summed Isc), worked by hand. Above the 40 A the
+    /// controller draws and within the 50 A it withstands: a warning, ranked. With a 40 A
+    /// withstand rating: rejected by 3.5 A. With a 45 A input: nothing.
+    #[test]
+    fn array_isc_rejects_and_input_current_warns_by_hand() {
+        let plan = fixture("tests/fixtures/plan_six_parallel.toml");
+        let temps = DesignTemperatures {
+            min_air_c: -20.0,
+            max_air_c: 34.0,
+        };
+        let six = listed(&plan, "six in parallel");
+        let f = check_layout(&plan, &six, &temps);
+        let warn = f
+            .iter()
+            .find(|f| f.rule == Rule::InputCurrent)
+            .expect("input-current warns");
+        assert_eq!(warn.severity, Severity::Warn);
+        assert!(
+            warn.message.contains("43.5 A, above 40 A") && warn.message.contains("50 A"),
+            "{}",
+            warn.message
+        );
+        assert!(f.iter().all(|f| f.severity != Severity::Reject), "{f:?}");
+
+        let mut tight = plan.clone();
+        tight.controllers[0].max_array_isc_a = 40.0;
+        let f = check_layout(&tight, &six, &temps);
+        let rej = f
+            .iter()
+            .find(|f| f.rule == Rule::ArrayIsc)
+            .expect("array-isc rejects");
+        assert_eq!(rej.severity, Severity::Reject);
+        assert!(
+            rej.message.contains("43.5 A") && rej.message.contains("by 3.5 A"),
+            "{}",
+            rej.message
+        );
+        assert!(!f.iter().any(|f| f.rule == Rule::InputCurrent));
+        // Pruning agrees: the 1s6p input is skipped with the tight rating only.
+        let comps = vec![(6, vec![1])];
+        let draft = InputDraft {
+            controller: 0,
+            series: 1,
+            parallel: 6,
+            compositions: &comps,
+        };
+        assert_eq!(input_hard_limit(&plan, &temps, &draft), None);
+        assert_eq!(
+            input_hard_limit(&tight, &temps, &draft),
+            Some(Rule::ArrayIsc)
+        );
+
+        let mut roomy = plan.clone();
+        if let ControllerModel::Mppt { max_input_a, .. } = &mut roomy.controllers[0].model {
+            *max_input_a = 45.0;
+        }
+        assert!(check_layout(&roomy, &six, &temps)
+            .iter()
+            .all(|f| f.rule != Rule::InputCurrent));
+    }
+
+    /// The hot-desert plan's 2s3p: the window's lower edge is max(30 V, 27.2 + 1 V) = 30 V;
+    /// worked by hand with the Voc coefficient (common practice: Vmp falls at about the Voc
+    /// coefficient in V/K), the cell at 46 °C air, 1000 W/m², 1 m/s on a close roof (King 2004:
+    /// 46 + 1000·e^(−2.98 − 0.0471) + 1 = 95.48 °C) gives 2 × (18.6 − 0.0029 × 22.6 × 70.48) =
+    /// 27.96 V; the report uses the fitted single-diode model (within 3 %). A warning, not a
+    /// rejection.
+    #[test]
+    fn hot_vmp_below_the_window_warns_with_the_numbers() {
+        let plan = fixture("tests/fixtures/plan_hot_desert.toml");
+        let temps = DesignTemperatures {
+            min_air_c: -5.0,
+            max_air_c: 46.0,
+        };
+        let f = check_layout(&plan, &listed(&plan, "two in series"), &temps);
+        let hot = f.iter().find(|f| f.rule == Rule::HotVmp).expect("hot-vmp");
+        assert_eq!(hot.severity, Severity::Warn);
+        assert!(hot.message.contains("lower edge 30.0 V"), "{}", hot.message);
+        let v: f64 = hot
+            .message
+            .split("°C air is ")
+            .nth(1)
+            .and_then(|t| t.split(" V").next())
+            .and_then(|x| x.parse().ok())
+            .expect("a voltage");
+        assert!((v / 27.96 - 1.0).abs() < 0.03, "{v}");
+        assert!(f.iter().all(|f| f.severity != Severity::Reject));
+        let f3 = check_layout(&plan, &listed(&plan, "three in series"), &temps);
+        assert!(f3.iter().all(|f| f.rule != Rule::HotVmp));
+    }
+
+    /// Each priced warning takes its own input's share of its step. Source: definition
+    /// (method-limits.md, "What a warning cost").
+    #[test]
+    fn warnings_are_priced_from_their_own_inputs_loss_steps() {
+        use crate::sim::energy::InputLosses;
+        let finding = |rule: Rule, input: usize| Finding {
+            severity: rule.severity(),
+            rule,
+            message: "m".into(),
+            input,
+            cost: None,
+        };
+        let mut fs = vec![
+            finding(Rule::HotVmp, 1),
+            finding(Rule::InputCurrent, 0),
+            finding(Rule::VoltageDrop, 1),
+            finding(Rule::ColdVmp, 0),
+            finding(Rule::PwmHighVmp, 1),
+            finding(Rule::OutputDerating, 0),
+            finding(Rule::StringFuse, 0),
+            finding(Rule::ArrayIsc, 0),
+        ];
+        let e = LayoutEnergy {
+            inputs: vec![
+                InputLosses {
+                    input_limit_wh: 1500.0,
+                    above_window_wh: 700.0,
+                    derating_wh: 300.0,
+                    highest_tracked_a: 33.8,
+                    ..InputLosses::default()
+                },
+                InputLosses {
+                    below_window_wh: 2500.0,
+                    cables_wh: 4200.0,
+                    pwm_clamp_wh: 900.0,
+                    ..InputLosses::default()
+                },
+            ],
+            ..LayoutEnergy::default()
+        };
+        price_warnings(&mut fs, &e);
+        let kwh: Vec<Option<(Step, f64)>> = fs
+            .iter()
+            .map(|f| f.cost.as_ref().map(|c| (c.step, c.kwh)))
+            .collect();
+        assert_eq!(
+            kwh,
+            vec![
+                Some((Step::WindowStartup, 2.5)),
+                Some((Step::InputLimit, 1.5)),
+                Some((Step::Cables, 4.2)),
+                Some((Step::WindowStartup, 0.7)),
+                Some((Step::WindowStartup, 0.9)),
+                Some((Step::Clipping, 0.3)),
+                None,
+                None
+            ]
+        );
+        assert!(fs[1].text().contains("simulated cost 1.5 kWh a year"));
+        assert!(fs[1].text().contains("33.8 A"));
+    }
+
+    /// A controller with one current rating says which was assumed for the other.
+    /// Source: definition (issue 15; plan-format.md).
+    #[test]
+    fn one_current_rating_is_noted_with_what_was_assumed() {
+        let demo = plans().remove(0);
+        let notes = current_rating_notes(&demo);
+        assert_eq!(notes.len(), 2, "{notes:?}");
+        assert!(notes[0].contains("max_input_a = 50 A") && notes[0].contains("taken as the same 50 A"));
+        assert!(current_rating_notes(&fixture("tests/fixtures/plan_six_parallel.toml")).is_empty());
     }
 }

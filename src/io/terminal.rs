@@ -835,7 +835,7 @@ fn outlook(r: &RankResult, ranked: &[&LayoutOutcome]) -> String {
             ),
             (
                 format!(
-                    "charge rate {} C for the {:.1} A the controllers offer at most",
+                    "charge rate {} C for the highest charge current offered, {:.1} A",
                     Num(s.charge_rate_c),
                     s.peak_charge_a
                 ),

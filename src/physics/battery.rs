@@ -1846,4 +1846,106 @@ mod tests {
         // The default start is the middle of the usable range.
         close(p.initial_soc_frac, 0.6, 1e-12, "lifepo4 start");
     }
+    #[test]
+    fn discharge_beyond_the_rate_goes_unmet() {
+        // Source: worked by hand from the C-rate: 100 Ah × 12 V × 0.2 = 240 W; a full battery
+        // asked for 300 Wh in one hour without harvest gives 240 Wh, 60 Wh go unmet, all of
+        // it for the rate (the battery held far more).
+        let b = spec(params(Chemistry::LeadAcid, 100.0, 12.0));
+        assert!((b.max_discharge_w() - 240.0).abs() < 1e-9);
+        let mut s = BatteryState {
+            soc_frac: 1.0,
+            stage: Stage::Float,
+            absorption_done_h: 0.0,
+        };
+        let f = b.step(&mut s, 0.0, 300.0, 1.0);
+        close(f.from_battery_wh, 240.0, ROUNDING_WH, "from battery");
+        close(f.unmet_wh, 60.0, ROUNDING_WH, "unmet");
+        close(f.rate_unmet_wh, 60.0, ROUNDING_WH, "unmet for the rate");
+        // LiFePO4 at its 1C default: 100 Ah × 12.8 V = 1280 W, so 300 Wh is served in full.
+        let l = spec(params(Chemistry::LiFePo4, 100.0, 12.8));
+        let mut s = l.initial_state();
+        let f = l.step(&mut s, 0.0, 300.0, 1.0);
+        close(f.unmet_wh, 0.0, ROUNDING_WH, "lifepo4 unmet");
+    }
+
+    #[test]
+    fn lifepo4_takes_no_charge_below_its_cut_off_air_temperature() {
+        // Source: from memory (LiFePO4 cells must not be charged below 0 °C; method-battery.md):
+        // at −1 °C air the 100 Wh surplus is turned away, at +1 °C it is taken; lead-acid has
+        // no cut-off and charges at −10 °C.
+        let l = spec(params(Chemistry::LiFePo4, 100.0, 12.8));
+        let mut s = l.initial_state();
+        let cold = l.step_at(&mut s, 100.0, 0.0, 1.0, -1.0);
+        assert_eq!(cold.to_battery_wh, 0.0);
+        close(cold.curtailed_wh, 100.0, ROUNDING_WH, "curtailed in the cold");
+        close(cold.cold_blocked_wh, 100.0, ROUNDING_WH, "blocked by the cut-off");
+        let warm = l.step_at(&mut s, 100.0, 0.0, 1.0, 1.0);
+        close(warm.to_battery_wh, 100.0, ROUNDING_WH, "taken at +1 °C");
+        assert_eq!(warm.cold_blocked_wh, 0.0);
+        // Discharge goes on in the cold.
+        let f = l.step_at(&mut s, 0.0, 50.0, 1.0, -15.0);
+        close(f.from_battery_wh, 50.0, ROUNDING_WH, "discharge in the cold");
+        let a = spec(params(Chemistry::LeadAcid, 100.0, 12.0));
+        let mut s = a.initial_state();
+        let f = a.step_at(&mut s, 100.0, 0.0, 1.0, -10.0);
+        close(f.to_battery_wh, 100.0, ROUNDING_WH, "lead-acid in the cold");
+        // A settable cut-off: a heated LiFePO4 battery charged down to −10 °C.
+        let mut p = params(Chemistry::LiFePo4, 100.0, 12.8);
+        p.min_charge_air_c = Some(-10.0);
+        let h = spec(p);
+        let mut s = h.initial_state();
+        assert!(h.step_at(&mut s, 100.0, 0.0, 1.0, -5.0).to_battery_wh > 0.0);
+        // Out of range is an error naming the field.
+        p.min_charge_air_c = Some(40.0);
+        assert!(BatterySpec::new(p).unwrap_err().starts_with("min_charge_air_c"));
+        p.min_charge_air_c = None;
+        p.max_discharge_rate_c = 0.0;
+        assert!(BatterySpec::new(p).unwrap_err().starts_with("max_discharge_rate_c"));
+    }
+
+    #[test]
+    fn a_series_with_air_temperatures_applies_the_cut_off() {
+        // Source: definition — the same days on a cold and on a warm series: with 100 Wh an
+        // hour from 10:00 to 14:00 and 20 Wh an hour of load, the warm battery charges every
+        // day, the cold one never does and goes short.
+        let hour: Vec<u32> = (0..96).map(|k| k % 24).collect();
+        let harvest: Vec<f64> = hour
+            .iter()
+            .map(|&h| if (10..14).contains(&h) { 100.0 } else { 0.0 })
+            .collect();
+        let month = [1; 96];
+        let weekend = [false; 96];
+        let cold = [-5.0; 96];
+        let warm = [5.0; 96];
+        let base = Series::new(&harvest, &month, &hour, &weekend, 1.0).unwrap();
+        let l = spec(params(Chemistry::LiFePo4, 20.0, 12.8));
+        let load = LoadProfile::every_month([20.0; 24], None).unwrap();
+        let (fc, _) = run_series(&l, &load, &base.with_air_c(&cold).unwrap());
+        let (fw, _) = run_series(&l, &load, &base.with_air_c(&warm).unwrap());
+        assert!(fc.iter().all(|f| f.to_battery_wh == 0.0));
+        assert!(fc.iter().map(|f| f.cold_blocked_wh).sum::<f64>() > 0.0);
+        assert!(fw.iter().any(|f| f.to_battery_wh > 0.0));
+        let unmet = |fs: &[Flows]| fs.iter().map(|f| f.unmet_wh).sum::<f64>();
+        assert!(unmet(&fc) > unmet(&fw), "{} vs {}", unmet(&fc), unmet(&fw));
+        assert!(base.with_air_c(&cold[..3]).is_err());
+    }
+
+    #[test]
+    fn sizing_constraints_worked_by_hand() {
+        // Source: worked by hand. Autonomy: 3 days × 586 Wh / (12 V × 0.5 × √0.8) =
+        // 1758 / 5.366563 = 327.58 Ah. Charge rate: 40 A / 0.2 C = 200 Ah. Discharge rate:
+        // 255 W / (12 V × 0.2 C) = 106.25 Ah.
+        let p = params(Chemistry::LeadAcid, 100.0, 12.0);
+        close(autonomy_capacity_ah(&p, 3.0, 586.0), 327.58, 0.01, "autonomy");
+        close(charge_rate_capacity_ah(&p, 40.0), 200.0, 1e-9, "charge rate");
+        close(discharge_rate_capacity_ah(&p, 255.0), 106.25, 1e-9, "discharge rate");
+        // The heaviest day and the highest hour of a profile with a heavier weekend
+        // (weekday 24 × 10 = 240 Wh, weekend 23 × 10 + 100 = 330 Wh).
+        let mut weekend = [10.0; 24];
+        weekend[12] = 100.0;
+        let load = LoadProfile::every_month([10.0; 24], Some(weekend)).unwrap();
+        close(load.heaviest_day_wh(), 330.0, 1e-9, "heaviest day");
+        close(load.peak_hour_w(), 100.0, 1e-9, "highest hour");
+    }
 }

@@ -594,4 +594,119 @@ mod tests {
         let eta = efficiency_at(&c, p_out / 1000.0);
         assert!((p_out - 500.0 * eta).abs() < 1e-6);
     }
+    #[test]
+    fn derating_factor_is_linear_above_its_temperature_and_clamped() {
+        // Source: worked by hand from the definition: 1 − 0.02 × (50 − 40) = 0.8.
+        let d = OutputDerating {
+            from_air_c: 40.0,
+            frac_per_k: 0.02,
+        };
+        assert_eq!(d.factor(25.0), 1.0);
+        assert_eq!(d.factor(40.0), 1.0);
+        assert!((d.factor(50.0) - 0.8).abs() < 1e-12);
+        assert_eq!(d.factor(100.0), 0.0);
+        assert_eq!(d.factor(f64::NAN), 1.0);
+    }
+
+    #[test]
+    fn mppt_output_derated_in_heat_and_the_part_it_cost_is_booked() {
+        // Source: worked by hand: 10 A rated output derated to 0.8 × 10 = 8 A at 50 °C air
+        // (from 40 °C, 2 %/K), so the output is at most 8 A × 13.6 V = 108.8 W.
+        let c = curve(2, 3, 1000.0, 0.0);
+        let plain = mppt(50.0, 10.0);
+        let mut derated = plain.clone();
+        if let ControllerModel::Mppt { derating, .. } = &mut derated {
+            *derating = Some(OutputDerating {
+                from_air_c: 40.0,
+                frac_per_k: 0.02,
+            });
+        }
+        let (mut a, mut b) = (true, true);
+        let hot = derated.operate(&c, 13.6, 50.0, &mut a);
+        let cool = plain.operate(&c, 13.6, 50.0, &mut b);
+        assert!((hot.output_w - 108.8).abs() < 1e-9, "{}", hot.output_w);
+        assert!((cool.output_w - 136.0).abs() < 1e-9, "{}", cool.output_w);
+        // The derating's part of the clipping is the input power the cool controller drew
+        // and the hot one did not.
+        assert!((hot.derated_w - (cool.input_w - hot.input_w)).abs() < 1e-9);
+        assert_eq!(cool.derated_w, 0.0);
+        // At or below its temperature the derating changes nothing, bit for bit.
+        let (mut a, mut b) = (true, true);
+        assert_eq!(
+            derated.operate(&c, 13.6, 40.0, &mut a),
+            plain.operate(&c, 13.6, 40.0, &mut b)
+        );
+    }
+
+    #[test]
+    fn pwm_charge_limit_and_derating_are_clipping_after_the_input_limit() {
+        // Source: worked by hand: 4 strings of one module give about 4 × 7 A = 28 A at the
+        // clamp; rated 30 A in, 30 A out derated by 20 % (50 °C, 2 %/K above 40 °C) to 24 A:
+        // delivered 24 A × 13.6 V = 326.4 W; the 4 A above 24 A at 13.8 V are the derating.
+        let c = curve(1, 4, 1000.0, 0.0);
+        let ctl = ControllerModel::Pwm {
+            switch_drop_v: 0.2,
+            max_input_a: 30.0,
+            max_charge_a: 30.0,
+            derating: Some(OutputDerating {
+                from_air_c: 40.0,
+                frac_per_k: 0.02,
+            }),
+        };
+        let mut awake = false;
+        let p = ctl.operate(&c, 13.6, 50.0, &mut awake);
+        let i = c.current_at(13.8);
+        assert!(i > 24.0 && i < 30.0, "{i}");
+        assert!((p.output_w - 326.4).abs() < 1e-9, "{}", p.output_w);
+        assert!((p.after_input_limit_w - 13.8 * i).abs() < 1e-9);
+        assert!((p.derated_w - 13.8 * (i - 24.0)).abs() < 1e-9);
+        assert!((p.tracked_a - i).abs() < 1e-12);
+        assert!((p.clamp_w - (p.available_w - p.after_window_w)).abs() < 1e-12);
+    }
+
+    #[test]
+    fn window_loss_is_split_by_where_the_maximum_lay() {
+        // Source: definition (method-controller.md): one 36-cell module at 1000 W/m² and
+        // 25 °C has its maximum near 18 V; a window from 19.5 V leaves it below, a window up
+        // to 16 V leaves it above; inside the window nothing is booked to either edge.
+        let c = curve(1, 1, 1000.0, 0.0);
+        let window = |lo: f64, hi: f64| ControllerModel::Mppt {
+            mppt_min_v: lo,
+            mppt_max_v: hi,
+            headroom_v: 1.0,
+            efficiency_curve: vec![(0.0, 0.96), (1.0, 0.96)],
+            tracking: TrackerMode::Global,
+            start_offset_v: 5.0,
+            stop_offset_v: 1.0,
+            max_input_a: 30.0,
+            max_charge_a: 30.0,
+            derating: None,
+        };
+        let mut awake = true;
+        let below = window(19.5, 95.0).operate(&c, 12.0, 25.0, &mut awake);
+        assert!(below.below_window_w > 0.0 && below.above_window_w == 0.0);
+        assert!((below.below_window_w - (below.available_w - below.after_window_w)).abs() < 1e-12);
+        let mut awake = true;
+        let above = window(13.5, 16.0).operate(&c, 12.0, 25.0, &mut awake);
+        assert!(above.above_window_w > 0.0 && above.below_window_w == 0.0);
+        assert!((above.above_window_w - (above.available_w - above.after_window_w)).abs() < 1e-12);
+        let mut awake = true;
+        let inside = window(13.5, 95.0).operate(&c, 12.0, 25.0, &mut awake);
+        assert_eq!((inside.below_window_w, inside.above_window_w), (0.0, 0.0));
+    }
+
+    #[test]
+    fn tracked_current_shows_whether_the_input_limit_binds() {
+        // Source: definition: the limit binds exactly when the current at the tracked maximum
+        // exceeds it (method-controller.md), and the final point then carries at most the limit.
+        let c = curve(1, 4, 1000.0, 0.0);
+        let mut awake = true;
+        let free = mppt(40.0, 100.0).operate(&c, 13.6, 25.0, &mut awake);
+        assert!(free.tracked_a < 40.0 && free.after_input_limit_w == free.after_window_w);
+        let mut awake = true;
+        let bound = mppt(20.0, 100.0).operate(&c, 13.6, 25.0, &mut awake);
+        assert!((bound.tracked_a - free.tracked_a).abs() < 1e-12);
+        assert!(bound.tracked_a > 20.0 && bound.after_input_limit_w < bound.after_window_w);
+        assert!(c.current_at(bound.voltage_v) <= 20.0 + 1e-6);
+    }
 }
