@@ -10,8 +10,8 @@
 use crate::input::layout::{InputWiring, Layout};
 use crate::input::plan::{CableRun, CurrentAssumed, Plan};
 use crate::input::weather::Weather;
-use crate::physics::controller::ControllerModel;
 use crate::num::Num;
+use crate::physics::controller::ControllerModel;
 use crate::physics::wiring::{cable_resistance_ohm, Conductor};
 use crate::sim::energy::{LayoutEnergy, Step};
 
@@ -267,12 +267,14 @@ pub fn price_warnings(findings: &mut [Finding], e: &LayoutEnergy) {
             Rule::HotVmp => (
                 Step::WindowStartup,
                 x.below_window_wh,
-                "window and start-up step, hours when the array's maximum lay below the window".to_string(),
+                "window and start-up step, hours when the array's maximum lay below the window"
+                    .to_string(),
             ),
             Rule::ColdVmp => (
                 Step::WindowStartup,
                 x.above_window_wh,
-                "window and start-up step, hours when the array's maximum lay above the window".to_string(),
+                "window and start-up step, hours when the array's maximum lay above the window"
+                    .to_string(),
             ),
             Rule::PwmHighVmp => (
                 Step::WindowStartup,
@@ -1027,7 +1029,10 @@ mod tests {
                     min_air_c: temps.0,
                     max_air_c: temps.1,
                 };
-                for l in layouts.iter().chain(crate::input::layout::listed(&plan).iter()) {
+                for l in layouts
+                    .iter()
+                    .chain(crate::input::layout::listed(&plan).iter())
+                {
                     for f in check_layout(&plan, l, &temps) {
                         seen.insert(f.rule);
                         if f.rule == Rule::StringFuse && f.severity == Severity::Reject {
@@ -1039,7 +1044,12 @@ mod tests {
                 }
             }
         }
-        for r in [Rule::HotVmp, Rule::InputCurrent, Rule::ArrayIsc, Rule::ColdVoc] {
+        for r in [
+            Rule::HotVmp,
+            Rule::InputCurrent,
+            Rule::ArrayIsc,
+            Rule::ColdVoc,
+        ] {
             assert!(seen.contains(&r), "{r} never found: {seen:?}");
         }
         // A rule that only warns never prunes.
@@ -1209,7 +1219,9 @@ mod tests {
         let demo = plans().remove(0);
         let notes = current_rating_notes(&demo);
         assert_eq!(notes.len(), 2, "{notes:?}");
-        assert!(notes[0].contains("max_input_a = 50 A") && notes[0].contains("taken as the same 50 A"));
+        assert!(
+            notes[0].contains("max_input_a = 50 A") && notes[0].contains("taken as the same 50 A")
+        );
         assert!(current_rating_notes(&fixture("tests/fixtures/plan_six_parallel.toml")).is_empty());
     }
 }

@@ -850,7 +850,11 @@ fn outlook(r: &RankResult, ranked: &[&LayoutOutcome]) -> String {
                 format!("{} Ah", Num(s.discharge_rate_ah)),
             ),
         ];
-        let w = rows.iter().map(|(l, _)| l.chars().count()).max().unwrap_or(0);
+        let w = rows
+            .iter()
+            .map(|(l, _)| l.chars().count())
+            .max()
+            .unwrap_or(0);
         for (label, ah) in rows {
             let pad = w - label.chars().count();
             let _ = writeln!(out, "    {label}:{:pad$} {ah:>9}", "");

@@ -1878,14 +1878,29 @@ mod tests {
         let mut s = l.initial_state();
         let cold = l.step_at(&mut s, 100.0, 0.0, 1.0, -1.0);
         assert_eq!(cold.to_battery_wh, 0.0);
-        close(cold.curtailed_wh, 100.0, ROUNDING_WH, "curtailed in the cold");
-        close(cold.cold_blocked_wh, 100.0, ROUNDING_WH, "blocked by the cut-off");
+        close(
+            cold.curtailed_wh,
+            100.0,
+            ROUNDING_WH,
+            "curtailed in the cold",
+        );
+        close(
+            cold.cold_blocked_wh,
+            100.0,
+            ROUNDING_WH,
+            "blocked by the cut-off",
+        );
         let warm = l.step_at(&mut s, 100.0, 0.0, 1.0, 1.0);
         close(warm.to_battery_wh, 100.0, ROUNDING_WH, "taken at +1 °C");
         assert_eq!(warm.cold_blocked_wh, 0.0);
         // Discharge goes on in the cold.
         let f = l.step_at(&mut s, 0.0, 50.0, 1.0, -15.0);
-        close(f.from_battery_wh, 50.0, ROUNDING_WH, "discharge in the cold");
+        close(
+            f.from_battery_wh,
+            50.0,
+            ROUNDING_WH,
+            "discharge in the cold",
+        );
         let a = spec(params(Chemistry::LeadAcid, 100.0, 12.0));
         let mut s = a.initial_state();
         let f = a.step_at(&mut s, 100.0, 0.0, 1.0, -10.0);
@@ -1898,10 +1913,14 @@ mod tests {
         assert!(h.step_at(&mut s, 100.0, 0.0, 1.0, -5.0).to_battery_wh > 0.0);
         // Out of range is an error naming the field.
         p.min_charge_air_c = Some(40.0);
-        assert!(BatterySpec::new(p).unwrap_err().starts_with("min_charge_air_c"));
+        assert!(BatterySpec::new(p)
+            .unwrap_err()
+            .starts_with("min_charge_air_c"));
         p.min_charge_air_c = None;
         p.max_discharge_rate_c = 0.0;
-        assert!(BatterySpec::new(p).unwrap_err().starts_with("max_discharge_rate_c"));
+        assert!(BatterySpec::new(p)
+            .unwrap_err()
+            .starts_with("max_discharge_rate_c"));
     }
 
     #[test]
@@ -1937,9 +1956,24 @@ mod tests {
         // 1758 / 5.366563 = 327.58 Ah. Charge rate: 40 A / 0.2 C = 200 Ah. Discharge rate:
         // 255 W / (12 V × 0.2 C) = 106.25 Ah.
         let p = params(Chemistry::LeadAcid, 100.0, 12.0);
-        close(autonomy_capacity_ah(&p, 3.0, 586.0), 327.58, 0.01, "autonomy");
-        close(charge_rate_capacity_ah(&p, 40.0), 200.0, 1e-9, "charge rate");
-        close(discharge_rate_capacity_ah(&p, 255.0), 106.25, 1e-9, "discharge rate");
+        close(
+            autonomy_capacity_ah(&p, 3.0, 586.0),
+            327.58,
+            0.01,
+            "autonomy",
+        );
+        close(
+            charge_rate_capacity_ah(&p, 40.0),
+            200.0,
+            1e-9,
+            "charge rate",
+        );
+        close(
+            discharge_rate_capacity_ah(&p, 255.0),
+            106.25,
+            1e-9,
+            "discharge rate",
+        );
         // The heaviest day and the highest hour of a profile with a heavier weekend
         // (weekday 24 × 10 = 240 Wh, weekend 23 × 10 + 100 = 330 Wh).
         let mut weekend = [10.0; 24];

@@ -195,7 +195,9 @@ fn simulate_layout_with(
                     &scratch.array
                 };
                 let was_awake = awake[wi];
-                let p = c.model.operate(array, battery_v, info.air_temp_c, &mut awake[wi]);
+                let p = c
+                    .model
+                    .operate(array, battery_v, info.air_temp_c, &mut awake[wi]);
                 if c.model.is_pwm() {
                     e.pwm_clamp_wh[m] += (p.available_w - p.after_window_w) * wh;
                 }
@@ -208,7 +210,12 @@ fn simulate_layout_with(
                     other_awake[wi] = awake[wi];
                     p
                 } else {
-                    other_models[wi].operate(array, battery_v, info.air_temp_c, &mut other_awake[wi])
+                    other_models[wi].operate(
+                        array,
+                        battery_v,
+                        info.air_temp_c,
+                        &mut other_awake[wi],
+                    )
                 };
                 e.other_tracking_wh[m] += alt.output_w * wh;
                 let joule_w = if reuse {

@@ -57,7 +57,7 @@ fn layout<'a>(r: &'a RankResult, label: &str) -> &'a LayoutOutcome {
         .unwrap_or_else(|| panic!("layout {label}"))
 }
 
-fn finding<'a>(o: &'a LayoutOutcome, rule: Rule) -> Option<&'a Finding> {
+fn finding(o: &LayoutOutcome, rule: Rule) -> Option<&Finding> {
     o.findings.iter().find(|f| f.rule == rule)
 }
 
@@ -90,7 +90,10 @@ fn hot_desert_2s3p_is_ranked_with_its_window_loss() {
     assert!(six.rank.is_none());
     assert!(finding(six, Rule::ColdVoc).is_some_and(|f| f.message.contains("147.4 V")));
 
-    let (_dir, lower) = edited("plan_hot_desert.toml", &[("mppt_min_v = 30", "mppt_min_v = 20")]);
+    let (_dir, lower) = edited(
+        "plan_hot_desert.toml",
+        &[("mppt_min_v = 30", "mppt_min_v = 20")],
+    );
     let r2 = rank(&lower, None);
     let two2 = layout(&r2, "two in series");
     let left = finding(two2, Rule::HotVmp)
@@ -123,20 +126,36 @@ fn six_parallel_within_the_withstand_rating_is_ranked() {
     let highest = e.inputs[0].highest_tracked_a;
     // 6 × Imp 5.46 A = 32.8 A at STC; sunnier and colder hours a little more, never 40 A.
     assert!(highest > 30.0 && highest < 40.0, "{highest}");
-    assert!(w.text().contains(&format!("{highest:.1} A")), "{}", w.text());
+    assert!(
+        w.text().contains(&format!("{highest:.1} A")),
+        "{}",
+        w.text()
+    );
     assert_eq!(e.step_total_wh(Step::InputLimit), 0.0);
 
     // A controller that draws at most 25 A limits itself: the warning's price is the whole
     // input-limit step of this one-input layout, and more than nothing.
-    let (_d, low) = edited("plan_six_parallel.toml", &[("max_input_a = 40", "max_input_a = 25")]);
+    let (_d, low) = edited(
+        "plan_six_parallel.toml",
+        &[("max_input_a = 40", "max_input_a = 25")],
+    );
     let r = rank(&low, None);
     let six = layout(&r, "six in parallel");
     assert!(six.rank.is_some());
     let cost = finding(six, Rule::InputCurrent)
         .and_then(|f| f.cost.clone())
         .expect("priced");
-    let step = six.energy.as_ref().expect("simulated").step_total_wh(Step::InputLimit) / 1000.0;
-    assert!(cost.kwh > 1.0 && (cost.kwh - step).abs() < 1e-9, "{} vs {step}", cost.kwh);
+    let step = six
+        .energy
+        .as_ref()
+        .expect("simulated")
+        .step_total_wh(Step::InputLimit)
+        / 1000.0;
+    assert!(
+        cost.kwh > 1.0 && (cost.kwh - step).abs() < 1e-9,
+        "{} vs {step}",
+        cost.kwh
+    );
 
     // Withstanding only 40 A: 43.5 A breaks it by 3.5 A, rejected, never simulated.
     let (_d, tight) = edited(
@@ -169,15 +188,24 @@ fn pump_shed_battery_respects_charge_rate_and_autonomy() {
     assert_eq!(s.set_by, Some(BatteryConstraint::Autonomy));
 
     // Without an autonomy target the charge rate sets it; a faster charge rate lowers it.
-    let (_d, p) = edited("plan_pump_shed.toml", &[("autonomy_days = 1", "autonomy_days = 0")]);
+    let (_d, p) = edited(
+        "plan_pump_shed.toml",
+        &[("autonomy_days = 1", "autonomy_days = 0")],
+    );
     let r = rank(&p, None);
     let s = r.sizing.as_ref().expect("sizing");
-    assert_eq!((s.battery_ah, s.set_by), (Some(200.0), Some(BatteryConstraint::ChargeRate)));
+    assert_eq!(
+        (s.battery_ah, s.set_by),
+        (Some(200.0), Some(BatteryConstraint::ChargeRate))
+    );
     let (_d, p) = edited(
         "plan_pump_shed.toml",
         &[
             ("autonomy_days = 1", "autonomy_days = 0"),
-            ("chemistry = \"lead-acid\"", "chemistry = \"lead-acid\"\nmax_charge_rate_c = 0.4"),
+            (
+                "chemistry = \"lead-acid\"",
+                "chemistry = \"lead-acid\"\nmax_charge_rate_c = 0.4",
+            ),
         ],
     );
     let r = rank(&p, None);
@@ -211,10 +239,16 @@ fn lifepo4_is_not_charged_below_freezing() {
     assert!(text.contains("takes no charge below 0 °C air"), "{text}");
 
     let mut heated = cold.to_vec();
-    heated.push(("chemistry = \"lifepo4\"", "chemistry = \"lifepo4\"\nmin_charge_air_c = -40"));
+    heated.push((
+        "chemistry = \"lifepo4\"",
+        "chemistry = \"lifepo4\"\nmin_charge_air_c = -40",
+    ));
     let (_d, p) = edited("plan_pump_shed.toml", &heated);
     let r2 = rank(&p, None);
-    let e2 = layout(&r2, "two in series").energy.as_ref().expect("simulated");
+    let e2 = layout(&r2, "two in series")
+        .energy
+        .as_ref()
+        .expect("simulated");
     assert_eq!(e2.cold_blocked_wh.iter().sum::<f64>(), 0.0);
     assert!(e2.step_total_wh(Step::Curtailed) < e.step_total_wh(Step::Curtailed));
 }
@@ -280,11 +314,17 @@ fn current_and_battery_keys_are_checked_and_explained() {
     );
     assert!(m.contains("below max_input_a = 40"), "{m}");
     bad(
-        &[("max_charge_a = 60", "max_charge_a = 60\noutput_derating_from_c = 40")],
+        &[(
+            "max_charge_a = 60",
+            "max_charge_a = 60\noutput_derating_from_c = 40",
+        )],
         "output_derating_pct_per_k",
     );
     bad(
-        &[("charge_v = 13.6", "charge_v = 13.6\nmax_charge_rate_c = 0.3")],
+        &[(
+            "charge_v = 13.6",
+            "charge_v = 13.6\nmax_charge_rate_c = 0.3",
+        )],
         "battery.max_charge_rate_c",
     );
 
