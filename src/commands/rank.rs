@@ -90,6 +90,7 @@ pub fn simulate_and_rank(
     let winter_months = rank::winter_months(&horizontal_kwh_m2, &months_present);
     let fill = |o: &mut rank::LayoutOutcome, mut e: crate::sim::energy::LayoutEnergy| {
         e.scale_to_mean_year(per_year);
+        rules::price_warnings(&mut o.findings, &e);
         let s = LayoutSummary::new(plan, &o.layout, &e, &temps, &months_present, &winter_months);
         // P50/P90 apply to the energy offered (what separates wirings).
         o.p90 = Some(uncertainty::p50_p90(

@@ -1,14 +1,19 @@
 //! Electrical limit checks, run before any energy is reported (notebooks-free-docs/method-limits.md).
 //!
-//! A broken hard limit rejects a layout (it is listed with the rule, the numbers and the
-//! margin, never ranked); a soft finding is a warning on the layout. These are screening
-//! checks, not a code-compliance review. This module does not simulate.
+//! Severity follows the consequence: a rule rejects only what is unsafe or can never work
+//! (the layout is listed with the rule, the numbers and the margin, never ranked); a
+//! condition that only costs energy is a warning on a ranked layout, simulated like
+//! everything else, and after the simulation [`price_warnings`] says what it cost in kWh a
+//! year from the layout's own loss steps. These are screening checks, not a
+//! code-compliance review. This module does not simulate.
 
 use crate::input::layout::{InputWiring, Layout};
-use crate::input::plan::{CableRun, Plan};
+use crate::input::plan::{CableRun, CurrentAssumed, Plan};
 use crate::input::weather::Weather;
+use crate::num::Num;
 use crate::physics::controller::ControllerModel;
 use crate::physics::wiring::{cable_resistance_ohm, Conductor};
+use crate::sim::energy::{LayoutEnergy, Step};
 
 /// NEC 690.8(A)(1): maximum circuit current = 1.25 × the sum of parallel Isc.
 pub const ISC_FACTOR: f64 = 1.25;
@@ -37,13 +42,17 @@ pub enum Rule {
     NeverWakes,
     /// A PWM input whose highest possible string Voc never exceeds the battery voltage.
     NeverCharges,
-    /// String Vmp in hot full sun below the MPPT window.
+    /// String Vmp in hot full sun below the MPPT window (costs energy: warning).
     HotVmp,
     /// String Vmp in cold full sun above the MPPT window.
     ColdVmp,
     /// A PWM input holding a high-Vmp string at battery voltage.
     PwmHighVmp,
-    /// 1.25 × the summed Isc above the controller's input current rating.
+    /// 1.25 × the summed Isc above the array short-circuit current the controller
+    /// withstands (unsafe: rejects).
+    ArrayIsc,
+    /// 1.25 × the summed Isc above the current the controller draws: it limits itself
+    /// (costs energy: warning).
     InputCurrent,
     /// String lead ampacity below 1.56 × Isc.
     LeadAmpacity,
@@ -55,11 +64,13 @@ pub enum Rule {
     VoltageDrop,
     /// A string mixing module types.
     MixedTypes,
+    /// The controller's output derated in heat below what the array can give.
+    OutputDerating,
 }
 
 impl Rule {
     /// Every rule, in the order reports list them.
-    pub const ALL: [Rule; 13] = [
+    pub const ALL: [Rule; 15] = [
         Rule::ColdVoc,
         Rule::ModuleSystemVoltage,
         Rule::NeverWakes,
@@ -67,23 +78,49 @@ impl Rule {
         Rule::HotVmp,
         Rule::ColdVmp,
         Rule::PwmHighVmp,
+        Rule::ArrayIsc,
         Rule::InputCurrent,
         Rule::LeadAmpacity,
         Rule::MainRunAmpacity,
         Rule::StringFuse,
         Rule::VoltageDrop,
         Rule::MixedTypes,
+        Rule::OutputDerating,
     ];
 
     /// The hard rules that depend only on what one input carries (modules in series,
-    /// strings in parallel, their module types), in the order enumeration tries them.
+    /// strings in parallel, their module types), in the order enumeration tries them. A rule
+    /// that only warns never prunes.
     pub const INPUT_ONLY: [Rule; 5] = [
         Rule::ColdVoc,
         Rule::ModuleSystemVoltage,
-        Rule::InputCurrent,
+        Rule::ArrayIsc,
         Rule::NeverWakes,
         Rule::NeverCharges,
     ];
+
+    /// What breaking the rule means: a rejection (unsafe, or can never work) or a warning
+    /// (costs energy, or asks for a part). `string-fuse` warns, and rejects only when no
+    /// fuse can exist.
+    pub fn severity(self) -> Severity {
+        match self {
+            Rule::ColdVoc
+            | Rule::ModuleSystemVoltage
+            | Rule::NeverWakes
+            | Rule::NeverCharges
+            | Rule::ArrayIsc
+            | Rule::LeadAmpacity
+            | Rule::MainRunAmpacity => Severity::Reject,
+            Rule::HotVmp
+            | Rule::ColdVmp
+            | Rule::PwmHighVmp
+            | Rule::InputCurrent
+            | Rule::StringFuse
+            | Rule::VoltageDrop
+            | Rule::MixedTypes
+            | Rule::OutputDerating => Severity::Warn,
+        }
+    }
 
     /// The rule's name in reports, JSON and CSV.
     pub fn key(self) -> &'static str {
@@ -95,12 +132,14 @@ impl Rule {
             Rule::HotVmp => "hot-vmp",
             Rule::ColdVmp => "cold-vmp",
             Rule::PwmHighVmp => "pwm-high-vmp",
+            Rule::ArrayIsc => "array-isc",
             Rule::InputCurrent => "input-current",
             Rule::LeadAmpacity => "lead-ampacity",
             Rule::MainRunAmpacity => "main-run-ampacity",
             Rule::StringFuse => "string-fuse",
             Rule::VoltageDrop => "voltage-drop",
             Rule::MixedTypes => "mixed-types",
+            Rule::OutputDerating => "output-derating",
         }
     }
 }
@@ -115,11 +154,13 @@ impl Rule {
             Rule::NeverCharges => "more modules in series, or an MPPT controller",
             Rule::ColdVmp => "fewer modules in series",
             Rule::PwmHighVmp => "an MPPT controller, or fewer modules in series",
-            Rule::InputCurrent => "fewer strings in parallel on each input, more controller inputs, or a controller with a higher input rating",
+            Rule::ArrayIsc => "fewer strings in parallel on each input, more controller inputs, or a controller that withstands a higher array short-circuit current (give max_array_isc_a from its datasheet)",
+            Rule::InputCurrent => "fewer strings in parallel on each input, or a controller that draws more current",
             Rule::LeadAmpacity | Rule::MainRunAmpacity => "a larger cable cross-section",
             Rule::StringFuse => "fewer strings in parallel, or modules with a higher maximum series fuse",
             Rule::VoltageDrop => "a larger cable cross-section or a shorter run",
             Rule::MixedTypes => "one module type per string",
+            Rule::OutputDerating => "a cooler, ventilated place for the controller, or a controller with a higher output rating",
         }
     }
 }
@@ -174,6 +215,128 @@ pub struct Finding {
     pub rule: Rule,
     /// What was found, with the numbers and the margin.
     pub message: String,
+    /// The controller input of the layout it is about (index into `Layout::inputs`).
+    pub input: usize,
+    /// What the condition cost over the simulated year, once the layout was simulated
+    /// ([`price_warnings`]); `None` before, and for findings that cost no energy.
+    pub cost: Option<Cost>,
+}
+
+/// What a warned condition cost over the year, from the layout's simulated loss steps.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Cost {
+    /// The loss step the energy is booked in.
+    pub step: Step,
+    /// Energy per year, kWh.
+    pub kwh: f64,
+    /// Which part of the step, in a person's words.
+    pub what: String,
+}
+
+impl Finding {
+    /// The message, with the simulated cost when there is one.
+    pub fn text(&self) -> String {
+        match &self.cost {
+            Some(c) => format!(
+                "{}; simulated cost {:.1} kWh a year ({})",
+                self.message, c.kwh, c.what
+            ),
+            None => self.message.clone(),
+        }
+    }
+}
+
+/// Puts a price on each warning of a simulated layout: the energy per year of the loss step
+/// its condition shows in, on its own controller input (`e` already per mean year).
+///
+/// | rule | step, part |
+/// |---|---|
+/// | `hot-vmp` | window and start-up: intervals whose array maximum lay below the window |
+/// | `cold-vmp` | window and start-up: intervals whose array maximum lay above the window |
+/// | `pwm-high-vmp` | window and start-up: the PWM clamp |
+/// | `input-current` | input limit |
+/// | `voltage-drop` | cables (the input's string leads and main run) |
+/// | `output-derating` | clipping: the part caused by the derating |
+///
+/// `string-fuse` asks for a part and costs nothing; `mixed-types` costs mismatch, which the
+/// simulation does not split by cause.
+pub fn price_warnings(findings: &mut [Finding], e: &LayoutEnergy) {
+    for f in findings.iter_mut().filter(|f| f.severity == Severity::Warn) {
+        let x = e.inputs.get(f.input).copied().unwrap_or_default();
+        let (step, wh, what) = match f.rule {
+            Rule::HotVmp => (
+                Step::WindowStartup,
+                x.below_window_wh,
+                "window and start-up step, hours when the array's maximum lay below the window"
+                    .to_string(),
+            ),
+            Rule::ColdVmp => (
+                Step::WindowStartup,
+                x.above_window_wh,
+                "window and start-up step, hours when the array's maximum lay above the window"
+                    .to_string(),
+            ),
+            Rule::PwmHighVmp => (
+                Step::WindowStartup,
+                x.pwm_clamp_wh,
+                "window and start-up step, the array held at battery voltage".to_string(),
+            ),
+            Rule::InputCurrent => (
+                Step::InputLimit,
+                x.input_limit_wh,
+                format!(
+                    "input-limit step; the highest current at the tracked point was {:.1} A",
+                    x.highest_tracked_a
+                ),
+            ),
+            Rule::VoltageDrop => (
+                Step::Cables,
+                x.cables_wh,
+                "cables step, this input's string leads and main run".to_string(),
+            ),
+            Rule::OutputDerating => (
+                Step::Clipping,
+                x.derating_wh,
+                "clipping step, the part caused by the derating".to_string(),
+            ),
+            _ => continue,
+        };
+        f.cost = Some(Cost {
+            step,
+            kwh: wh / 1000.0,
+            what,
+        });
+    }
+}
+
+/// One line per controller whose plan gives only one of its two input current ratings:
+/// which was assumed for the other, and why.
+pub fn current_rating_notes(plan: &Plan) -> Vec<String> {
+    plan.controllers
+        .iter()
+        .filter_map(|c| {
+            let uses = if c.model.is_pwm() {
+                "its rated current"
+            } else {
+                "the current it draws"
+            };
+            let a = c.model.max_input_a();
+            match c.current_assumed? {
+                CurrentAssumed::ArrayIscFromInput => Some(format!(
+                    "controller {} gives one current rating, max_input_a = {} A ({uses}): the array short-circuit current it withstands is taken as the same {} A, the safe reading of a single rating; give max_array_isc_a from the datasheet if it is higher",
+                    c.id,
+                    Num(a),
+                    Num(c.max_array_isc_a)
+                )),
+                CurrentAssumed::InputFromArrayIsc => Some(format!(
+                    "controller {} gives one current rating, max_array_isc_a = {} A (the array short-circuit current it withstands): {uses} is taken as the same {} A, so no input limit binds on a layout that passes; give max_input_a if the datasheet states a lower one",
+                    c.id,
+                    Num(c.max_array_isc_a),
+                    Num(a)
+                )),
+            }
+        })
+        .collect()
 }
 
 /// Temperatures the checks use.
@@ -263,8 +426,12 @@ pub fn voc_at_v(voc_stc_v: f64, beta_voc_v_k: f64, cell_c: f64) -> f64 {
 /// Checks every rule of notebooks-free-docs/method-limits.md for one layout.
 pub fn check_layout(plan: &Plan, layout: &Layout, temps: &DesignTemperatures) -> Vec<Finding> {
     let mut out = Vec::new();
-    for w in &layout.inputs {
+    for (i, w) in layout.inputs.iter().enumerate() {
+        let start = out.len();
         check_input(plan, w, temps, &mut out);
+        for f in &mut out[start..] {
+            f.input = i;
+        }
     }
     out
 }
@@ -306,8 +473,8 @@ pub fn input_only_breach(
         (Rule::ModuleSystemVoltage, _) if x.voc_cold_max_v > x.max_system_v => {
             Some(breach(x.voc_cold_max_v, x.max_system_v))
         }
-        (Rule::InputCurrent, _) if ISC_FACTOR * x.isc_sum_a > c.model.max_input_a() => {
-            Some(breach(ISC_FACTOR * x.isc_sum_a, c.model.max_input_a()))
+        (Rule::ArrayIsc, _) if ISC_FACTOR * x.isc_sum_a > c.max_array_isc_a => {
+            Some(breach(ISC_FACTOR * x.isc_sum_a, c.max_array_isc_a))
         }
         (Rule::NeverWakes, ControllerModel::Mppt { start_offset_v, .. })
             if x.voc_cold_max_v < battery_v + start_offset_v =>
@@ -331,6 +498,8 @@ struct InputFigures {
     imp_sum_a: f64,
     fuse_min_a: f64,
     types_mixed: bool,
+    /// Sum of the modules' STC power, W.
+    pmax_sum_w: f64,
 }
 
 fn input_figures(plan: &Plan, w: &InputWiring, temps: &DesignTemperatures) -> InputFigures {
@@ -347,6 +516,7 @@ fn input_figures(plan: &Plan, w: &InputWiring, temps: &DesignTemperatures) -> In
         imp_sum_a: 0.0,
         fuse_min_a: f64::INFINITY,
         types_mixed: false,
+        pmax_sum_w: 0.0,
     };
     for st in &w.strings {
         let (mut voc_cold, mut vmp_hot, mut vmp_cold, mut vmp_stc) = (0.0, 0.0, 0.0, 0.0);
@@ -367,6 +537,7 @@ fn input_figures(plan: &Plan, w: &InputWiring, temps: &DesignTemperatures) -> In
             imp_min = imp_min.min(t.datasheet.imp_a);
             f.extremes.max_system_v = f.extremes.max_system_v.min(t.max_system_v);
             f.fuse_min_a = f.fuse_min_a.min(t.max_series_fuse_a);
+            f.pmax_sum_w += t.pmax_w;
         }
         f.extremes.voc_cold_max_v = f.extremes.voc_cold_max_v.max(voc_cold);
         f.vmp_hot_min_v = f.vmp_hot_min_v.min(vmp_hot);
@@ -431,8 +602,8 @@ impl InputCheck<'_> {
                 }
                 let lo = c.model.window_low_v(battery_v);
                 if f.vmp_hot_min_v < lo {
-                    push(out, Severity::Reject, Rule::HotVmp, format!(
-                        "{tag}string Vmp at full sun and {:.0} °C air is {:.1} V, below the MPPT window's lower edge {lo:.1} V by {:.1} V",
+                    push(out, Severity::Warn, Rule::HotVmp, format!(
+                        "{tag}string Vmp at full sun and {:.0} °C air is {:.1} V, below the MPPT window's lower edge {lo:.1} V by {:.1} V: on hot afternoons the tracker works at the edge instead of the maximum",
                         self.temps.max_air_c, f.vmp_hot_min_v, lo - f.vmp_hot_min_v
                     ));
                 }
@@ -466,11 +637,40 @@ impl InputCheck<'_> {
     fn currents(&self, out: &mut Vec<Finding>) {
         let c = &self.plan.controllers[self.w.controller];
         let (tag, f, p) = (&self.tag, &self.f, self.w.parallel());
-        if let Some(b) = self.breach(Rule::InputCurrent) {
+        let isc_125 = ISC_FACTOR * f.extremes.isc_sum_a;
+        if let Some(b) = self.breach(Rule::ArrayIsc) {
             push(out, Severity::Reject, b.rule, format!(
-                "{tag}1.25 × Isc of {p} parallel strings is {:.1} A, above the controller's {:.0} A input rating by {:.1} A",
-                b.value, b.limit, b.value - b.limit
+                "{tag}1.25 × Isc of {p} parallel strings is {:.1} A, above the {} A array short-circuit current the controller withstands by {:.1} A",
+                b.value, Num(b.limit), b.value - b.limit
             ));
+        } else if isc_125 > c.model.max_input_a() {
+            let draws = if c.model.is_pwm() {
+                "the PWM controller's rated current"
+            } else {
+                "the most the controller draws"
+            };
+            push(out, Severity::Warn, Rule::InputCurrent, format!(
+                "{tag}1.25 × Isc of {p} parallel strings is {isc_125:.1} A, above {} A, {draws} (within the {} A array short-circuit current it withstands): in strong sun it limits itself",
+                Num(c.model.max_input_a()), Num(c.max_array_isc_a)
+            ));
+        }
+        if let Some(d) = c.model.derating() {
+            let t = self.temps.max_air_c;
+            let derated_a = c.model.max_charge_a_at(t);
+            let battery_v = self.plan.battery.charge_v;
+            // What the array can give at STC: the MPPT converts its power to the battery
+            // voltage, a PWM passes its current.
+            let array_a = if c.model.is_pwm() {
+                f.extremes.isc_sum_a
+            } else {
+                f.pmax_sum_w / battery_v
+            };
+            if d.factor(t) < 1.0 && array_a > derated_a {
+                push(out, Severity::Warn, Rule::OutputDerating, format!(
+                    "{tag}at {t:.0} °C air the controller's output is derated to {derated_a:.1} A (of {} A, less {} % per K above {} °C); the array can give about {array_a:.1} A in full sun",
+                    Num(c.model.max_charge_a()), Num(d.frac_per_k * 100.0), Num(d.from_air_c)
+                ));
+            }
         }
         let lead_need = CONDUCTOR_FACTOR * ISC_FACTOR * f.isc_string_max_a;
         let lead_amp = ampacity_a(&self.plan.cables.string_lead);
@@ -540,7 +740,9 @@ pub struct InputNumbers {
     pub voc_cold_max_v: f64,
     /// 1.25 × the summed Isc, A.
     pub isc_125_a: f64,
-    /// The controller's input current rating, A.
+    /// The array short-circuit current the controller withstands, A.
+    pub isc_rating_a: f64,
+    /// The current the controller draws (PWM: its rated current), A.
     pub input_rating_a: f64,
     /// Cable voltage drop at STC, fraction of the string Vmp.
     pub voltage_drop_frac: f64,
@@ -557,6 +759,7 @@ pub fn input_numbers(plan: &Plan, w: &InputWiring, temps: &DesignTemperatures) -
     InputNumbers {
         voc_cold_max_v: f.extremes.voc_cold_max_v,
         isc_125_a: ISC_FACTOR * f.extremes.isc_sum_a,
+        isc_rating_a: plan.controllers[w.controller].max_array_isc_a,
         input_rating_a: plan.controllers[w.controller].model.max_input_a(),
         voltage_drop_frac: stc_voltage_drop(plan, w, &f).0,
         vmp_hot_min_v: f.vmp_hot_min_v,
@@ -612,6 +815,8 @@ fn push(out: &mut Vec<Finding>, severity: Severity, rule: Rule, message: String)
         severity,
         rule,
         message,
+        input: 0,
+        cost: None,
     });
 }
 
@@ -714,6 +919,8 @@ mod tests {
             "tests/fixtures/plan_pwm_vs_mppt.toml",
             "tests/fixtures/plan_hot_site.toml",
             "tests/fixtures/plan_cold_site.toml",
+            "tests/fixtures/plan_hot_desert.toml",
+            "tests/fixtures/plan_six_parallel.toml",
             "benches/data/plan_24_modules.toml",
         ] {
             let path = root.join(rel);
@@ -776,7 +983,7 @@ mod tests {
         // The plans exercise the voltage and current rules and both start-up rules.
         for rule in [
             Rule::ColdVoc,
-            Rule::InputCurrent,
+            Rule::ArrayIsc,
             Rule::NeverWakes,
             Rule::NeverCharges,
         ] {
@@ -794,5 +1001,227 @@ mod tests {
         for r in Rule::INPUT_ONLY {
             assert!(Rule::ALL.contains(&r));
         }
+    }
+    fn fixture(rel: &str) -> Plan {
+        let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+        let path = root.join(rel);
+        let text = std::fs::read_to_string(&path).expect("fixture reads");
+        parse_plan(&text, rel, &path).expect("fixture parses")
+    }
+
+    fn listed(plan: &Plan, name: &str) -> Layout {
+        crate::input::layout::listed(plan)
+            .into_iter()
+            .find(|l| l.label.as_deref() == Some(name))
+            .expect("listed layout")
+    }
+
+    /// Every finding carries its rule's documented severity (method-limits.md), except that
+    /// `string-fuse` rejects when no fuse can exist. Source: definition (issue 15: reject what
+    /// is unsafe or can never work, warn what only costs energy).
+    #[test]
+    fn every_finding_has_its_rules_severity() {
+        let mut seen = std::collections::BTreeSet::new();
+        for plan in plans() {
+            let layouts = enumerate(&plan, plan.enumerate).expect("enumerates");
+            for temps in [(-40.0, 50.0), (-20.0, 34.0)] {
+                let temps = DesignTemperatures {
+                    min_air_c: temps.0,
+                    max_air_c: temps.1,
+                };
+                for l in layouts
+                    .iter()
+                    .chain(crate::input::layout::listed(&plan).iter())
+                {
+                    for f in check_layout(&plan, l, &temps) {
+                        seen.insert(f.rule);
+                        if f.rule == Rule::StringFuse && f.severity == Severity::Reject {
+                            assert!(f.message.contains("maximum series fuse"));
+                            continue;
+                        }
+                        assert_eq!(f.severity, f.rule.severity(), "{}: {}", f.rule, f.message);
+                    }
+                }
+            }
+        }
+        for r in [
+            Rule::HotVmp,
+            Rule::InputCurrent,
+            Rule::ArrayIsc,
+            Rule::ColdVoc,
+        ] {
+            assert!(seen.contains(&r), "{r} never found: {seen:?}");
+        }
+        // A rule that only warns never prunes.
+        for r in Rule::INPUT_ONLY {
+            assert_eq!(r.severity(), Severity::Reject, "{r}");
+        }
+    }
+
+    /// Six strings of one 5.80 A module: 1.25 × 6 × 5.80 A = 43.5 A. Source: NEC 690.8(A)(1)
+    /// (maximum circuit current 1.25 × the summed Isc), worked by hand. Above the 40 A the
+    /// controller draws and within the 50 A it withstands: a warning, ranked. With a 40 A
+    /// withstand rating: rejected by 3.5 A. With a 45 A input: nothing.
+    #[test]
+    fn array_isc_rejects_and_input_current_warns_by_hand() {
+        let plan = fixture("tests/fixtures/plan_six_parallel.toml");
+        let temps = DesignTemperatures {
+            min_air_c: -20.0,
+            max_air_c: 34.0,
+        };
+        let six = listed(&plan, "six in parallel");
+        let f = check_layout(&plan, &six, &temps);
+        let warn = f
+            .iter()
+            .find(|f| f.rule == Rule::InputCurrent)
+            .expect("input-current warns");
+        assert_eq!(warn.severity, Severity::Warn);
+        assert!(
+            warn.message.contains("43.5 A, above 40 A") && warn.message.contains("50 A"),
+            "{}",
+            warn.message
+        );
+        assert!(f.iter().all(|f| f.severity != Severity::Reject), "{f:?}");
+
+        let mut tight = plan.clone();
+        tight.controllers[0].max_array_isc_a = 40.0;
+        let f = check_layout(&tight, &six, &temps);
+        let rej = f
+            .iter()
+            .find(|f| f.rule == Rule::ArrayIsc)
+            .expect("array-isc rejects");
+        assert_eq!(rej.severity, Severity::Reject);
+        assert!(
+            rej.message.contains("43.5 A") && rej.message.contains("by 3.5 A"),
+            "{}",
+            rej.message
+        );
+        assert!(!f.iter().any(|f| f.rule == Rule::InputCurrent));
+        // Pruning agrees: the 1s6p input is skipped with the tight rating only.
+        let comps = vec![(6, vec![1])];
+        let draft = InputDraft {
+            controller: 0,
+            series: 1,
+            parallel: 6,
+            compositions: &comps,
+        };
+        assert_eq!(input_hard_limit(&plan, &temps, &draft), None);
+        assert_eq!(
+            input_hard_limit(&tight, &temps, &draft),
+            Some(Rule::ArrayIsc)
+        );
+
+        let mut roomy = plan.clone();
+        if let ControllerModel::Mppt { max_input_a, .. } = &mut roomy.controllers[0].model {
+            *max_input_a = 45.0;
+        }
+        assert!(check_layout(&roomy, &six, &temps)
+            .iter()
+            .all(|f| f.rule != Rule::InputCurrent));
+    }
+
+    /// The hot-desert plan's 2s3p: the window's lower edge is max(30 V, 27.2 + 1 V) = 30 V;
+    /// worked by hand with the Voc coefficient (common practice: Vmp falls at about the Voc
+    /// coefficient in V/K), the cell at 46 °C air, 1000 W/m², 1 m/s on a close roof (King 2004:
+    /// 46 + 1000·e^(−2.98 − 0.0471) + 1 = 95.48 °C) gives 2 × (18.6 − 0.0029 × 22.6 × 70.48) =
+    /// 27.96 V; the report uses the fitted single-diode model (within 3 %). A warning, not a
+    /// rejection.
+    #[test]
+    fn hot_vmp_below_the_window_warns_with_the_numbers() {
+        let plan = fixture("tests/fixtures/plan_hot_desert.toml");
+        let temps = DesignTemperatures {
+            min_air_c: -5.0,
+            max_air_c: 46.0,
+        };
+        let f = check_layout(&plan, &listed(&plan, "two in series"), &temps);
+        let hot = f.iter().find(|f| f.rule == Rule::HotVmp).expect("hot-vmp");
+        assert_eq!(hot.severity, Severity::Warn);
+        assert!(hot.message.contains("lower edge 30.0 V"), "{}", hot.message);
+        let v: f64 = hot
+            .message
+            .split("°C air is ")
+            .nth(1)
+            .and_then(|t| t.split(" V").next())
+            .and_then(|x| x.parse().ok())
+            .expect("a voltage");
+        assert!((v / 27.96 - 1.0).abs() < 0.03, "{v}");
+        assert!(f.iter().all(|f| f.severity != Severity::Reject));
+        let f3 = check_layout(&plan, &listed(&plan, "three in series"), &temps);
+        assert!(f3.iter().all(|f| f.rule != Rule::HotVmp));
+    }
+
+    /// Each priced warning takes its own input's share of its step. Source: definition
+    /// (method-limits.md, "What a warning cost").
+    #[test]
+    fn warnings_are_priced_from_their_own_inputs_loss_steps() {
+        use crate::sim::energy::InputLosses;
+        let finding = |rule: Rule, input: usize| Finding {
+            severity: rule.severity(),
+            rule,
+            message: "m".into(),
+            input,
+            cost: None,
+        };
+        let mut fs = vec![
+            finding(Rule::HotVmp, 1),
+            finding(Rule::InputCurrent, 0),
+            finding(Rule::VoltageDrop, 1),
+            finding(Rule::ColdVmp, 0),
+            finding(Rule::PwmHighVmp, 1),
+            finding(Rule::OutputDerating, 0),
+            finding(Rule::StringFuse, 0),
+            finding(Rule::ArrayIsc, 0),
+        ];
+        let e = LayoutEnergy {
+            inputs: vec![
+                InputLosses {
+                    input_limit_wh: 1500.0,
+                    above_window_wh: 700.0,
+                    derating_wh: 300.0,
+                    highest_tracked_a: 33.8,
+                    ..InputLosses::default()
+                },
+                InputLosses {
+                    below_window_wh: 2500.0,
+                    cables_wh: 4200.0,
+                    pwm_clamp_wh: 900.0,
+                    ..InputLosses::default()
+                },
+            ],
+            ..LayoutEnergy::default()
+        };
+        price_warnings(&mut fs, &e);
+        let kwh: Vec<Option<(Step, f64)>> = fs
+            .iter()
+            .map(|f| f.cost.as_ref().map(|c| (c.step, c.kwh)))
+            .collect();
+        assert_eq!(
+            kwh,
+            vec![
+                Some((Step::WindowStartup, 2.5)),
+                Some((Step::InputLimit, 1.5)),
+                Some((Step::Cables, 4.2)),
+                Some((Step::WindowStartup, 0.7)),
+                Some((Step::WindowStartup, 0.9)),
+                Some((Step::Clipping, 0.3)),
+                None,
+                None
+            ]
+        );
+        assert!(fs[1].text().contains("simulated cost 1.5 kWh a year"));
+        assert!(fs[1].text().contains("33.8 A"));
+    }
+
+    /// A controller with one current rating says which was assumed for the other.
+    /// Source: definition (issue 15; plan-format.md).
+    #[test]
+    fn one_current_rating_is_noted_with_what_was_assumed() {
+        let demo = plans().remove(0);
+        let notes = current_rating_notes(&demo);
+        assert_eq!(notes.len(), 2, "{notes:?}");
+        assert!(
+            notes[0].contains("max_input_a = 50 A") && notes[0].contains("taken as the same 50 A")
+        );
+        assert!(current_rating_notes(&fixture("tests/fixtures/plan_six_parallel.toml")).is_empty());
     }
 }

@@ -179,23 +179,89 @@ pub fn size_best(
     )
 }
 
-/// The sizing helper's answer for the best layout.
+/// What sets the smallest battery: each constraint's own smallest capacity, the largest wins.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum BatteryConstraint {
+    /// The unmet-load target, found by simulating the year.
+    UnmetTarget,
+    /// The days the battery alone runs the load.
+    Autonomy,
+    /// The charge current the controllers offer, within the battery's charge rate.
+    ChargeRate,
+    /// The highest hourly load, within the battery's discharge rate.
+    DischargeRate,
+}
+
+impl BatteryConstraint {
+    /// In a person's words.
+    pub fn describe(self) -> &'static str {
+        match self {
+            BatteryConstraint::UnmetTarget => "the unmet-load target",
+            BatteryConstraint::Autonomy => "the autonomy target",
+            BatteryConstraint::ChargeRate => "the charge rate",
+            BatteryConstraint::DischargeRate => "the discharge rate",
+        }
+    }
+
+    /// Key used in JSON.
+    pub fn key(self) -> &'static str {
+        match self {
+            BatteryConstraint::UnmetTarget => "unmet_target",
+            BatteryConstraint::Autonomy => "autonomy",
+            BatteryConstraint::ChargeRate => "charge_rate",
+            BatteryConstraint::DischargeRate => "discharge_rate",
+        }
+    }
+}
+
+/// The sizing helper's answer for the best layout: the smallest battery, in the plan's
+/// steps, that meets every constraint, each constraint's own figure, and which one set it.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Sizing {
     pub layout: String,
     /// Unmet load the search aimed at, kWh per year.
     pub target_unmet_kwh: f64,
     pub step_ah: f64,
-    /// `Some(0.0)`: no battery needed; `None`: not reached up to the search's limit.
+    /// The answer: the largest of the four constraints' capacities. `Some(0.0)`: no battery
+    /// needed; `None`: the unmet target is not reached up to the search's limit.
     pub battery_ah: Option<f64>,
+    /// The constraint that set `battery_ah` (the first of equals in the order unmet target,
+    /// autonomy, charge rate, discharge rate).
+    pub set_by: Option<BatteryConstraint>,
     pub limit_ah: f64,
     /// The plan's battery, for comparison.
     pub planned_ah: f64,
+    /// Smallest capacity that meets the unmet target (simulated), Ah; `None` beyond the limit.
+    pub unmet_ah: Option<f64>,
+    /// Days of autonomy asked for, the heaviest day's load (Wh) and the capacity that runs it
+    /// that many days (in steps), Ah.
+    pub autonomy_days: f64,
+    pub heaviest_day_wh: f64,
+    pub autonomy_ah: f64,
+    /// The highest charge current the layout's controllers offered in the year (A), the
+    /// battery's charge rate (C) and the capacity that takes it (in steps), Ah.
+    pub peak_charge_a: f64,
+    pub charge_rate_c: f64,
+    pub charge_rate_ah: f64,
+    /// The highest hourly load (W), the battery's discharge rate (C) and the capacity that
+    /// gives it (in steps), Ah.
+    pub peak_load_w: f64,
+    pub discharge_rate_c: f64,
+    pub discharge_rate_ah: f64,
 }
 
-/// The smallest battery (in the plan's steps) that brings the best layout's unmet load to the
-/// plan's target, found by simulating the year (notebooks-free-docs/method-battery.md), with the harvest the layout
-/// offers at the plan's battery.
+/// A capacity rounded up to whole steps (a tiny tolerance keeps an exact multiple).
+fn in_steps(ah: f64, step: f64) -> f64 {
+    (ah / step - 1e-9).ceil().max(0.0) * step
+}
+
+/// The smallest battery (in the plan's steps) for the best layout: the largest of the
+/// capacity that brings its unmet load to the plan's target (found by simulating the year,
+/// notebooks-free-docs/method-battery.md, with the harvest the layout offers at the plan's
+/// battery and the air temperature of each interval), the capacity that runs the heaviest
+/// day's load for the plan's days of autonomy, the capacity that takes the layout's highest
+/// charge current within the charge rate, and the one that gives the highest hourly load
+/// within the discharge rate.
 fn size_battery(
     plan: &Plan,
     cond: &Conditions,
@@ -204,6 +270,8 @@ fn size_battery(
 ) -> Option<Sizing> {
     let consumption = plan.consumption.as_ref()?;
     let spec = plan.battery.model.as_ref()?;
+    let params = spec.params();
+    let step = consumption.battery_step_ah;
 
     let e = year::simulate_layouts(
         plan,
@@ -226,27 +294,71 @@ fn size_battery(
     let month: Vec<u32> = cond.intervals.iter().map(|i| i.month).collect();
     let hour: Vec<u32> = cond.intervals.iter().map(|i| i.hour).collect();
     let weekend: Vec<bool> = cond.intervals.iter().map(|i| i.weekend).collect();
+    let air: Vec<f64> = cond.intervals.iter().map(|i| i.air_temp_c).collect();
     let hours = cond.intervals.first().map_or(1.0, |i| i.hours);
-    let series = physics::battery::Series::new(&harvest, &month, &hour, &weekend, hours).ok()?;
-    let limit_ah = 100.0 * spec.params().capacity_ah.max(consumption.battery_step_ah);
+    let series = physics::battery::Series::new(&harvest, &month, &hour, &weekend, hours)
+        .and_then(|s| s.with_air_c(&air))
+        .ok()?;
+    let limit_ah = 100.0 * params.capacity_ah.max(step);
     // The target is per year; the series may cover several.
     let years = 1.0 / cond.per_year_factor();
-    let found = physics::battery::smallest_battery_ah(
-        spec.params(),
+    let unmet_ah = physics::battery::smallest_battery_ah(
+        params,
         &consumption.load,
         &series,
-        consumption.battery_step_ah,
+        step,
         consumption.unmet_target_wh * years,
         limit_ah,
     )
     .ok()?;
+    let heaviest_day_wh = consumption.load.heaviest_day_wh();
+    let autonomy_ah = in_steps(
+        physics::battery::autonomy_capacity_ah(params, consumption.autonomy_days, heaviest_day_wh),
+        step,
+    );
+    let charge_rate_ah = in_steps(
+        physics::battery::charge_rate_capacity_ah(params, e.peak_charge_a),
+        step,
+    );
+    let peak_load_w = consumption.load.peak_hour_w();
+    let discharge_rate_ah = in_steps(
+        physics::battery::discharge_rate_capacity_ah(params, peak_load_w),
+        step,
+    );
+    let (battery_ah, set_by) = match unmet_ah {
+        None => (None, Some(BatteryConstraint::UnmetTarget)),
+        Some(u) => {
+            let mut best = (u, BatteryConstraint::UnmetTarget);
+            for (ah, c) in [
+                (autonomy_ah, BatteryConstraint::Autonomy),
+                (charge_rate_ah, BatteryConstraint::ChargeRate),
+                (discharge_rate_ah, BatteryConstraint::DischargeRate),
+            ] {
+                if ah > best.0 {
+                    best = (ah, c);
+                }
+            }
+            (Some(best.0), (best.0 > 0.0).then_some(best.1))
+        }
+    };
     Some(Sizing {
         layout: best.display_name(),
         target_unmet_kwh: consumption.unmet_target_wh / 1000.0,
-        step_ah: consumption.battery_step_ah,
-        battery_ah: found,
+        step_ah: step,
+        battery_ah,
+        set_by,
         limit_ah,
-        planned_ah: spec.params().capacity_ah,
+        planned_ah: params.capacity_ah,
+        unmet_ah,
+        autonomy_days: consumption.autonomy_days,
+        heaviest_day_wh,
+        autonomy_ah,
+        peak_charge_a: e.peak_charge_a,
+        charge_rate_c: params.max_charge_rate_c,
+        charge_rate_ah,
+        peak_load_w,
+        discharge_rate_c: params.max_discharge_rate_c,
+        discharge_rate_ah,
     })
 }
 

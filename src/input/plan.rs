@@ -125,8 +125,25 @@ pub struct ControllerInput {
     pub model: ControllerModel,
     /// Absolute maximum input voltage (array Voc above it damages the controller), V.
     pub max_input_v: f64,
+    /// The array short-circuit current the input withstands, A: a hard limit that
+    /// 1.25 × the summed Isc must not exceed (NEC 690.8(A)(1)). The current the controller
+    /// draws (a simulated limit) is `model.max_input_a()`.
+    pub max_array_isc_a: f64,
+    /// Which of the two current ratings the plan left out and was assumed from the other.
+    pub current_assumed: Option<CurrentAssumed>,
     /// Main run from the combiner to this input.
     pub main_run: CableRun,
+}
+
+/// A controller current rating the plan did not give, taken from the one it gave.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum CurrentAssumed {
+    /// Only `max_input_a` given: the array short-circuit rating is taken equal to it (the
+    /// safe reading of a single current rating).
+    ArrayIscFromInput,
+    /// Only `max_array_isc_a` given: the controller is taken to use any current up to it (no
+    /// input limit binds on a layout that passes the short-circuit check).
+    InputFromArrayIsc,
 }
 
 /// The battery as the controller sees it.
@@ -140,6 +157,11 @@ pub struct Battery {
     pub model: Option<BatterySpec>,
 }
 
+/// Days the battery alone runs the load in the sizing answer when the plan does not say.
+/// Common practice, no source: off-grid sizing guidance commonly asks for about 3 to 5 days
+/// for a system used all year without a generator; 3 is the low end.
+pub const DEFAULT_AUTONOMY_DAYS: f64 = 3.0;
+
 /// The owner's daily use and what the sizing helper aims for.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Consumption {
@@ -148,6 +170,8 @@ pub struct Consumption {
     pub battery_step_ah: f64,
     /// Unmet load the sizing helper accepts per year, Wh.
     pub unmet_target_wh: f64,
+    /// Days the battery alone must run the load (no harvest) for the battery sizing.
+    pub autonomy_days: f64,
 }
 
 /// A cable: one-way length, cross-section and conductor.
@@ -256,6 +280,7 @@ impl ControllerInput {
     pub fn same_hardware(&self, other: &ControllerInput) -> bool {
         self.model == other.model
             && self.max_input_v == other.max_input_v
+            && self.max_array_isc_a == other.max_array_isc_a
             && self.main_run == other.main_run
     }
 }

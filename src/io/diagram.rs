@@ -89,8 +89,8 @@ impl WiringDiagram {
                         temps.min_air_c, n.voc_cold_max_v, c.max_input_v
                     ),
                     format!(
-                        "1.25 × Isc: {:.1} A (input rating {:.0} A)",
-                        n.isc_125_a, n.input_rating_a
+                        "1.25 × Isc: {:.1} A (withstands {:.0} A, draws up to {:.0} A)",
+                        n.isc_125_a, n.isc_rating_a, n.input_rating_a
                     ),
                     format!(
                         "voltage drop at STC: {:.1} % (target {:.1} %)",

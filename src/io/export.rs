@@ -392,7 +392,7 @@ fn findings(o: &LayoutOutcome, severity: Severity) -> String {
     o.findings
         .iter()
         .filter(|f| f.severity == severity)
-        .map(|f| format!("{}: {}", f.rule, f.message))
+        .map(|f| format!("{}: {}", f.rule, f.text()))
         .collect::<Vec<_>>()
         .join(LIST_SEPARATOR)
 }
@@ -645,7 +645,7 @@ fn thermal_text(m: &CellTemperatureModel) -> String {
 }
 
 fn controller_text(m: &ControllerModel) -> String {
-    match m {
+    let kind = match m {
         ControllerModel::Mppt {
             mppt_min_v,
             mppt_max_v,
@@ -659,6 +659,14 @@ fn controller_text(m: &ControllerModel) -> String {
             }
         ),
         ControllerModel::Pwm { .. } => "PWM (array clamped to the battery)".to_string(),
+    };
+    match m.derating() {
+        Some(d) => format!(
+            "{kind}; output current derated above {} °C air by {} % per K",
+            crate::num::Num(d.from_air_c),
+            crate::num::Num(d.frac_per_k * 100.0)
+        ),
+        None => kind,
     }
 }
 

@@ -35,7 +35,20 @@ fn sizing_json(r: &RankResult) -> Value {
             "step_ah": s.step_ah,
             "planned_ah": s.planned_ah,
             "smallest_ah": s.battery_ah,
+            "set_by": s.set_by.map(|c| c.key()),
             "search_limit_ah": s.limit_ah,
+            "constraints": {
+                "unmet_target_ah": s.unmet_ah,
+                "autonomy_days": s.autonomy_days,
+                "heaviest_day_wh": r3(s.heaviest_day_wh),
+                "autonomy_ah": s.autonomy_ah,
+                "peak_charge_a": r3(s.peak_charge_a),
+                "charge_rate_c": s.charge_rate_c,
+                "charge_rate_ah": s.charge_rate_ah,
+                "peak_load_w": r3(s.peak_load_w),
+                "discharge_rate_c": s.discharge_rate_c,
+                "discharge_rate_ah": s.discharge_rate_ah,
+            },
         })
     });
     let modules = r.module_sizing.as_ref().map(|m| {
@@ -95,7 +108,20 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                 .findings
                 .iter()
                 .filter(|f| f.severity == Severity::Warn)
-                .map(|f| format!("{}: {}", f.rule, f.message))
+                .map(|f| format!("{}: {}", f.rule, f.text()))
+                .collect();
+            let warning_costs: Vec<Value> = o
+                .findings
+                .iter()
+                .filter_map(|f| {
+                    let c = f.cost.as_ref()?;
+                    Some(json!({
+                        "rule": f.rule.key(),
+                        "controller": o.layout.inputs.get(f.input).map(|w| plan.controllers[w.controller].id.clone()),
+                        "step": c.step.key(),
+                        "kwh": r3(c.kwh),
+                    }))
+                })
                 .collect();
             let mut v = json!({
                 "id": o.layout.id,
@@ -105,6 +131,7 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
                 "rank": o.rank,
                 "reasons": reasons,
                 "warnings": warnings,
+                "warning_costs": warning_costs,
                 "modules_used": o.layout.modules_used,
                 "mixed_orientation": o.layout.mixed_orientation,
                 "inputs": o.layout.inputs.iter().map(|w| json!({
@@ -242,6 +269,7 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
         "months_present": r.months_present,
         "limit_temperatures_c": { "min_air": r.temps.min_air_c, "max_air": r.temps.max_air_c },
         "battery_charge_v": plan.battery.charge_v,
+        "notes": crate::design::rules::current_rating_notes(plan),
         "p90_inputs": {
             "irradiance_variability_frac": plan.model.uncertainty.variability_frac,
             "model_uncertainty_frac": plan.model.uncertainty.model_frac,

@@ -213,6 +213,9 @@ impl<'a> RankingText<'a> {
         if plan.battery.model.is_some() && plan.consumption.is_none() {
             let _ = writeln!(out, "{BATTERY_WITHOUT_LOAD}");
         }
+        for note in crate::design::rules::current_rating_notes(plan) {
+            let _ = writeln!(out, "note: {note}");
+        }
         for note in facing_away_notes(r) {
             let _ = writeln!(out, "note: {note}");
         }
@@ -487,7 +490,7 @@ impl<'a> RankingText<'a> {
         let _ = writeln!(out, "Warnings on ranked layouts:");
         for o in warned {
             for f in o.findings.iter().filter(|f| f.severity == Severity::Warn) {
-                let _ = writeln!(out, "  {}: {}: {}", o.layout.id, f.rule, f.message);
+                let _ = writeln!(out, "  {}: {}: {}", o.layout.id, f.rule, f.text());
             }
         }
     }
@@ -667,6 +670,13 @@ pub fn check(r: &CheckResult, show: CheckShow) -> String {
         r.candidates.listed,
         n - r.candidates.listed
     );
+    for note in crate::design::rules::current_rating_notes(plan) {
+        let _ = writeln!(out, "note: {note}");
+    }
+    let _ = writeln!(
+        out,
+        "✗ rejects (unsafe, or can never work); ! warns (costs energy, which rank simulates and prices in kWh, or asks for a part)"
+    );
     if !r.candidates.pruned.is_empty() {
         let parts: Vec<String> = r
             .candidates
@@ -797,17 +807,97 @@ fn outlook(r: &RankResult, ranked: &[&LayoutOutcome]) -> String {
             s.annual_days_short()
         );
     }
+    if let (Some(o), Some(b)) = (r.recommended(), spec) {
+        if let Some(e) = &o.energy {
+            let cold: f64 = e.cold_blocked_wh.iter().sum::<f64>() / 1000.0;
+            if let (Some(t), true) = (b.params().min_charge_air_c, cold > 0.0) {
+                let _ = writeln!(
+                    out,
+                    "  {}: the battery takes no charge below {} °C air (its charging cut-off; the air temperature stands in for the cell's): {cold:.1} kWh a year turned away (in the curtailed figure)",
+                    o.layout.id,
+                    Num(t)
+                );
+            }
+            let rate: f64 = e.rate_unmet_wh.iter().sum::<f64>() / 1000.0;
+            if rate > 0.0 {
+                let _ = writeln!(
+                    out,
+                    "  {}: load above the battery's discharge rate ({} C = {} W) goes unmet: {rate:.1} kWh a year (in the unmet figure)",
+                    o.layout.id,
+                    Num(b.params().max_discharge_rate_c),
+                    Num(b.max_discharge_w())
+                );
+            }
+        }
+    }
     if let Some(s) = &r.sizing {
         let answer = match s.battery_ah {
             Some(a) if a <= 0.0 => "no battery would be needed".to_string(),
-            Some(a) => format!("{a:.0} Ah (the plan has {:.0} Ah)", s.planned_ah),
-            None => format!("more than {:.0} Ah", s.limit_ah),
+            Some(a) => format!(
+                "{} Ah (the plan has {} Ah), set by {}",
+                Num(a),
+                Num(s.planned_ah),
+                s.set_by.map_or("nothing", |c| c.describe())
+            ),
+            None => format!(
+                "more than {} Ah: the unmet-load target is not reached",
+                Num(s.limit_ah)
+            ),
         };
         let _ = writeln!(
             out,
-            "  Smallest battery for {} to keep unmet load at or below {:.1} kWh a year (steps of {:.0} Ah): {answer}",
-            s.layout, s.target_unmet_kwh, s.step_ah
+            "  Smallest battery for {} (steps of {} Ah): {answer}",
+            s.layout,
+            Num(s.step_ah)
         );
+        let unmet = s
+            .unmet_ah
+            .map_or(format!("more than {} Ah", Num(s.limit_ah)), |a| {
+                format!("{} Ah", Num(a))
+            });
+        let rows = [
+            (
+                format!(
+                    "unmet load at or below {:.1} kWh a year (simulated)",
+                    s.target_unmet_kwh
+                ),
+                unmet,
+            ),
+            (
+                format!(
+                    "{} day{} of autonomy at the heaviest day's {:.0} Wh",
+                    Num(s.autonomy_days),
+                    if s.autonomy_days == 1.0 { "" } else { "s" },
+                    s.heaviest_day_wh
+                ),
+                format!("{} Ah", Num(s.autonomy_ah)),
+            ),
+            (
+                format!(
+                    "charge rate {} C for the highest charge current offered, {:.1} A",
+                    Num(s.charge_rate_c),
+                    s.peak_charge_a
+                ),
+                format!("{} Ah", Num(s.charge_rate_ah)),
+            ),
+            (
+                format!(
+                    "discharge rate {} C for the highest hourly load, {:.0} W",
+                    Num(s.discharge_rate_c),
+                    s.peak_load_w
+                ),
+                format!("{} Ah", Num(s.discharge_rate_ah)),
+            ),
+        ];
+        let w = rows
+            .iter()
+            .map(|(l, _)| l.chars().count())
+            .max()
+            .unwrap_or(0);
+        for (label, ah) in rows {
+            let pad = w - label.chars().count();
+            let _ = writeln!(out, "    {label}:{:pad$} {ah:>9}", "");
+        }
     }
     if let Some(m) = &r.module_sizing {
         let answer = match &m.answer {

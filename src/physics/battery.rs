@@ -9,9 +9,12 @@
 //! flooded/AGM lead-acid and LiFePO4. The load is a Wh-per-hour-of-day table per month, with an
 //! optional weekend table.
 //!
+//! Charge and discharge are limited to a C-rate each, and a battery with a charging cut-off
+//! temperature (LiFePO4: 0 °C) takes no charge below it, with the air temperature standing in
+//! for the cell temperature.
+//!
 //! It deliberately does not model electrochemistry: no Peukert effect, no temperature
-//! compensation of the set points, no self-discharge, no ageing, no discharge-rate limit, no
-//! voltage sag under load. It knows no calendar (the caller passes month, hour and weekend) and
+//! compensation of the set points, no self-discharge, no ageing, no voltage sag under load. It knows no calendar (the caller passes month, hour and weekend) and
 //! no controller (it takes the energy the controllers offer and says how much of it is used).
 
 /// Battery chemistry: picks the default set points, the rest-voltage table and the defaults
@@ -184,6 +187,11 @@ pub struct BatteryParams {
     pub rebulk_soc_frac: f64,
     /// Largest charge rate the battery accepts in bulk, in capacities per hour (C-rate).
     pub max_charge_rate_c: f64,
+    /// Largest discharge rate, in capacities per hour (C-rate): load beyond it goes unmet.
+    pub max_discharge_rate_c: f64,
+    /// No charging below this air temperature, °C (the air temperature stands in for the
+    /// cell's); `None`: charged at any temperature.
+    pub min_charge_air_c: Option<f64>,
     /// Float acceptance as a fraction of the absorption acceptance at the same state of charge.
     pub float_rate_frac: f64,
 }
@@ -204,6 +212,8 @@ impl BatteryParams {
     /// | bulk_end_soc_frac    | 0.85      | 0.95    |
     /// | rebulk_soc_frac      | 0.80      | 0.90    |
     /// | max_charge_rate_c    | 0.2       | 0.5     |
+    /// | max_discharge_rate_c | 0.2       | 1.0     |
+    /// | min_charge_air_c     | none      | 0 °C    |
     /// | float_rate_frac      | 0.5       | 1.0     |
     /// | round trip           | 0.80      | 0.95    |
     /// | usable_dod_frac      | 0.5       | 0.8     |
@@ -224,6 +234,14 @@ impl BatteryParams {
                 Chemistry::LeadAcid => (14.4, 13.6, 0.8, 2.0, 0.85, 0.80, 0.2, 0.5, 0.80, 0.5),
                 Chemistry::LiFePo4 => (14.2, 13.6, 0.2, 0.0, 0.95, 0.90, 0.5, 1.0, 0.95, 0.8),
             };
+        // From memory, see method-battery.md: lead-acid capacities are rated from the 20-hour
+        // down to the 5-hour rate, and above C/5 the usable capacity falls well below the
+        // rating (an effect this model leaves out); LiFePO4 cells and small packs are
+        // commonly rated for 1C continuous discharge and must not be charged below 0 °C.
+        let (discharge_c, min_charge_air_c) = match chemistry {
+            Chemistry::LeadAcid => (0.2, None),
+            Chemistry::LiFePo4 => (1.0, Some(0.0)),
+        };
         let (eta_c, eta_d) = split_round_trip(rt)?;
         Ok(BatteryParams {
             capacity_ah,
@@ -240,6 +258,8 @@ impl BatteryParams {
             bulk_end_soc_frac: bulk_end,
             rebulk_soc_frac: rebulk,
             max_charge_rate_c: c,
+            max_discharge_rate_c: discharge_c,
+            min_charge_air_c,
             float_rate_frac: float_rate,
         })
     }
@@ -306,10 +326,15 @@ pub struct Flows {
     pub from_battery_wh: f64,
     /// Harvest the battery could not take (the controller throttles back).
     pub curtailed_wh: f64,
-    /// Load not served (battery at its floor).
+    /// Load not served (battery at its floor, or beyond its discharge rate).
     pub unmet_wh: f64,
     /// Charge and discharge losses inside the battery.
     pub losses_wh: f64,
+    /// The part of `curtailed_wh` the battery would have taken but for its charging cut-off
+    /// temperature.
+    pub cold_blocked_wh: f64,
+    /// The part of `unmet_wh` the battery held but could not give within its discharge rate.
+    pub rate_unmet_wh: f64,
 }
 
 /// Checks that `x` lies in a range, naming the field.
@@ -413,6 +438,20 @@ impl BatterySpec {
             "(0, 100]",
         )?;
         check_range(
+            "max_discharge_rate_c",
+            p.max_discharge_rate_c,
+            |x| x > 0.0 && x <= 100.0,
+            "(0, 100]",
+        )?;
+        if let Some(t) = p.min_charge_air_c {
+            check_range(
+                "min_charge_air_c",
+                t,
+                |x| (-40.0..=25.0).contains(&x),
+                "[-40, 25]",
+            )?;
+        }
+        check_range(
             "float_rate_frac",
             p.float_rate_frac,
             |x| (0.0..=1.0).contains(&x),
@@ -495,6 +534,17 @@ impl BatterySpec {
     /// Bulk charge-rate limit at the terminals, W.
     fn max_charge_w(&self) -> f64 {
         self.p.max_charge_rate_c * self.energy_wh
+    }
+
+    /// Discharge-rate limit, W delivered (max_discharge_rate_c · capacity_ah · nominal_v).
+    pub fn max_discharge_w(&self) -> f64 {
+        self.p.max_discharge_rate_c * self.energy_wh
+    }
+
+    /// True when the battery takes no charge at this air temperature (below its charging
+    /// cut-off; a NaN temperature counts as unknown: charging allowed).
+    pub fn charge_blocked_at(&self, air_c: f64) -> bool {
+        self.p.min_charge_air_c.is_some_and(|t| air_c < t)
     }
 
     /// Taper constant of a constant-voltage stage, 1/h (stored state of charge per hour per
@@ -581,25 +631,43 @@ impl BatterySpec {
         self.taper_per_h(s.stage) * (1.0 - soc) * self.energy_wh / self.p.charge_efficiency_frac
     }
 
-    /// One interval: `harvest_wh` offered by the controllers, `load_wh` demanded, `hours` long.
+    /// One interval: `harvest_wh` offered by the controllers, `load_wh` demanded, `hours` long,
+    /// at an unknown temperature (no charging cut-off applies). See [`BatterySpec::step_at`].
+    pub fn step(&self, s: &mut BatteryState, harvest_wh: f64, load_wh: f64, hours: f64) -> Flows {
+        self.step_at(s, harvest_wh, load_wh, hours, f64::NAN)
+    }
+
+    /// One interval: `harvest_wh` offered by the controllers, `load_wh` demanded, `hours` long,
+    /// at air temperature `air_c`.
     ///
     /// # Formula
     /// load_from_harvest = min(harvest, load); the surplus charges the battery up to
-    /// [`BatterySpec::acceptance_wh`], the rest is curtailed; the deficit is served from the
-    /// battery down to its floor, (s − s_floor) · E · η_d at most, the rest is unmet.
-    /// s ← s + (to_battery · η_c − from_battery / η_d) / E. Then the stage moves on:
+    /// [`BatterySpec::acceptance_wh`] (0 below `min_charge_air_c`), the rest is curtailed; the
+    /// deficit is served from the battery down to its floor, (s − s_floor) · E · η_d at most,
+    /// and within its discharge rate, max_discharge_rate_c · E · hours at most; the rest is
+    /// unmet. s ← s + (to_battery · η_c − from_battery / η_d) / E. Then the stage moves on:
     /// bulk → absorption at s ≥ bulk_end_soc_frac (straight to float when absorption_h = 0);
     /// absorption → float after absorption_h hours of charging or at full; absorption or
     /// float → bulk below rebulk_soc_frac.
     ///
     /// # Source
     /// notebooks-free-docs/method-battery.md (load first from harvest, surplus to the battery, throttled when full);
-    /// stage rules: common practice of small controllers, no source.
+    /// stage rules: common practice of small controllers, no source. The C-rate limits and the
+    /// charging cut-off: from memory (method-battery.md, defaults).
     ///
     /// # Validity
-    /// Negative or NaN energies count as 0. Charge and discharge never happen in the same
-    /// interval (the load nets against the harvest first).
-    pub fn step(&self, s: &mut BatteryState, harvest_wh: f64, load_wh: f64, hours: f64) -> Flows {
+    /// Negative or NaN energies count as 0; a NaN temperature applies no cut-off. Charge and
+    /// discharge never happen in the same interval (the load nets against the harvest
+    /// first). The air temperature stands in for the cell's: a battery indoors or one that
+    /// warms itself while charging is warmer than the air.
+    pub fn step_at(
+        &self,
+        s: &mut BatteryState,
+        harvest_wh: f64,
+        load_wh: f64,
+        hours: f64,
+        air_c: f64,
+    ) -> Flows {
         // f64::max returns the other operand for NaN, so NaN becomes 0 too.
         let harvest = harvest_wh.max(0.0);
         let load = load_wh.max(0.0);
@@ -610,12 +678,20 @@ impl BatterySpec {
         let surplus = harvest - f.load_from_harvest_wh;
         let deficit = load - f.load_from_harvest_wh;
         if surplus > 0.0 {
-            f.to_battery_wh = surplus.min(self.acceptance_wh(s, hours));
+            let acceptance = self.acceptance_wh(s, hours);
+            if self.charge_blocked_at(air_c) {
+                f.cold_blocked_wh = surplus.min(acceptance);
+            } else {
+                f.to_battery_wh = surplus.min(acceptance);
+            }
             f.curtailed_wh = surplus - f.to_battery_wh;
         }
         if deficit > 0.0 {
             let stored_above_floor = (s.soc_frac - self.floor_soc_frac).max(0.0) * self.energy_wh;
-            f.from_battery_wh = deficit.min(stored_above_floor * self.p.discharge_efficiency_frac);
+            let held = deficit.min(stored_above_floor * self.p.discharge_efficiency_frac);
+            let by_rate = self.max_discharge_w() * hours.max(0.0);
+            f.from_battery_wh = held.min(by_rate);
+            f.rate_unmet_wh = held - f.from_battery_wh;
             f.unmet_wh = deficit - f.from_battery_wh;
         }
         let stored_in = f.to_battery_wh * self.p.charge_efficiency_frac;
@@ -748,6 +824,59 @@ impl LoadProfile {
     pub fn daily_wh(&self, month: u32, weekend: bool) -> f64 {
         (0..24).map(|h| self.wh_at(month, h, weekend, 1.0)).sum()
     }
+
+    /// The heaviest day of the year: the largest daily total of any month, weekday or
+    /// weekend, Wh.
+    pub fn heaviest_day_wh(&self) -> f64 {
+        (1..=12)
+            .flat_map(|m| [self.daily_wh(m, false), self.daily_wh(m, true)])
+            .fold(0.0, f64::max)
+    }
+
+    /// The highest hourly load of the year (Wh in one hour = mean W over it), W.
+    pub fn peak_hour_w(&self) -> f64 {
+        self.wh
+            .iter()
+            .chain(self.weekend.iter().flatten())
+            .flatten()
+            .copied()
+            .fold(0.0, f64::max)
+    }
+}
+
+/// The smallest capacity whose usable energy runs the load for `days` with no harvest, Ah.
+///
+/// # Formula
+/// C = days · D / (V_nom · DoD · η_d), D = the load of one day (Wh).
+///
+/// # Source
+/// Common practice, no source (the usual energy balance of off-grid battery sizing: the
+/// usable share of the stored energy, after discharge losses, covers the days of load).
+pub fn autonomy_capacity_ah(p: &BatteryParams, days: f64, day_wh: f64) -> f64 {
+    days * day_wh / (p.nominal_v * p.usable_dod_frac * p.discharge_efficiency_frac)
+}
+
+/// The smallest capacity that takes a charge current within its charge rate, Ah.
+///
+/// # Formula
+/// C = I / c_charge (C-rate: a current of c·C amperes for a capacity of C ampere-hours).
+///
+/// # Source
+/// Definition of the C-rate.
+pub fn charge_rate_capacity_ah(p: &BatteryParams, current_a: f64) -> f64 {
+    current_a / p.max_charge_rate_c
+}
+
+/// The smallest capacity that gives a load power within its discharge rate, Ah.
+///
+/// # Formula
+/// C = P / (V_nom · c_discharge).
+///
+/// # Source
+/// Definition of the C-rate, at the battery's nominal voltage (the model's discharge limit,
+/// [`BatterySpec::max_discharge_w`]).
+pub fn discharge_rate_capacity_ah(p: &BatteryParams, power_w: f64) -> f64 {
+    power_w / (p.nominal_v * p.max_discharge_rate_c)
 }
 
 /// A validated run of equal intervals: harvest and calendar per interval.
@@ -758,6 +887,8 @@ pub struct Series<'a> {
     hour: &'a [u32],
     weekend: &'a [bool],
     interval_h: f64,
+    /// Air temperature per interval, °C, when known (for a charging cut-off).
+    air_c: Option<&'a [f64]>,
 }
 
 impl<'a> Series<'a> {
@@ -815,7 +946,36 @@ impl<'a> Series<'a> {
             hour,
             weekend,
             interval_h,
+            air_c: None,
         })
+    }
+
+    /// The same series with the air temperature of each interval, °C (a battery with a
+    /// charging cut-off then takes no charge in the colder intervals).
+    ///
+    /// # Errors
+    /// A length other than the series', or a NaN temperature (the message names the
+    /// interval).
+    pub fn with_air_c(self, air_c: &'a [f64]) -> Result<Series<'a>, String> {
+        if air_c.len() != self.len() {
+            return Err(format!(
+                "series lengths differ: harvest_wh {}, air_c {}",
+                self.len(),
+                air_c.len()
+            ));
+        }
+        if let Some(k) = air_c.iter().position(|t| t.is_nan()) {
+            return Err(format!("interval {k}: air_c is not a number"));
+        }
+        Ok(Series {
+            air_c: Some(air_c),
+            ..self
+        })
+    }
+
+    /// Air temperature of interval `k`, °C (NaN when the series has none).
+    fn air_c(&self, k: usize) -> f64 {
+        self.air_c.map_or(f64::NAN, |a| a[k])
     }
 
     /// Number of intervals.
@@ -857,21 +1017,23 @@ pub fn run_series(
 ) -> (Vec<Flows>, Vec<f64>) {
     let mut s = spec.initial_state();
     for k in 0..series.len() {
-        spec.step(
+        spec.step_at(
             &mut s,
             series.harvest_wh[k],
             series.load_wh(load, k),
             series.interval_h,
+            series.air_c(k),
         );
     }
     let mut flows = Vec::with_capacity(series.len());
     let mut soc = Vec::with_capacity(series.len());
     for k in 0..series.len() {
-        flows.push(spec.step(
+        flows.push(spec.step_at(
             &mut s,
             series.harvest_wh[k],
             series.load_wh(load, k),
             series.interval_h,
+            series.air_c(k),
         ));
         soc.push(s.soc_frac);
     }
@@ -1683,5 +1845,141 @@ mod tests {
         close(p.float_v, 27.2, 1e-9, "lifepo4 float 24 V");
         // The default start is the middle of the usable range.
         close(p.initial_soc_frac, 0.6, 1e-12, "lifepo4 start");
+    }
+    #[test]
+    fn discharge_beyond_the_rate_goes_unmet() {
+        // Source: worked by hand from the C-rate: 100 Ah × 12 V × 0.2 = 240 W; a full battery
+        // asked for 300 Wh in one hour without harvest gives 240 Wh, 60 Wh go unmet, all of
+        // it for the rate (the battery held far more).
+        let b = spec(params(Chemistry::LeadAcid, 100.0, 12.0));
+        assert!((b.max_discharge_w() - 240.0).abs() < 1e-9);
+        let mut s = BatteryState {
+            soc_frac: 1.0,
+            stage: Stage::Float,
+            absorption_done_h: 0.0,
+        };
+        let f = b.step(&mut s, 0.0, 300.0, 1.0);
+        close(f.from_battery_wh, 240.0, ROUNDING_WH, "from battery");
+        close(f.unmet_wh, 60.0, ROUNDING_WH, "unmet");
+        close(f.rate_unmet_wh, 60.0, ROUNDING_WH, "unmet for the rate");
+        // LiFePO4 at its 1C default: 100 Ah × 12.8 V = 1280 W, so 300 Wh is served in full.
+        let l = spec(params(Chemistry::LiFePo4, 100.0, 12.8));
+        let mut s = l.initial_state();
+        let f = l.step(&mut s, 0.0, 300.0, 1.0);
+        close(f.unmet_wh, 0.0, ROUNDING_WH, "lifepo4 unmet");
+    }
+
+    #[test]
+    fn lifepo4_takes_no_charge_below_its_cut_off_air_temperature() {
+        // Source: from memory (LiFePO4 cells must not be charged below 0 °C; method-battery.md):
+        // at −1 °C air the 100 Wh surplus is turned away, at +1 °C it is taken; lead-acid has
+        // no cut-off and charges at −10 °C.
+        let l = spec(params(Chemistry::LiFePo4, 100.0, 12.8));
+        let mut s = l.initial_state();
+        let cold = l.step_at(&mut s, 100.0, 0.0, 1.0, -1.0);
+        assert_eq!(cold.to_battery_wh, 0.0);
+        close(
+            cold.curtailed_wh,
+            100.0,
+            ROUNDING_WH,
+            "curtailed in the cold",
+        );
+        close(
+            cold.cold_blocked_wh,
+            100.0,
+            ROUNDING_WH,
+            "blocked by the cut-off",
+        );
+        let warm = l.step_at(&mut s, 100.0, 0.0, 1.0, 1.0);
+        close(warm.to_battery_wh, 100.0, ROUNDING_WH, "taken at +1 °C");
+        assert_eq!(warm.cold_blocked_wh, 0.0);
+        // Discharge goes on in the cold.
+        let f = l.step_at(&mut s, 0.0, 50.0, 1.0, -15.0);
+        close(
+            f.from_battery_wh,
+            50.0,
+            ROUNDING_WH,
+            "discharge in the cold",
+        );
+        let a = spec(params(Chemistry::LeadAcid, 100.0, 12.0));
+        let mut s = a.initial_state();
+        let f = a.step_at(&mut s, 100.0, 0.0, 1.0, -10.0);
+        close(f.to_battery_wh, 100.0, ROUNDING_WH, "lead-acid in the cold");
+        // A settable cut-off: a heated LiFePO4 battery charged down to −10 °C.
+        let mut p = params(Chemistry::LiFePo4, 100.0, 12.8);
+        p.min_charge_air_c = Some(-10.0);
+        let h = spec(p);
+        let mut s = h.initial_state();
+        assert!(h.step_at(&mut s, 100.0, 0.0, 1.0, -5.0).to_battery_wh > 0.0);
+        // Out of range is an error naming the field.
+        p.min_charge_air_c = Some(40.0);
+        assert!(BatterySpec::new(p)
+            .unwrap_err()
+            .starts_with("min_charge_air_c"));
+        p.min_charge_air_c = None;
+        p.max_discharge_rate_c = 0.0;
+        assert!(BatterySpec::new(p)
+            .unwrap_err()
+            .starts_with("max_discharge_rate_c"));
+    }
+
+    #[test]
+    fn a_series_with_air_temperatures_applies_the_cut_off() {
+        // Source: definition — the same days on a cold and on a warm series: with 100 Wh an
+        // hour from 10:00 to 14:00 and 20 Wh an hour of load, the warm battery charges every
+        // day, the cold one never does and goes short.
+        let hour: Vec<u32> = (0..96).map(|k| k % 24).collect();
+        let harvest: Vec<f64> = hour
+            .iter()
+            .map(|&h| if (10..14).contains(&h) { 100.0 } else { 0.0 })
+            .collect();
+        let month = [1; 96];
+        let weekend = [false; 96];
+        let cold = [-5.0; 96];
+        let warm = [5.0; 96];
+        let base = Series::new(&harvest, &month, &hour, &weekend, 1.0).unwrap();
+        let l = spec(params(Chemistry::LiFePo4, 20.0, 12.8));
+        let load = LoadProfile::every_month([20.0; 24], None).unwrap();
+        let (fc, _) = run_series(&l, &load, &base.with_air_c(&cold).unwrap());
+        let (fw, _) = run_series(&l, &load, &base.with_air_c(&warm).unwrap());
+        assert!(fc.iter().all(|f| f.to_battery_wh == 0.0));
+        assert!(fc.iter().map(|f| f.cold_blocked_wh).sum::<f64>() > 0.0);
+        assert!(fw.iter().any(|f| f.to_battery_wh > 0.0));
+        let unmet = |fs: &[Flows]| fs.iter().map(|f| f.unmet_wh).sum::<f64>();
+        assert!(unmet(&fc) > unmet(&fw), "{} vs {}", unmet(&fc), unmet(&fw));
+        assert!(base.with_air_c(&cold[..3]).is_err());
+    }
+
+    #[test]
+    fn sizing_constraints_worked_by_hand() {
+        // Source: worked by hand. Autonomy: 3 days × 586 Wh / (12 V × 0.5 × √0.8) =
+        // 1758 / 5.366563 = 327.58 Ah. Charge rate: 40 A / 0.2 C = 200 Ah. Discharge rate:
+        // 255 W / (12 V × 0.2 C) = 106.25 Ah.
+        let p = params(Chemistry::LeadAcid, 100.0, 12.0);
+        close(
+            autonomy_capacity_ah(&p, 3.0, 586.0),
+            327.58,
+            0.01,
+            "autonomy",
+        );
+        close(
+            charge_rate_capacity_ah(&p, 40.0),
+            200.0,
+            1e-9,
+            "charge rate",
+        );
+        close(
+            discharge_rate_capacity_ah(&p, 255.0),
+            106.25,
+            1e-9,
+            "discharge rate",
+        );
+        // The heaviest day and the highest hour of a profile with a heavier weekend
+        // (weekday 24 × 10 = 240 Wh, weekend 23 × 10 + 100 = 330 Wh).
+        let mut weekend = [10.0; 24];
+        weekend[12] = 100.0;
+        let load = LoadProfile::every_month([10.0; 24], Some(weekend)).unwrap();
+        close(load.heaviest_day_wh(), 330.0, 1e-9, "heaviest day");
+        close(load.peak_hour_w(), 100.0, 1e-9, "highest hour");
     }
 }

@@ -17,6 +17,31 @@ pub enum TrackerMode {
     Local,
 }
 
+/// Output current reduced above an ambient temperature (the controller's temperature
+/// derating), linear: factor = 1 − `frac_per_k` · (T_air − `from_air_c`), between 0 and 1.
+///
+/// # Source
+/// Common practice, no source: small controllers that publish a derating give full output
+/// up to a stated ambient and less above it; a straight line is this model's reading.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct OutputDerating {
+    /// Ambient (air) temperature above which the output current is reduced, °C.
+    pub from_air_c: f64,
+    /// Reduction per kelvin above it, fraction of the rated output current.
+    pub frac_per_k: f64,
+}
+
+impl OutputDerating {
+    /// The fraction of the rated output current allowed at an air temperature (1 at or
+    /// below `from_air_c`, never below 0; a NaN temperature counts as no derating).
+    pub fn factor(&self, air_c: f64) -> f64 {
+        if air_c.is_nan() || air_c <= self.from_air_c {
+            return 1.0;
+        }
+        (1.0 - self.frac_per_k * (air_c - self.from_air_c)).clamp(0.0, 1.0)
+    }
+}
+
 /// The controller's electrical behaviour, validated.
 #[derive(Clone, Debug, PartialEq)]
 pub enum ControllerModel {
@@ -29,13 +54,20 @@ pub enum ControllerModel {
         tracking: TrackerMode,
         start_offset_v: f64,
         stop_offset_v: f64,
+        /// The most current the controller draws from the array: above it the controller
+        /// moves its point toward open circuit (a simulated limit, the input-limit step).
         max_input_a: f64,
         max_charge_a: f64,
+        /// Output current derating above an ambient temperature (`None`: off).
+        derating: Option<OutputDerating>,
     },
     Pwm {
         switch_drop_v: f64,
+        /// The rated current the switch passes from the array (a simulated limit).
         max_input_a: f64,
         max_charge_a: f64,
+        /// Output current derating above an ambient temperature (`None`: off).
+        derating: Option<OutputDerating>,
     },
 }
 
@@ -59,6 +91,19 @@ pub struct ControllerPowers {
     pub voltage_v: f64,
     /// Awake at the evaluation point.
     pub awake: bool,
+    /// The part of `available_w − after_window_w` lost because the array's maximum lay
+    /// below the MPPT window's lower edge (MPPT only).
+    pub below_window_w: f64,
+    /// The same, because the maximum lay above the window's upper edge (MPPT only).
+    pub above_window_w: f64,
+    /// PWM: `available_w − after_window_w`, the array held at battery voltage.
+    pub clamp_w: f64,
+    /// The part of the clipping (`after_input_limit_w − input_w`) caused by the output
+    /// derating at the interval's air temperature.
+    pub derated_w: f64,
+    /// Array current at the point the controller tracked before its input limit, A (0
+    /// when asleep).
+    pub tracked_a: f64,
 }
 
 /// Linear interpolation of an efficiency curve at an output fraction; flat beyond its ends.
@@ -163,12 +208,12 @@ impl ControllerModel {
         other
     }
 
-    /// Input current rating, A.
     /// True for a PWM controller (the array switched straight onto the battery).
     pub fn is_pwm(&self) -> bool {
         matches!(self, ControllerModel::Pwm { .. })
     }
 
+    /// The most current the controller draws from the array, A (a simulated limit).
     pub fn max_input_a(&self) -> f64 {
         match self {
             ControllerModel::Mppt { max_input_a, .. }
@@ -182,6 +227,20 @@ impl ControllerModel {
             ControllerModel::Mppt { max_charge_a, .. }
             | ControllerModel::Pwm { max_charge_a, .. } => *max_charge_a,
         }
+    }
+
+    /// Output current derating above an ambient temperature, when the plan gives one.
+    pub fn derating(&self) -> Option<OutputDerating> {
+        match self {
+            ControllerModel::Mppt { derating, .. } | ControllerModel::Pwm { derating, .. } => {
+                *derating
+            }
+        }
+    }
+
+    /// Output (charge) current limit at an air temperature, A (the derating applied).
+    pub fn max_charge_a_at(&self, air_c: f64) -> f64 {
+        self.max_charge_a() * self.derating().map_or(1.0, |d| d.factor(air_c))
     }
 
     /// "mppt" or "pwm".
@@ -215,14 +274,16 @@ impl ControllerModel {
     /// One interval: where the controller operates and what each limit costs.
     ///
     /// `awake` is the wake/sleep state carried from the previous interval and is updated.
-    /// `battery_v` is the battery's charging voltage.
+    /// `battery_v` is the battery's charging voltage, `air_c` the interval's air temperature
+    /// (used only by an output derating).
     ///
     /// # Formula
     /// MPPT: wakes when Voc_terminal > V_bat + start offset; works in
     /// [max(mppt_min, V_bat + headroom), mppt_max]; sleeps when the operating voltage falls
     /// below V_bat + stop offset; I ≤ input limit moves the point toward open circuit; output
-    /// η·P_in ≤ max_charge_a · V_bat clips likewise. PWM: V_terminal = V_bat + switch drop,
-    /// I ≤ min(input, charge rating), delivered V_bat · I.
+    /// η·P_in ≤ I_charge(T_air) · V_bat clips likewise, I_charge(T_air) = max_charge_a ·
+    /// derating factor. PWM: V_terminal = V_bat + switch drop, I ≤ input rating (input
+    /// limit), then I ≤ I_charge(T_air) (clipping), delivered V_bat · I.
     ///
     /// # Source
     /// notebooks-free-docs/method-controller.md (behaviour common to small charge controllers; no single published source).
@@ -230,6 +291,7 @@ impl ControllerModel {
         &self,
         curve: &ArrayCurve,
         battery_v: f64,
+        air_c: f64,
         awake: &mut bool,
     ) -> ControllerPowers {
         let voc = curve.voc_v();
@@ -243,6 +305,7 @@ impl ControllerModel {
             available_v,
             ..ControllerPowers::default()
         };
+        let charge_a = self.max_charge_a_at(air_c);
         match self {
             ControllerModel::Mppt {
                 mppt_min_v,
@@ -254,6 +317,7 @@ impl ControllerModel {
                 stop_offset_v,
                 max_input_a,
                 max_charge_a,
+                ..
             } => {
                 if !*awake && voc > battery_v + start_offset_v {
                     *awake = true;
@@ -268,14 +332,25 @@ impl ControllerModel {
                     TrackerMode::Local => first_from_top(curve, lo, hi),
                 };
                 let (p_window, v_window) = if hi > lo { pick(lo, hi) } else { (0.0, 0.0) };
+                // What the window cost, by where the array's maximum lay.
+                let window_cause = |out: &mut ControllerPowers, lost: f64| {
+                    if available_v < lo {
+                        out.below_window_w = lost;
+                    } else if available_v > *mppt_max_v {
+                        out.above_window_w = lost;
+                    }
+                };
                 if p_window <= 0.0 || v_window < battery_v + stop_offset_v {
                     *awake = false;
+                    window_cause(&mut out, available);
                     return out;
                 }
                 out.awake = true;
                 out.after_window_w = p_window;
+                window_cause(&mut out, available - p_window);
                 // Input current limit: only voltages where I ≤ limit are allowed.
-                let (p_lim, v_lim) = if curve.current_at(v_window) > *max_input_a {
+                out.tracked_a = curve.current_at(v_window).max(0.0);
+                let (p_lim, v_lim) = if out.tracked_a > *max_input_a {
                     let v_min = voltage_at_current(curve, *max_input_a).max(lo);
                     pick(v_min, hi)
                 } else {
@@ -283,13 +358,18 @@ impl ControllerModel {
                 };
                 out.after_input_limit_w = p_lim;
                 out.voltage_v = v_lim;
-                // Output clipping: the rated output caps η·P_in.
-                let p_rated = max_charge_a * battery_v;
-                let mut p_in = p_lim;
-                let mut p_out = output_for_input(efficiency_curve, p_in, p_rated);
-                if p_out > p_rated {
-                    p_out = p_rated;
-                    p_in = p_rated / efficiency_at(efficiency_curve, 1.0);
+                // Output clipping: the rated output (derated in heat) caps η·P_in.
+                let clip = |rated_a: f64| -> (f64, f64) {
+                    let p_rated = rated_a * battery_v;
+                    let p_out = output_for_input(efficiency_curve, p_lim, p_rated);
+                    if p_out > p_rated {
+                        (p_rated / efficiency_at(efficiency_curve, 1.0), p_rated)
+                    } else {
+                        (p_lim, p_out)
+                    }
+                };
+                let (p_in, p_out) = clip(charge_a);
+                if p_in < p_lim {
                     // The point moves toward open circuit: find that voltage.
                     let (mut a, mut b) = (v_lim, hi);
                     for _ in 0..50 {
@@ -301,6 +381,9 @@ impl ControllerModel {
                         }
                     }
                     out.voltage_v = b;
+                    if charge_a < *max_charge_a {
+                        out.derated_w = (clip(*max_charge_a).0 - p_in).max(0.0);
+                    }
                 }
                 out.input_w = p_in;
                 out.output_w = p_out;
@@ -310,6 +393,7 @@ impl ControllerModel {
                 switch_drop_v,
                 max_input_a,
                 max_charge_a,
+                ..
             } => {
                 let v_t = battery_v + switch_drop_v;
                 let i = curve.current_at(v_t).max(0.0);
@@ -320,11 +404,17 @@ impl ControllerModel {
                 *awake = true;
                 out.awake = true;
                 out.voltage_v = v_t;
+                out.tracked_a = i;
                 out.after_window_w = v_t * i;
-                let i_lim = i.min(max_input_a.min(*max_charge_a));
-                out.after_input_limit_w = v_t * i_lim;
-                out.input_w = v_t * i_lim;
-                out.output_w = battery_v * i_lim;
+                out.clamp_w = available - out.after_window_w;
+                let i_in = i.min(*max_input_a);
+                out.after_input_limit_w = v_t * i_in;
+                let i_out = i_in.min(charge_a);
+                if charge_a < *max_charge_a {
+                    out.derated_w = v_t * (i_in.min(*max_charge_a) - i_out);
+                }
+                out.input_w = v_t * i_out;
+                out.output_w = battery_v * i_out;
                 out
             }
         }
@@ -385,6 +475,7 @@ mod tests {
             stop_offset_v: 1.0,
             max_input_a,
             max_charge_a,
+            derating: None,
         }
     }
 
@@ -397,12 +488,12 @@ mod tests {
         let ctl = mppt(30.0, 20.0);
         let mut awake = false;
         for _ in 0..24 {
-            let p = ctl.operate(&c, 27.2, &mut awake);
+            let p = ctl.operate(&c, 27.2, 25.0, &mut awake);
             assert!(!awake && !p.awake);
             assert_eq!(p.output_w, 0.0);
         }
         // The same module wakes a 12 V system (13.6 + 5 = 18.6 V < Voc).
-        let p = ctl.operate(&c, 13.6, &mut awake);
+        let p = ctl.operate(&c, 13.6, 25.0, &mut awake);
         assert!(awake && p.output_w > 0.0);
     }
 
@@ -412,7 +503,7 @@ mod tests {
         let c = curve(2, 3, 1000.0, 0.0);
         let ctl = mppt(50.0, 10.0);
         let mut awake = true;
-        let p = ctl.operate(&c, 13.6, &mut awake);
+        let p = ctl.operate(&c, 13.6, 25.0, &mut awake);
         assert!(p.output_w <= 10.0 * 13.6 + 1e-9, "{}", p.output_w);
         assert!(
             p.input_w < p.after_input_limit_w,
@@ -428,7 +519,7 @@ mod tests {
         let c = curve(1, 4, 1000.0, 0.0);
         let ctl = mppt(20.0, 100.0);
         let mut awake = true;
-        let p = ctl.operate(&c, 13.6, &mut awake);
+        let p = ctl.operate(&c, 13.6, 25.0, &mut awake);
         assert!(c.current_at(p.voltage_v) <= 20.0 + 1e-6);
         assert!(p.after_input_limit_w < p.after_window_w);
     }
@@ -457,11 +548,12 @@ mod tests {
             switch_drop_v: 0.2,
             max_input_a: 30.0,
             max_charge_a: 30.0,
+            derating: None,
         };
         let mut last = 0.0;
         for v_bat in [11.0, 12.0, 13.0, 14.0, 15.0] {
             let mut awake = false;
-            let p = ctl.operate(&c, v_bat, &mut awake).output_w;
+            let p = ctl.operate(&c, v_bat, 25.0, &mut awake).output_w;
             assert!(p > last, "{v_bat} V: {p} W after {last} W");
             last = p;
         }
@@ -475,9 +567,10 @@ mod tests {
             switch_drop_v: 0.2,
             max_input_a: 30.0,
             max_charge_a: 30.0,
+            derating: None,
         };
         let mut awake = false;
-        let p = ctl.operate(&c, 13.6, &mut awake);
+        let p = ctl.operate(&c, 13.6, 25.0, &mut awake);
         assert!((p.voltage_v - 13.8).abs() < 1e-12);
         let i = c.current_at(13.8);
         assert!((p.output_w - 13.6 * i).abs() < 1e-9);
@@ -500,5 +593,120 @@ mod tests {
         let p_out = output_for_input(&c, 500.0, 1000.0);
         let eta = efficiency_at(&c, p_out / 1000.0);
         assert!((p_out - 500.0 * eta).abs() < 1e-6);
+    }
+    #[test]
+    fn derating_factor_is_linear_above_its_temperature_and_clamped() {
+        // Source: worked by hand from the definition: 1 − 0.02 × (50 − 40) = 0.8.
+        let d = OutputDerating {
+            from_air_c: 40.0,
+            frac_per_k: 0.02,
+        };
+        assert_eq!(d.factor(25.0), 1.0);
+        assert_eq!(d.factor(40.0), 1.0);
+        assert!((d.factor(50.0) - 0.8).abs() < 1e-12);
+        assert_eq!(d.factor(100.0), 0.0);
+        assert_eq!(d.factor(f64::NAN), 1.0);
+    }
+
+    #[test]
+    fn mppt_output_derated_in_heat_and_the_part_it_cost_is_booked() {
+        // Source: worked by hand: 10 A rated output derated to 0.8 × 10 = 8 A at 50 °C air
+        // (from 40 °C, 2 %/K), so the output is at most 8 A × 13.6 V = 108.8 W.
+        let c = curve(2, 3, 1000.0, 0.0);
+        let plain = mppt(50.0, 10.0);
+        let mut derated = plain.clone();
+        if let ControllerModel::Mppt { derating, .. } = &mut derated {
+            *derating = Some(OutputDerating {
+                from_air_c: 40.0,
+                frac_per_k: 0.02,
+            });
+        }
+        let (mut a, mut b) = (true, true);
+        let hot = derated.operate(&c, 13.6, 50.0, &mut a);
+        let cool = plain.operate(&c, 13.6, 50.0, &mut b);
+        assert!((hot.output_w - 108.8).abs() < 1e-9, "{}", hot.output_w);
+        assert!((cool.output_w - 136.0).abs() < 1e-9, "{}", cool.output_w);
+        // The derating's part of the clipping is the input power the cool controller drew
+        // and the hot one did not.
+        assert!((hot.derated_w - (cool.input_w - hot.input_w)).abs() < 1e-9);
+        assert_eq!(cool.derated_w, 0.0);
+        // At or below its temperature the derating changes nothing, bit for bit.
+        let (mut a, mut b) = (true, true);
+        assert_eq!(
+            derated.operate(&c, 13.6, 40.0, &mut a),
+            plain.operate(&c, 13.6, 40.0, &mut b)
+        );
+    }
+
+    #[test]
+    fn pwm_charge_limit_and_derating_are_clipping_after_the_input_limit() {
+        // Source: worked by hand: 4 strings of one module give about 4 × 7 A = 28 A at the
+        // clamp; rated 30 A in, 30 A out derated by 20 % (50 °C, 2 %/K above 40 °C) to 24 A:
+        // delivered 24 A × 13.6 V = 326.4 W; the 4 A above 24 A at 13.8 V are the derating.
+        let c = curve(1, 4, 1000.0, 0.0);
+        let ctl = ControllerModel::Pwm {
+            switch_drop_v: 0.2,
+            max_input_a: 30.0,
+            max_charge_a: 30.0,
+            derating: Some(OutputDerating {
+                from_air_c: 40.0,
+                frac_per_k: 0.02,
+            }),
+        };
+        let mut awake = false;
+        let p = ctl.operate(&c, 13.6, 50.0, &mut awake);
+        let i = c.current_at(13.8);
+        assert!(i > 24.0 && i < 30.0, "{i}");
+        assert!((p.output_w - 326.4).abs() < 1e-9, "{}", p.output_w);
+        assert!((p.after_input_limit_w - 13.8 * i).abs() < 1e-9);
+        assert!((p.derated_w - 13.8 * (i - 24.0)).abs() < 1e-9);
+        assert!((p.tracked_a - i).abs() < 1e-12);
+        assert!((p.clamp_w - (p.available_w - p.after_window_w)).abs() < 1e-12);
+    }
+
+    #[test]
+    fn window_loss_is_split_by_where_the_maximum_lay() {
+        // Source: definition (method-controller.md): one 36-cell module at 1000 W/m² and
+        // 25 °C has its maximum near 18 V; a window from 19.5 V leaves it below, a window up
+        // to 16 V leaves it above; inside the window nothing is booked to either edge.
+        let c = curve(1, 1, 1000.0, 0.0);
+        let window = |lo: f64, hi: f64| ControllerModel::Mppt {
+            mppt_min_v: lo,
+            mppt_max_v: hi,
+            headroom_v: 1.0,
+            efficiency_curve: vec![(0.0, 0.96), (1.0, 0.96)],
+            tracking: TrackerMode::Global,
+            start_offset_v: 5.0,
+            stop_offset_v: 1.0,
+            max_input_a: 30.0,
+            max_charge_a: 30.0,
+            derating: None,
+        };
+        let mut awake = true;
+        let below = window(19.5, 95.0).operate(&c, 12.0, 25.0, &mut awake);
+        assert!(below.below_window_w > 0.0 && below.above_window_w == 0.0);
+        assert!((below.below_window_w - (below.available_w - below.after_window_w)).abs() < 1e-12);
+        let mut awake = true;
+        let above = window(13.5, 16.0).operate(&c, 12.0, 25.0, &mut awake);
+        assert!(above.above_window_w > 0.0 && above.below_window_w == 0.0);
+        assert!((above.above_window_w - (above.available_w - above.after_window_w)).abs() < 1e-12);
+        let mut awake = true;
+        let inside = window(13.5, 95.0).operate(&c, 12.0, 25.0, &mut awake);
+        assert_eq!((inside.below_window_w, inside.above_window_w), (0.0, 0.0));
+    }
+
+    #[test]
+    fn tracked_current_shows_whether_the_input_limit_binds() {
+        // Source: definition: the limit binds exactly when the current at the tracked maximum
+        // exceeds it (method-controller.md), and the final point then carries at most the limit.
+        let c = curve(1, 4, 1000.0, 0.0);
+        let mut awake = true;
+        let free = mppt(40.0, 100.0).operate(&c, 13.6, 25.0, &mut awake);
+        assert!(free.tracked_a < 40.0 && free.after_input_limit_w == free.after_window_w);
+        let mut awake = true;
+        let bound = mppt(20.0, 100.0).operate(&c, 13.6, 25.0, &mut awake);
+        assert!((bound.tracked_a - free.tracked_a).abs() < 1e-12);
+        assert!(bound.tracked_a > 20.0 && bound.after_input_limit_w < bound.after_window_w);
+        assert!(c.current_at(bound.voltage_v) <= 20.0 + 1e-6);
     }
 }

@@ -113,6 +113,63 @@ pub struct LayoutEnergy {
     pub hourly: Vec<HourRow>,
     /// Delivered per calendar year of the weather file: (year, hours covered, Wh).
     pub yearly: Vec<(i32, f64, f64)>,
+    /// Per controller input of the layout (in its order): its own share of the loss steps
+    /// the limit warnings are priced with.
+    pub inputs: Vec<InputLosses>,
+    /// The highest charge current the controllers offered in one interval (their summed
+    /// output power / the battery's charging voltage), A.
+    pub peak_charge_a: f64,
+    /// With a battery model: harvest turned away because the air was below the battery's
+    /// charging cut-off (part of the curtailed step), Wh.
+    pub cold_blocked_wh: [f64; 12],
+    /// With a load: load the battery held but could not give within its discharge rate
+    /// (part of `unmet_wh`), Wh.
+    pub rate_unmet_wh: [f64; 12],
+}
+
+/// One controller input's own share of some loss steps over the run, Wh (the limit warnings
+/// say what their condition cost from these).
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct InputLosses {
+    /// Window and start-up step: the array's maximum lay below the MPPT window.
+    pub below_window_wh: f64,
+    /// Window and start-up step: the array's maximum lay above the MPPT window.
+    pub above_window_wh: f64,
+    /// Window and start-up step on a PWM input: the array held at battery voltage.
+    pub pwm_clamp_wh: f64,
+    /// Input-limit step: current above what the controller draws.
+    pub input_limit_wh: f64,
+    /// Clipping step: the output current reduced by the controller's temperature derating.
+    pub derating_wh: f64,
+    /// Cables step: this input's string leads and main run.
+    pub cables_wh: f64,
+    /// The highest array current at the point the controller tracked, before its input
+    /// limit, A.
+    pub highest_tracked_a: f64,
+}
+
+impl LayoutEnergy {
+    /// Books one controller input's interval (`wh` hours long): its controller's powers and
+    /// its cables' Joule loss, W.
+    pub fn book_input(
+        &mut self,
+        input: usize,
+        p: &crate::physics::controller::ControllerPowers,
+        cables_w: f64,
+        wh: f64,
+    ) {
+        if self.inputs.len() <= input {
+            self.inputs.resize(input + 1, InputLosses::default());
+        }
+        let x = &mut self.inputs[input];
+        x.below_window_wh += p.below_window_w * wh;
+        x.above_window_wh += p.above_window_w * wh;
+        x.pwm_clamp_wh += p.clamp_w * wh;
+        x.input_limit_wh += (p.after_window_w - p.after_input_limit_w) * wh;
+        x.derating_wh += p.derated_w * wh;
+        x.cables_wh += cables_w * wh;
+        x.highest_tracked_a = x.highest_tracked_a.max(p.tracked_a);
+    }
 }
 
 impl LayoutEnergy {
@@ -174,6 +231,20 @@ impl LayoutEnergy {
         scale(&mut self.awake_h);
         scale(&mut self.other_tracking_wh);
         scale(&mut self.unmet_days_mean);
+        scale(&mut self.cold_blocked_wh);
+        scale(&mut self.rate_unmet_wh);
+        for x in &mut self.inputs {
+            for v in [
+                &mut x.below_window_wh,
+                &mut x.above_window_wh,
+                &mut x.pwm_clamp_wh,
+                &mut x.input_limit_wh,
+                &mut x.derating_wh,
+                &mut x.cables_wh,
+            ] {
+                *v *= factor;
+            }
+        }
     }
 
     pub fn annual_delivered_kwh(&self) -> f64 {

@@ -195,7 +195,9 @@ fn simulate_layout_with(
                     &scratch.array
                 };
                 let was_awake = awake[wi];
-                let p = c.model.operate(array, battery_v, &mut awake[wi]);
+                let p = c
+                    .model
+                    .operate(array, battery_v, info.air_temp_c, &mut awake[wi]);
                 if c.model.is_pwm() {
                     e.pwm_clamp_wh[m] += (p.available_w - p.after_window_w) * wh;
                 }
@@ -208,7 +210,12 @@ fn simulate_layout_with(
                     other_awake[wi] = awake[wi];
                     p
                 } else {
-                    other_models[wi].operate(array, battery_v, &mut other_awake[wi])
+                    other_models[wi].operate(
+                        array,
+                        battery_v,
+                        info.air_temp_c,
+                        &mut other_awake[wi],
+                    )
                 };
                 e.other_tracking_wh[m] += alt.output_w * wh;
                 let joule_w = if reuse {
@@ -221,11 +228,13 @@ fn simulate_layout_with(
                     kept_cable_w.push(joule_w);
                 }
                 cable_w += joule_w;
+                e.book_input(wi, &p, joule_w, wh);
                 any_awake |= p.awake;
                 sum(&mut powers, &p);
             }
             sunlit += 1;
             book_controllers(&mut e, m, wh, &powers, sub_mpp_sum, cable_w);
+            e.peak_charge_a = e.peak_charge_a.max(powers.output_w / battery_v);
             year_add(&mut e.yearly, info.year, 0.0, powers.output_w * wh);
             if any_awake {
                 e.awake_h[m] += wh;
@@ -369,7 +378,9 @@ fn settle(
     let load_wh = load.map_or(0.0, |l| {
         l.wh_at(info.month, info.hour, info.weekend, info.hours)
     });
-    let f = spec.step(st, harvest_wh, load_wh, info.hours);
+    let f = spec.step_at(st, harvest_wh, load_wh, info.hours, info.air_temp_c);
+    e.cold_blocked_wh[m] += f.cold_blocked_wh;
+    e.rate_unmet_wh[m] += f.rate_unmet_wh;
     if f.curtailed_wh > 0.0 {
         if let Some(row) = e.hourly.last_mut() {
             row.delivered_w -= (f.curtailed_wh / info.hours) as f32;

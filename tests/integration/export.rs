@@ -318,7 +318,8 @@ fn summary_lists_rejected_layouts_with_reasons_and_carries_the_cautions() {
     );
     let n_rejected = status.iter().filter(|x| *x == "rejected").count();
     // Source: the demo plan (weather-samples/larchwood-plan.toml): its 4s2p string is too
-    // long for a cold morning and 1s8p breaks two limits; the terminal table lists both.
+    // long for a cold morning and 1s8p's short-circuit current is above what the controller
+    // withstands (its hot Vmp below the window only warns); the terminal table lists both.
     assert_eq!(n_rejected, 2);
     let mut next_rank = 1.0;
     for i in 0..s.height() {
@@ -338,9 +339,15 @@ fn summary_lists_rejected_layouts_with_reasons_and_carries_the_cautions() {
         }
     }
     assert!(reasons.iter().any(|r| r.starts_with("cold-voc: ")));
+    assert!(reasons.iter().any(|r| r.starts_with("array-isc: ")));
+    let warnings = texts(&s, "warnings");
     assert!(
-        reasons.iter().any(|r| r.contains(" | ")),
-        "two reasons joined"
+        warnings.iter().any(|w| w.contains(" | ")),
+        "two warnings joined"
+    );
+    assert!(
+        (0..s.height()).any(|i| status[i] == "rejected" && warnings[i].starts_with("hot-vmp: ")),
+        "a rejected layout keeps its warnings in the file"
     );
     let cautions = texts(&s, "cautions");
     assert!(

@@ -7,5 +7,6 @@ mod enumerate;
 mod export;
 mod golden;
 mod invariants;
+mod limits;
 mod synth;
 mod weather;

@@ -5,7 +5,7 @@
 //! numbers and builds its parameters.
 
 use crate::error::PlanError;
-use crate::input::plan::{Battery, Consumption};
+use crate::input::plan::{Battery, Consumption, DEFAULT_AUTONOMY_DAYS};
 
 use super::ctx::Ctx;
 use super::raw::{RawBattery, RawLoad, S};
@@ -57,6 +57,9 @@ fn validate_battery(ctx: &Ctx, b: &RawBattery) -> Result<Battery, PlanError> {
         (&b.initial_soc_pct, "initial_soc_pct"),
         (&b.absorption_v, "absorption_v"),
         (&b.float_v, "float_v"),
+        (&b.max_charge_rate_c, "max_charge_rate_c"),
+        (&b.max_discharge_rate_c, "max_discharge_rate_c"),
+        (&b.min_charge_air_c, "min_charge_air_c"),
     ];
     let Some(cap) = &b.capacity_ah else {
         for (v, name) in model_keys {
@@ -119,6 +122,15 @@ fn validate_battery(ctx: &Ctx, b: &RawBattery) -> Result<Battery, PlanError> {
     }
     if let Some(v) = &b.float_v {
         p.float_v = ctx.above(v, "battery.float_v", 0.0, 100.0)?;
+    }
+    if let Some(v) = &b.max_charge_rate_c {
+        p.max_charge_rate_c = ctx.above(v, "battery.max_charge_rate_c", 0.0, 10.0)?;
+    }
+    if let Some(v) = &b.max_discharge_rate_c {
+        p.max_discharge_rate_c = ctx.above(v, "battery.max_discharge_rate_c", 0.0, 10.0)?;
+    }
+    if let Some(v) = &b.min_charge_air_c {
+        p.min_charge_air_c = Some(ctx.range(v, "battery.min_charge_air_c", -40.0, 25.0)?);
     }
     let spec =
         BatterySpec::new(p).map_err(|e| ctx.err(cap.span(), "battery", format!("battery.{e}")))?;
@@ -211,5 +223,12 @@ fn validate_load(ctx: &Ctx, l: &S<RawLoad>) -> Result<Consumption, PlanError> {
             1e6,
             0.0,
         )? * 1000.0,
+        autonomy_days: ctx.opt_range(
+            &r.autonomy_days,
+            "load.autonomy_days",
+            0.0,
+            30.0,
+            DEFAULT_AUTONOMY_DAYS,
+        )?,
     })
 }

@@ -7,8 +7,8 @@
 use std::collections::BTreeMap;
 
 use crate::error::PlanError;
-use crate::input::plan::{Battery, CableRun, ControllerInput};
-use crate::physics::controller::{ControllerModel, TrackerMode};
+use crate::input::plan::{Battery, CableRun, ControllerInput, CurrentAssumed};
+use crate::physics::controller::{ControllerModel, OutputDerating, TrackerMode};
 
 use super::cables::{conductor, cross_section};
 use super::ctx::Ctx;
@@ -40,9 +40,12 @@ pub(super) fn validate_controllers(
 struct InputLimits {
     max_input_v: f64,
     max_input_a: f64,
+    max_array_isc_a: f64,
+    current_assumed: Option<CurrentAssumed>,
     max_charge_a: f64,
     start_offset_v: f64,
     stop_offset_v: f64,
+    derating: Option<OutputDerating>,
 }
 
 fn validate_controller(
@@ -85,8 +88,83 @@ fn validate_controller(
         id: id.to_string(),
         model,
         max_input_v,
+        max_array_isc_a: limits.max_array_isc_a,
+        current_assumed: limits.current_assumed,
         main_run,
     })
+}
+
+/// The two input current ratings: the current the controller draws (`max_input_a`, a
+/// simulated limit) and the array short-circuit current it withstands (`max_array_isc_a`, a
+/// hard limit). At least one is needed; a missing one is taken from the other and the
+/// plan's controller says which (`CurrentAssumed`).
+fn current_ratings(
+    ctx: &Ctx,
+    id: &str,
+    c: &S<RawController>,
+) -> Result<(f64, f64, Option<CurrentAssumed>), PlanError> {
+    let k = |name: &str| format!("controller.{id}.{name}");
+    let r = c.get_ref();
+    let input = r
+        .max_input_a
+        .as_ref()
+        .map(|v| ctx.above(v, &k("max_input_a"), 0.0, 500.0))
+        .transpose()?;
+    let isc = r
+        .max_array_isc_a
+        .as_ref()
+        .map(|v| ctx.above(v, &k("max_array_isc_a"), 0.0, 500.0))
+        .transpose()?;
+    match (input, isc) {
+        (Some(i), Some(s)) if s < i => {
+            let span = r.max_array_isc_a.as_ref().map_or(c.span(), |v| v.span());
+            Err(ctx.err(
+                span,
+                &k("max_array_isc_a"),
+                format!(
+                    "{} = {s} is below max_input_a = {i}: a controller cannot use more current than the array short-circuit current it withstands; check the two figures on the datasheet",
+                    k("max_array_isc_a")
+                ),
+            ))
+        }
+        (Some(i), Some(s)) => Ok((i, s, None)),
+        (Some(i), None) => Ok((i, i, Some(CurrentAssumed::ArrayIscFromInput))),
+        (None, Some(s)) => Ok((s, s, Some(CurrentAssumed::InputFromArrayIsc))),
+        (None, None) => Err(ctx.err(
+            c.span(),
+            &k("max_input_a"),
+            format!(
+                "{} is missing: give max_input_a (the most current the controller draws from the array; for PWM its rated current) and, if the datasheet has it, max_array_isc_a (the array short-circuit current it withstands)",
+                k("max_input_a")
+            ),
+        )),
+    }
+}
+
+/// `output_derating_from_c` and `output_derating_pct_per_k`: both or neither (off).
+fn derating(
+    ctx: &Ctx,
+    id: &str,
+    c: &S<RawController>,
+) -> Result<Option<OutputDerating>, PlanError> {
+    let k = |name: &str| format!("controller.{id}.{name}");
+    let r = c.get_ref();
+    match (&r.output_derating_from_c, &r.output_derating_pct_per_k) {
+        (None, None) => Ok(None),
+        (Some(from), Some(pct)) => Ok(Some(OutputDerating {
+            from_air_c: ctx.range(from, &k("output_derating_from_c"), -40.0, 80.0)?,
+            frac_per_k: ctx.above(pct, &k("output_derating_pct_per_k"), 0.0, 100.0)? / 100.0,
+        })),
+        (Some(v), None) | (None, Some(v)) => Err(ctx.err(
+            v.span(),
+            &k("output_derating_from_c"),
+            format!(
+                "{} and {} go together: the air temperature above which the output current is reduced, and the reduction in % of max_charge_a per kelvin above it",
+                k("output_derating_from_c"),
+                k("output_derating_pct_per_k")
+            ),
+        )),
+    }
 }
 
 /// Input voltage and current, charge current, and the start/stop offsets (stop ≤ start).
@@ -94,7 +172,7 @@ fn input_limits(ctx: &Ctx, id: &str, c: &S<RawController>) -> Result<InputLimits
     let k = |name: &str| format!("controller.{id}.{name}");
     let r = c.get_ref();
     let max_input_v = ctx.above(&r.max_input_v, &k("max_input_v"), 0.0, 1500.0)?;
-    let max_input_a = ctx.above(&r.max_input_a, &k("max_input_a"), 0.0, 500.0)?;
+    let (max_input_a, max_array_isc_a, current_assumed) = current_ratings(ctx, id, c)?;
     let max_charge_a = ctx.above(&r.max_charge_a, &k("max_charge_a"), 0.0, 500.0)?;
     let start_offset_v = ctx.opt_range(&r.start_offset_v, &k("start_offset_v"), 0.0, 50.0, 5.0)?;
     let stop_offset_v = ctx.opt_range(&r.stop_offset_v, &k("stop_offset_v"), 0.0, 50.0, 1.0)?;
@@ -112,9 +190,12 @@ fn input_limits(ctx: &Ctx, id: &str, c: &S<RawController>) -> Result<InputLimits
     Ok(InputLimits {
         max_input_v,
         max_input_a,
+        max_array_isc_a,
+        current_assumed,
         max_charge_a,
         start_offset_v,
         stop_offset_v,
+        derating: derating(ctx, id, c)?,
     })
 }
 
@@ -153,6 +234,7 @@ fn mppt_model(
         stop_offset_v: limits.stop_offset_v,
         max_input_a: limits.max_input_a,
         max_charge_a: limits.max_charge_a,
+        derating: limits.derating,
     })
 }
 
@@ -260,6 +342,7 @@ fn pwm_model(
         switch_drop_v: ctx.opt_range(&r.switch_drop_v, &k("switch_drop_v"), 0.0, 5.0, 0.2)?,
         max_input_a: limits.max_input_a,
         max_charge_a: limits.max_charge_a,
+        derating: limits.derating,
     })
 }
 

@@ -147,8 +147,11 @@ pub(super) struct RawGroup {
 pub(super) struct RawController {
     pub(super) kind: S<String>,
     pub(super) max_input_v: S<f64>,
-    pub(super) max_input_a: S<f64>,
+    pub(super) max_input_a: Option<S<f64>>,
+    pub(super) max_array_isc_a: Option<S<f64>>,
     pub(super) max_charge_a: S<f64>,
+    pub(super) output_derating_from_c: Option<S<f64>>,
+    pub(super) output_derating_pct_per_k: Option<S<f64>>,
     pub(super) mppt_min_v: Option<S<f64>>,
     pub(super) mppt_max_v: Option<S<f64>>,
     pub(super) headroom_v: Option<S<f64>>,
@@ -176,6 +179,9 @@ pub(super) struct RawBattery {
     pub(super) initial_soc_pct: Option<S<f64>>,
     pub(super) absorption_v: Option<S<f64>>,
     pub(super) float_v: Option<S<f64>>,
+    pub(super) max_charge_rate_c: Option<S<f64>>,
+    pub(super) max_discharge_rate_c: Option<S<f64>>,
+    pub(super) min_charge_air_c: Option<S<f64>>,
 }
 
 #[derive(Deserialize)]
@@ -186,6 +192,7 @@ pub(super) struct RawLoad {
     pub(super) weekend_daily_wh: Option<S<Vec<f64>>>,
     pub(super) battery_step_ah: Option<S<f64>>,
     pub(super) unmet_target_kwh: Option<S<f64>>,
+    pub(super) autonomy_days: Option<S<f64>>,
 }
 
 #[derive(Deserialize)]
