@@ -632,8 +632,11 @@ fn hourly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
 
 fn thermal_text(m: &CellTemperatureModel) -> String {
     match *m {
-        CellTemperatureModel::Sandia { a, b, delta_t_dk } => {
-            format!("Sandia (King et al. 2004), a = {a}, b = {b} s/m, ΔT = {delta_t_dk} K")
+        CellTemperatureModel::King { a, b, delta_t_dk } => {
+            let set = m.king_set().map_or(String::new(), |(mounting, back)| {
+                format!(" ({} mounting, {} back)", mounting.key(), back.key())
+            });
+            format!("King et al. 2004{set}, a = {a}, b = {b} s/m, ΔT = {delta_t_dk} K")
         }
         CellTemperatureModel::Faiman { u0, u1 } => {
             format!("Faiman 2008, U0 = {u0} W/(m²·K), U1 = {u1} W·s/(m³·K)")

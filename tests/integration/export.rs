@@ -469,7 +469,7 @@ fn provenance_names_version_inputs_models_criterion_and_cautions() {
         "larchwood-2025.csv",
         "sky:             perez",
         "De Soto 2006",
-        "group roof: Sandia",
+        "group roof: King et al. 2004 (close-roof mounting, glass back)",
         "controller mppt: MPPT",
         "controller pwm: PWM",
         "ranking criterion: energy offered over the year",
