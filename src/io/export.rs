@@ -667,7 +667,7 @@ fn controller_text(m: &ControllerModel) -> String {
             tracking,
             ..
         } => format!(
-            "MPPT, {} tracking, window {mppt_min_v}..{mppt_max_v} V",
+            "MPPT, {} tracking, window {mppt_min_v} to {mppt_max_v} V",
             match tracking {
                 TrackerMode::Global => "global",
                 TrackerMode::Local => "local (first maximum from open circuit)",

@@ -749,7 +749,8 @@ fn an_old_thermal_value_runs_with_a_warning_giving_the_new_keys() {
 #[test]
 fn thermal_choices_outside_king_2004_are_refused_with_the_sets_it_gives() {
     let dir = tempfile::tempdir().expect("temporary folder");
-    let cases: [(&[(&str, &str)], &[&str]); 5] = [
+    type Edits<'a> = &'a [(&'a str, &'a str)];
+    let cases: [(Edits, &[&str]); 5] = [
         (
             // Source: King et al. 2004, Table 1 (no close-roof set with a polymer back).
             &[(TEMPLATE_MOUNTING, "mounting = \"close-roof\"")],

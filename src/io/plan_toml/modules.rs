@@ -202,7 +202,7 @@ fn check_datasheet(
         return Err(ctx.err(
             r.length_m.span(),
             &k("length_m"),
-            format!("module area {area:.3} m² gives an STC efficiency of {:.1} %, outside 2..30 %; check length_m and width_m", eff * 100.0),
+            format!("module area {area:.3} m² gives an STC efficiency of {:.1} %, outside 2 to 30 %; check length_m and width_m", eff * 100.0),
         ));
     }
     Ok(())
