@@ -12,7 +12,7 @@ use wirerank::design::rules;
 use wirerank::input::layout;
 use wirerank::physics::sky::{self, SkyModel, SkyState, Surface};
 use wirerank::physics::sun::{self, Atmosphere, Observer};
-use wirerank::physics::thermal::CellTemperatureModel;
+use wirerank::physics::thermal::{Back, CellTemperatureModel, Mounting};
 use wirerank::sim::{conditions, curves, year};
 
 fn one_orientation_year(c: &mut Criterion) {
@@ -31,7 +31,8 @@ fn one_orientation_year(c: &mut Criterion) {
     .prepare();
     let glass = sky::GlassCover::DE_SOTO_2006;
     let factors = sky::iam_factors(&glass, 40.0);
-    let thermal = CellTemperatureModel::SANDIA_GLASS_POLYMER_OPEN_RACK;
+    let thermal =
+        CellTemperatureModel::king(Mounting::OpenRack, Back::Polymer).expect("a King 2004 set");
     let p = sun::pressure_from_elevation_hpa(site.elevation_m);
     c.bench_function("sun+sky+temperature, one orientation, hourly year", |b| {
         b.iter(|| {

@@ -78,7 +78,7 @@ pub fn check(source: &PlanSource, show: CheckShow) -> Result<Outcome, Error> {
         stdout: io::terminal::check(&r, show),
         warnings: match &r.input {
             CheckInput::Loaded(l) => l.warning_texts(),
-            CheckInput::PlanOnly { .. } => Vec::new(),
+            CheckInput::PlanOnly { plan, .. } => plan.warnings.clone(),
         },
         nothing_passed: passed == 0,
     })

@@ -44,6 +44,7 @@ pub fn curve(r: &CurveRequest) -> Result<Outcome, Error> {
         )));
     }
     let mut out = String::new();
+    let mut warnings = Vec::new();
     if r.csv {
         out.push_str("curve,voltage_v,current_a,power_w\n");
     }
@@ -61,6 +62,7 @@ pub fn curve(r: &CurveRequest) -> Result<Outcome, Error> {
                 )?,
                 crate::commands::PlanSource::File(p) => crate::io::plan_toml::read_plan(p)?,
             };
+            warnings.extend(plan.warnings.iter().cloned());
             if !(0.0..=2000.0).contains(irradiance_w_m2) {
                 return Err(Error::Usage(format!(
                     "--irradiance-w-m2 = {irradiance_w_m2} is outside 0 to 2000"
@@ -114,6 +116,7 @@ pub fn curve(r: &CurveRequest) -> Result<Outcome, Error> {
         }
         CurveTarget::Layout { layout, at } => {
             let loaded = load(&r.plan)?;
+            warnings = loaded.warning_texts();
             let plan = &loaded.plan;
             let temps = design_temperatures(plan, &loaded.weather);
             let candidates = candidate_layouts(plan, &temps)?;
@@ -208,6 +211,7 @@ pub fn curve(r: &CurveRequest) -> Result<Outcome, Error> {
     }
     Ok(Outcome {
         stdout: out,
+        warnings,
         ..Outcome::default()
     })
 }

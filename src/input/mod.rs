@@ -24,12 +24,11 @@ pub struct Loaded {
 }
 
 impl Loaded {
-    /// The weather file's repair warnings, as text for stderr.
+    /// The plan's warnings (old spellings it accepted), then the weather file's repair
+    /// warnings, as text for stderr.
     pub fn warning_texts(&self) -> Vec<String> {
-        self.weather
-            .warnings
-            .iter()
-            .map(|w| w.to_string())
-            .collect()
+        let mut w = self.plan.warnings.clone();
+        w.extend(self.weather.warnings.iter().map(|w| w.to_string()));
+        w
     }
 }

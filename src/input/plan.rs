@@ -272,6 +272,9 @@ pub struct Plan {
     pub enumerate_all: bool,
     /// What enumeration may do (`[enumerate]`).
     pub enumerate: EnumerateOptions,
+    /// What the reader accepted but the user should change (an old spelling of a value),
+    /// each naming the file, line and key; printed on stderr as warnings.
+    pub warnings: Vec<String>,
 }
 
 impl ControllerInput {

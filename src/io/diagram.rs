@@ -29,15 +29,17 @@ const FUSE_W: i32 = 66;
 const CONTROLLER_W: i32 = 250;
 const BATTERY_W: i32 = 190;
 
-/// Soft fills for the orientation groups, in plan order (our own palette).
-const GROUP_FILLS: [RGBColor; 6] = [
-    RGBColor(222, 235, 247),
-    RGBColor(254, 230, 206),
-    RGBColor(229, 245, 224),
-    RGBColor(239, 237, 245),
-    RGBColor(255, 247, 188),
-    RGBColor(253, 224, 239),
-];
+/// Hue angles (degrees in the CIELAB a*b* plane) of the orientation groups' fills, in plan
+/// order: blue, orange, green, violet, yellow, rose. Our own picks, far apart in hue.
+const GROUP_HUES_DEG: [f64; 6] = [250.0, 60.0, 140.0, 300.0, 95.0, 0.0];
+
+/// The soft fill of orientation group `g` (plan order): every group at the same lightness
+/// (L* 91, light enough for black text) and chroma (12), only the hue differs, so that no
+/// group looks more important than another.
+fn group_fill(g: usize) -> RGBColor {
+    let h = GROUP_HUES_DEG[g % GROUP_HUES_DEG.len()].to_radians();
+    crate::io::colour::lab_to_srgb(91.0, 12.0 * h.cos(), 12.0 * h.sin()).0
+}
 const INK: RGBColor = RGBColor(40, 40, 48);
 const WIRE: RGBColor = RGBColor(70, 70, 80);
 const MUTED: RGBColor = RGBColor(95, 95, 110);
@@ -215,7 +217,7 @@ pub fn draw<DB: DrawingBackend>(
     // Legend of the groups.
     let mut lx = LEFT;
     for (g, name) in d.groups.iter().enumerate() {
-        let fill = GROUP_FILLS[g % GROUP_FILLS.len()];
+        let fill = group_fill(g);
         boxed(root, (lx, 42), (lx + 14, 54), fill, 1)?;
         root.draw(&text(
             &format!("group {name}"),
@@ -250,7 +252,7 @@ pub fn draw<DB: DrawingBackend>(
                 .map_err(err)?;
             let mut x = LEFT;
             for (k, (module, group)) in string.iter().enumerate() {
-                let fill = GROUP_FILLS[group % GROUP_FILLS.len()];
+                let fill = group_fill(*group);
                 let (a, b) = ((x, ym - MODULE_H / 2), (x + MODULE_W, ym + MODULE_H / 2));
                 boxed(root, a, b, fill, 1)?;
                 root.draw(&text(module, x + 6, ym - 8, font(13.0, false)))
@@ -362,4 +364,25 @@ pub fn draw<DB: DrawingBackend>(
     root.draw(&text(CAUTIONS_SHORT, LEFT, y + 20, font(12.0, false)))
         .map_err(err)?;
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn group_fills_are_light_in_gamut_and_distinct() {
+        // Source: common practice, no source (our design rule: fills light enough for black
+        // text, inside sRGB, and told apart by hue).
+        for (g, &h) in GROUP_HUES_DEG.iter().enumerate() {
+            let h = h.to_radians();
+            let (c, inside) = crate::io::colour::lab_to_srgb(91.0, 12.0 * h.cos(), 12.0 * h.sin());
+            assert!(inside, "group {g}: {c:?} outside sRGB");
+            let luma = 0.299 * c.0 as f64 + 0.587 * c.1 as f64 + 0.114 * c.2 as f64;
+            assert!(luma > 215.0, "group {g}: {c:?} too dark for black text");
+            for k in 0..g {
+                assert_ne!(group_fill(k), group_fill(g), "groups {k} and {g}");
+            }
+        }
+    }
 }

@@ -87,7 +87,14 @@ pub const SUMMARY_COLUMNS: [&str; 27] = [
     "cautions",
 ];
 /// Columns of losses.csv, in order.
-pub const LOSSES_COLUMNS: [&str; 5] = ["id", "layout", "step", "energy_kwh", "share_pct"];
+pub const LOSSES_COLUMNS: [&str; 6] = [
+    "id",
+    "layout",
+    "step",
+    "energy_kwh",
+    "share_pct",
+    "decided_by",
+];
 /// Columns of differences.csv, in order: each ranked layout's difference from the
 /// recommended one by cause (kWh a year; the causes add up to the delivered difference).
 pub const DIFFERENCES_COLUMNS: [&str; 4] = ["id", "layout", "cause", "difference_kwh"];
@@ -494,23 +501,27 @@ fn losses_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     let mut id = Vec::new();
     let (mut layout, mut step, mut energy) = (Vec::new(), Vec::new(), Vec::new());
     let mut share: Vec<Option<f64>> = Vec::new();
+    let mut decided_by: Vec<Option<&str>> = Vec::new();
     for o in ranked(r) {
         let Some(e) = &o.energy else { continue };
         let potential_kwh = e.potential_wh.iter().sum::<f64>() / 1000.0;
-        let mut rows: Vec<(&str, f64)> = vec![(POTENTIAL_STEP, potential_kwh)];
-        rows.extend(
-            Step::ALL
-                .iter()
-                .map(|&s| (s.key(), e.step_total_wh(s) / 1000.0)),
-        );
-        rows.push((DELIVERED_STEP, e.annual_delivered_kwh()));
-        for (s, kwh) in rows {
+        let mut rows: Vec<(&str, f64, Option<&str>)> = vec![(POTENTIAL_STEP, potential_kwh, None)];
+        rows.extend(Step::ALL.iter().map(|&s| {
+            (
+                s.key(),
+                e.step_total_wh(s) / 1000.0,
+                Some(s.decided_by().key()),
+            )
+        }));
+        rows.push((DELIVERED_STEP, e.annual_delivered_kwh(), None));
+        for (s, kwh, by) in rows {
             id.push(o.layout.id.clone());
             layout.push(safe_cell(&o.layout.display_name()));
             step.push(s);
             energy.push(kwh);
             // No share of nothing: a layout whose modules saw no light gets empty cells.
             share.push((potential_kwh > 0.0).then(|| 100.0 * kwh / potential_kwh));
+            decided_by.push(by);
         }
     }
     let c = &LOSSES_COLUMNS;
@@ -522,6 +533,7 @@ fn losses_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
             col(c[2], step),
             col(c[3], energy),
             col(c[4], share),
+            col(c[5], decided_by),
         ],
     )
 }
@@ -632,8 +644,11 @@ fn hourly_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
 
 fn thermal_text(m: &CellTemperatureModel) -> String {
     match *m {
-        CellTemperatureModel::Sandia { a, b, delta_t_dk } => {
-            format!("Sandia (King et al. 2004), a = {a}, b = {b} s/m, ΔT = {delta_t_dk} K")
+        CellTemperatureModel::King { a, b, delta_t_dk } => {
+            let set = m.king_set().map_or(String::new(), |(mounting, back)| {
+                format!(" ({} mounting, {} back)", mounting.key(), back.key())
+            });
+            format!("King et al. 2004{set}, a = {a}, b = {b} s/m, ΔT = {delta_t_dk} K")
         }
         CellTemperatureModel::Faiman { u0, u1 } => {
             format!("Faiman 2008, U0 = {u0} W/(m²·K), U1 = {u1} W·s/(m³·K)")
@@ -652,7 +667,7 @@ fn controller_text(m: &ControllerModel) -> String {
             tracking,
             ..
         } => format!(
-            "MPPT, {} tracking, window {mppt_min_v}..{mppt_max_v} V",
+            "MPPT, {} tracking, window {mppt_min_v} to {mppt_max_v} V",
             match tracking {
                 TrackerMode::Global => "global",
                 TrackerMode::Local => "local (first maximum from open circuit)",

@@ -4,6 +4,7 @@
 //! of the library. Nothing here simulates anything; nothing outside here opens a file.
 
 pub mod atomic;
+pub mod colour;
 pub mod diagram;
 pub mod export;
 pub mod json;

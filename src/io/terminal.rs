@@ -1019,10 +1019,15 @@ pub fn shade(r: &ShadeResult) -> String {
     let mut out = String::new();
     site_header(&mut out, &r.loaded);
     let g = &r.loaded.plan.geometry;
+    let count =
+        |n: usize, one: &str, many: &str| format!("{n} {}", if n == 1 { one } else { many });
+    let horizons = usize::from(g.site_horizon.is_some())
+        + g.group_horizon.iter().flatten().count()
+        + g.module_horizon.iter().flatten().count();
     let _ = writeln!(
         out,
-        "Shade: {} near obstacles{}, {} horizon profiles, {} schedule rules",
-        g.obstacles.len(),
+        "Shade: {}{}, {}, {}",
+        count(g.obstacles.len(), "near obstacle", "near obstacles"),
         if g.obstacles.is_empty() {
             String::new()
         } else {
@@ -1035,10 +1040,8 @@ pub fn shade(r: &ShadeResult) -> String {
                     .join(", ")
             )
         },
-        usize::from(g.site_horizon.is_some())
-            + g.group_horizon.iter().flatten().count()
-            + g.module_horizon.iter().flatten().count(),
-        r.loaded.plan.shade.len()
+        count(horizons, "horizon profile", "horizon profiles"),
+        count(r.loaded.plan.shade.len(), "schedule rule", "schedule rules")
     );
     let _ = writeln!(out);
     let _ = writeln!(

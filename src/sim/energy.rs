@@ -54,6 +54,50 @@ impl Step {
     }
 }
 
+/// Who decides a loss step: where the modules are (the site), how they are wired and into
+/// which controller (the wiring), or how much the battery can take (the battery).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum DecidedBy {
+    /// Angle of incidence, dirt and snow, shade, heat and weak light.
+    Site,
+    /// Mismatch, cables, the controller's start-up and window (a PWM clamp included), its
+    /// input-current limit, output clipping and conversion.
+    Wiring,
+    /// What a full battery turned away.
+    Battery,
+}
+
+impl DecidedBy {
+    pub const ALL: [DecidedBy; 3] = [DecidedBy::Site, DecidedBy::Wiring, DecidedBy::Battery];
+
+    /// Key used in CSV.
+    pub fn key(self) -> &'static str {
+        match self {
+            DecidedBy::Site => "site",
+            DecidedBy::Wiring => "wiring",
+            DecidedBy::Battery => "battery",
+        }
+    }
+}
+
+impl Step {
+    /// Who decides this step's loss.
+    pub fn decided_by(self) -> DecidedBy {
+        match self {
+            Step::Incidence | Step::Soiling | Step::Shading | Step::TemperatureLowLight => {
+                DecidedBy::Site
+            }
+            Step::Mismatch
+            | Step::Cables
+            | Step::WindowStartup
+            | Step::InputLimit
+            | Step::Clipping
+            | Step::Conversion => DecidedBy::Wiring,
+            Step::Curtailed => DecidedBy::Battery,
+        }
+    }
+}
+
 /// One value per loss step, indexed by [`Step`] (never by a bare number).
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct PerStep<T>([T; STEPS]);
@@ -74,7 +118,8 @@ impl<T> std::ops::IndexMut<Step> for PerStep<T> {
 /// One layout's energy over the run, month by month (January first), Wh.
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct LayoutEnergy {
-    /// Plane-of-array light on the wired modules × their STC efficiency (the DC potential).
+    /// Plane-of-array light on the wired modules × their STC efficiency: the sunlight on the
+    /// modules at datasheet efficiency, where the accounting starts.
     pub potential_wh: [f64; 12],
     /// Energy lost at each step (index = `Step::ALL` order). A negative value is a gain
     /// (cells colder than 25 °C).

@@ -1,5 +1,5 @@
 //! The interval loop, phase 2: for every layout, the array curve each controller input sees,
-//! where the controller operates, and where the energy goes.
+//! where the controller operates, and the energy balance (the loss steps).
 //!
 //! Substring curves depend only on (irradiance, cell temperature, module type), so each
 //! distinct one is computed once per interval and shared by every module and every layout

@@ -651,3 +651,145 @@ fn the_report_echoes_battery_values_as_written() {
         "{o}"
     );
 }
+
+/// The template's cell-temperature choice, as the template writes it.
+#[cfg(unix)]
+const TEMPLATE_THERMAL: &str = "thermal = \"king\"\n";
+#[cfg(unix)]
+const TEMPLATE_MOUNTING: &str = "mounting = \"open-rack\"";
+#[cfg(unix)]
+const TEMPLATE_BACK: &str = "back = \"polymer\"";
+
+/// A plan in the first format's single `thermal` value still runs, with a warning on stderr
+/// that names the file, line and key and gives the new keys; it ranks exactly as the new form.
+#[cfg(unix)]
+#[test]
+fn an_old_thermal_value_runs_with_a_warning_giving_the_new_keys() {
+    let dir = tempfile::tempdir().expect("temporary folder");
+    let old = template_plan_with(
+        dir.path(),
+        &[
+            (
+                TEMPLATE_THERMAL,
+                "thermal = \"sandia-close-roof-glass-glass\"\n",
+            ),
+            (TEMPLATE_MOUNTING, "# mounting"),
+            (TEMPLATE_BACK, "# back"),
+        ],
+    );
+    let line = 1 + std::fs::read_to_string(&old)
+        .expect("read")
+        .lines()
+        .position(|l| l.starts_with("thermal = "))
+        .expect("a thermal line");
+    let out_old = wirerank(&["rank", old.to_str().expect("utf-8"), "--format", "json"]);
+    let e = text(&out_old.stderr);
+    assert_eq!(out_old.status.code(), Some(0), "{e}");
+    // Source: plan-format.md (the old form is read in this release with a warning giving
+    // the three keys that replace it, naming the file, line and key).
+    assert!(e.starts_with("warning: "), "{e}");
+    assert!(e.contains(&format!("p.toml:{line}:")), "{e}");
+    assert!(
+        e.contains("group.roof.thermal")
+            && e.contains(
+                "thermal = \"king\", mounting = \"close-roof\", back = \"glass\" instead"
+            ),
+        "{e}"
+    );
+    // --quiet silences it like every other warning.
+    let quiet = wirerank(&["rank", old.to_str().expect("utf-8"), "--quiet"]);
+    assert_eq!(quiet.status.code(), Some(0));
+    assert!(text(&quiet.stderr).is_empty(), "{}", text(&quiet.stderr));
+    let new = template_plan_with(
+        dir.path(),
+        &[
+            (TEMPLATE_MOUNTING, "mounting = \"close-roof\""),
+            (TEMPLATE_BACK, "back = \"glass\""),
+        ],
+    );
+    let out_new = wirerank(&["rank", new.to_str().expect("utf-8"), "--format", "json"]);
+    assert_eq!(out_new.status.code(), Some(0), "{}", text(&out_new.stderr));
+    assert!(
+        !text(&out_new.stderr).contains("thermal"),
+        "{}",
+        text(&out_new.stderr)
+    );
+    // Source: definition (the old value names the same King 2004 set): the same layouts
+    // with the same energies, and a different energy than the default open-rack set.
+    let layouts = |o: &Output| -> serde_json::Value {
+        let v: serde_json::Value = serde_json::from_slice(&o.stdout).expect("JSON");
+        v["layouts"].clone()
+    };
+    assert_eq!(layouts(&out_old), layouts(&out_new));
+    let default = template_plan_with(dir.path(), &[]);
+    let out_default = wirerank(&["rank", default.to_str().expect("utf-8"), "--format", "json"]);
+    assert_ne!(layouts(&out_default), layouts(&out_new));
+    // The check command without the simulation gives the warning too.
+    let old_check = template_plan_with(
+        dir.path(),
+        &[
+            (
+                TEMPLATE_THERMAL,
+                "thermal = \"sandia-insulated-back-glass-polymer\"\n",
+            ),
+            (TEMPLATE_MOUNTING, "# mounting"),
+            (TEMPLATE_BACK, "# back"),
+        ],
+    );
+    let e = text(&wirerank(&["check", old_check.to_str().expect("utf-8")]).stderr);
+    assert!(
+        e.contains("mounting = \"insulated-back\", back = \"polymer\""),
+        "{e}"
+    );
+}
+
+/// Combinations King 2004 gives no set for, words it does not know, and keys that belong to
+/// another model are refused with the file, the key and what to write instead.
+#[cfg(unix)]
+#[test]
+fn thermal_choices_outside_king_2004_are_refused_with_the_sets_it_gives() {
+    let dir = tempfile::tempdir().expect("temporary folder");
+    type Edits<'a> = &'a [(&'a str, &'a str)];
+    let cases: [(Edits, &[&str]); 5] = [
+        (
+            // Source: King et al. 2004, Table 1 (no close-roof set with a polymer back).
+            &[(TEMPLATE_MOUNTING, "mounting = \"close-roof\"")],
+            &[
+                "group.roof.mounting = \"close-roof\" with back = \"polymer\"",
+                "has no coefficient set in King et al. 2004",
+                "open-rack with a glass back, close-roof with a glass back, open-rack with a polymer back, insulated-back with a polymer back",
+            ],
+        ),
+        (
+            // Source: King et al. 2004, Table 1 (no insulated-back set with a glass back);
+            // the message says which of the two keys was left at its default.
+            &[
+                (TEMPLATE_MOUNTING, "mounting = \"insulated-back\""),
+                (TEMPLATE_BACK, "back = \"glass\""),
+            ],
+            &["\"insulated-back\" with back = \"glass\" has no coefficient set"],
+        ),
+        (
+            &[(TEMPLATE_MOUNTING, "mounting = \"roof\"")],
+            &["group.roof.mounting = \"roof\" is not known; use open-rack, close-roof, insulated-back"],
+        ),
+        (
+            &[(TEMPLATE_THERMAL, "thermal = \"noct\"\n")],
+            &["group.roof.mounting is only used with thermal = \"king\" (here thermal = \"noct\")"],
+        ),
+        (
+            &[(TEMPLATE_THERMAL, "thermal = \"sandia\"\n")],
+            &["group.roof.thermal = \"sandia\" is not known; use king, faiman, noct"],
+        ),
+    ];
+    for (edits, needles) in cases {
+        let p = template_plan_with(dir.path(), edits);
+        let out = wirerank(&["check", p.to_str().expect("utf-8")]);
+        let e = text(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{edits:?}: {e}");
+        assert!(e.starts_with("error: ") && e.contains("p.toml:"), "{e}");
+        for n in needles {
+            assert!(e.contains(n), "{edits:?}: expected {n:?} in {e}");
+        }
+    }
+}

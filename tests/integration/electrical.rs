@@ -197,7 +197,7 @@ fn warns_of_a_string_too_short_for_the_mppt_window_on_a_hot_afternoon() {
     // A hot Vmp below the window only costs energy: a warning, and the layout is ranked.
     assert_eq!(f.severity, wirerank::design::rules::Severity::Warn);
     // Source: worked from the datasheet coefficients (common practice: Vmp falls at about the
-    // Voc coefficient in V/K). Cell at 1000 W/m², 48 °C air, 1 m/s, Sandia close-roof
+    // Voc coefficient in V/K). Cell at 1000 W/m², 48 °C air, 1 m/s, King 2004 close-roof
     // glass/glass: 48 + 49.456 = 97.456 °C (King 2004 coefficients, recomputed); per module
     // 18.2 − 0.0030 × 22.4 × 72.456 = 13.33 V; two in series 26.7 V < 27.2 + 1 = 28.2 V.
     // The report uses the fitted single-diode model: within 3 % of that estimate.

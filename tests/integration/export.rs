@@ -16,9 +16,10 @@ use wirerank::io::export::{
     HOURLY_COLUMNS, HOURLY_CSV, LOSSES_COLUMNS, LOSSES_CSV, MONTHLY_COLUMNS, MONTHLY_CSV,
     POTENTIAL_STEP, PROVENANCE_TXT, SUMMARY_COLUMNS, SUMMARY_CSV, WIRING_COLUMNS, WIRING_CSV,
 };
+use wirerank::io::plots::loss_causes;
 use wirerank::results::rank::Criterion;
 use wirerank::results::RankResult;
-use wirerank::sim::energy::Step;
+use wirerank::sim::energy::{DecidedBy, Step};
 
 /// Half a unit of the last printed decimal of every CSV number (3 decimals).
 const HALF_LAST_DIGIT: f64 = 0.0005;
@@ -408,6 +409,69 @@ fn losses_run_from_potential_to_delivered_in_step_order() {
     }
 }
 
+/// Every loss step of losses.csv names who decides it; the potential and delivered rows
+/// name nobody. The chart's causes add up, party by party, to the same steps.
+#[test]
+fn losses_name_who_decides_each_step_and_the_chart_adds_up_to_them() {
+    let l = read_csv(LOSSES_CSV);
+    let (step, by) = (texts(&l, "step"), texts(&l, "decided_by"));
+    for (s, b) in step.iter().zip(&by) {
+        let expected = match Step::ALL.iter().find(|x| x.key() == s) {
+            Some(x) => x.decided_by().key(),
+            None => "",
+        };
+        // Source: output-files.md (the site: incidence, soiling, shading, temperature and
+        // low light; the wiring: mismatch to conversion; the battery: curtailed).
+        assert_eq!(b, expected, "{s}");
+    }
+    // Source: output-files.md, the grouping table, counted by hand (4 site, 6 wiring, 1
+    // battery steps).
+    let count = |d: DecidedBy| Step::ALL.iter().filter(|s| s.decided_by() == d).count();
+    assert_eq!(
+        (
+            count(DecidedBy::Site),
+            count(DecidedBy::Wiring),
+            count(DecidedBy::Battery)
+        ),
+        (4, 6, 1)
+    );
+    for o in demo().outcomes.iter().filter(|o| o.rank.is_some()) {
+        let e = o.energy.as_ref().expect("energy");
+        let causes = loss_causes(e);
+        let potential = e.potential_wh.iter().sum::<f64>() / 1000.0;
+        let lost: f64 = causes.iter().map(|c| c.2).sum();
+        // Source: energy balance (potential = Σ losses + delivered, method-accounting.md);
+        // tolerance: 0.1 % as the JSON balance, plus half a Wh per cause dropped as rounding.
+        assert!(
+            (potential - lost - e.annual_delivered_kwh()).abs() <= 1e-3 * potential + 12.0 * 0.0005,
+            "{}: {potential} − {lost} vs {}",
+            o.layout.id,
+            e.annual_delivered_kwh()
+        );
+        for d in DecidedBy::ALL {
+            let party: f64 = causes.iter().filter(|c| c.0 == d).map(|c| c.2).sum();
+            let steps: f64 = Step::ALL
+                .iter()
+                .filter(|s| s.decided_by() == d)
+                .map(|&s| e.step_total_wh(s) / 1000.0)
+                .sum();
+            // Source: definition (the PWM clamp is part of the window and start-up step, so
+            // splitting it off keeps each party's total); 7 × 0.5 Wh rounding.
+            assert!(
+                (party - steps).abs() <= 0.004,
+                "{} {d:?}: {party} vs {steps}",
+                o.layout.id
+            );
+        }
+        let pwm = causes
+            .iter()
+            .find(|c| c.1.starts_with("PWM"))
+            .expect("a PWM cause");
+        // Source: definition (the PWM cause is the layout's PWM clamp share).
+        assert!((pwm.2 - e.pwm_clamp_wh.iter().sum::<f64>() / 1000.0).abs() <= 0.0005);
+    }
+}
+
 #[test]
 fn hourly_rows_follow_the_weather_stamps_and_add_up_to_the_year() {
     let h = read_csv(HOURLY_CSV);
@@ -476,7 +540,7 @@ fn provenance_names_version_inputs_models_criterion_and_cautions() {
         "larchwood-2025.csv",
         "sky:             perez",
         "De Soto 2006",
-        "group roof: Sandia",
+        "group roof: King et al. 2004 (close-roof mounting, glass back)",
         "controller mppt: MPPT",
         "controller pwm: PWM",
         "ranking criterion: energy offered over the year",

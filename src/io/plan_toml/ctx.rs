@@ -8,10 +8,12 @@ use crate::num::Num;
 
 use super::raw::{OneOrMonthly, S};
 
-/// Where errors point: the file's display name and its text (for line/column).
+/// Where errors point: the file's display name and its text (for line/column), and the
+/// warnings gathered on the way (a value accepted that the user should change).
 pub(super) struct Ctx<'a> {
     pub(super) file: String,
     pub(super) text: &'a str,
+    pub(super) warnings: std::cell::RefCell<Vec<String>>,
 }
 
 impl Ctx<'_> {
@@ -21,6 +23,15 @@ impl Ctx<'_> {
         let line = before.matches('\n').count() + 1;
         let col = before.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
         (line, col)
+    }
+
+    /// Records a warning at a place in the file (`file:line:column message`, the form of
+    /// the errors); the plan keeps them for stderr.
+    pub(super) fn warn(&self, span: std::ops::Range<usize>, message: String) {
+        let (line, column) = self.line_col(span.start);
+        self.warnings
+            .borrow_mut()
+            .push(format!("{}:{line}:{column} {message}", self.file));
     }
 
     pub(super) fn err(

@@ -49,6 +49,7 @@ pub fn parse_plan(text: &str, file_name: &str, base_dir: &Path) -> Result<Plan, 
     let ctx = Ctx {
         file: file_name.to_string(),
         text,
+        warnings: Default::default(),
     };
     let raw: RawPlan = toml::from_str(text).map_err(|e| {
         let (line, column) = e.span().map_or((0, 0), |s| ctx.line_col(s.start));
@@ -99,5 +100,6 @@ fn validate(ctx: &Ctx, raw: RawPlan, base_dir: &Path) -> Result<Plan, PlanError>
         layouts,
         enumerate_all,
         enumerate: layouts::enumerate_options(raw.enumerate.as_ref()),
+        warnings: ctx.warnings.take(),
     })
 }

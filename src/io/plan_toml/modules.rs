@@ -11,7 +11,7 @@ use crate::error::PlanError;
 use crate::input::plan::{Group, Module, ModuleType};
 use crate::num::Num;
 use crate::physics::diode::{fit_de_soto, Datasheet, BETA_REL_RANGE_PER_K, BYPASS_DROP_DEFAULT_V};
-use crate::physics::thermal::CellTemperatureModel;
+use crate::physics::thermal::{Back, CellTemperatureModel, Mounting, KING_2004_SETS};
 
 use super::ctx::Ctx;
 use super::raw::{RawGroup, RawModuleType, S};
@@ -202,7 +202,7 @@ fn check_datasheet(
         return Err(ctx.err(
             r.length_m.span(),
             &k("length_m"),
-            format!("module area {area:.3} m² gives an STC efficiency of {:.1} %, outside 2..30 %; check length_m and width_m", eff * 100.0),
+            format!("module area {area:.3} m² gives an STC efficiency of {:.1} %, outside 2 to 30 %; check length_m and width_m", eff * 100.0),
         ));
     }
     Ok(())
@@ -258,7 +258,45 @@ fn validate_group(
     })
 }
 
-/// `group.<id>.thermal` (Sandia open rack, glass–polymer, when absent) and the Faiman
+/// The plan's words for the cell-temperature model (`group.<id>.thermal`).
+const THERMAL_MODELS: [&str; 3] = ["king", "faiman", "noct"];
+
+/// The spellings of the first plan format, each with the King 2004 set it named. Accepted
+/// for one release with a warning pointing at the new form.
+const OLD_THERMAL_NAMES: [(&str, Mounting, Back); 4] = [
+    (
+        "sandia-open-rack-glass-glass",
+        Mounting::OpenRack,
+        Back::Glass,
+    ),
+    (
+        "sandia-close-roof-glass-glass",
+        Mounting::CloseRoof,
+        Back::Glass,
+    ),
+    (
+        "sandia-open-rack-glass-polymer",
+        Mounting::OpenRack,
+        Back::Polymer,
+    ),
+    (
+        "sandia-insulated-back-glass-polymer",
+        Mounting::InsulatedBack,
+        Back::Polymer,
+    ),
+];
+
+/// The combinations King 2004 gives, as the plan writes them.
+fn king_sets_text() -> String {
+    KING_2004_SETS
+        .iter()
+        .map(|s| format!("{} with a {} back", s.0.key(), s.1.key()))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// `group.<id>.thermal` (`king`, `faiman` or `noct`; `king` when absent), for `king` the
+/// group's `mounting` (default `open-rack`) and `back` (default `polymer`), and the Faiman
 /// coefficients, which are only accepted with `thermal = "faiman"`.
 fn thermal_model(
     ctx: &Ctx,
@@ -268,16 +306,71 @@ fn thermal_model(
 ) -> Result<CellTemperatureModel, PlanError> {
     let k = |name: &str| format!("group.{id}.{name}");
     let r = g.get_ref();
-    let thermal_name = r
-        .thermal
-        .as_ref()
-        .map_or("sandia-open-rack-glass-polymer", |t| t.get_ref().as_str());
+    let given = r.thermal.as_ref().map(|t| t.get_ref().as_str());
+    let span = r.thermal.as_ref().map_or(g.span(), |t| t.span());
+    let old = given.and_then(|n| OLD_THERMAL_NAMES.iter().find(|o| o.0 == n));
+    let thermal_name = match (given, old) {
+        (_, Some(&(old_name, mounting, back))) => {
+            if let Some(v) = r.mounting.as_ref().or(r.back.as_ref()) {
+                return Err(ctx.err(
+                    v.span(),
+                    &k("thermal"),
+                    format!(
+                        "{} = {old_name:?} is the old form and already names the mounting and the back; write thermal = \"king\" with mounting and back instead",
+                        k("thermal")
+                    ),
+                ));
+            }
+            ctx.warn(
+                span.clone(),
+                format!(
+                    "{} = {old_name:?} is the old form of this choice, accepted in this release only; write thermal = \"king\", mounting = \"{}\", back = \"{}\" instead",
+                    k("thermal"),
+                    mounting.key(),
+                    back.key()
+                ),
+            );
+            "king"
+        }
+        (None, None) => "king",
+        (Some(name), None) => name,
+    };
     let thermal = match thermal_name {
-        "sandia-open-rack-glass-glass" => CellTemperatureModel::SANDIA_GLASS_GLASS_OPEN_RACK,
-        "sandia-close-roof-glass-glass" => CellTemperatureModel::SANDIA_GLASS_GLASS_CLOSE_ROOF,
-        "sandia-open-rack-glass-polymer" => CellTemperatureModel::SANDIA_GLASS_POLYMER_OPEN_RACK,
-        "sandia-insulated-back-glass-polymer" => {
-            CellTemperatureModel::SANDIA_GLASS_POLYMER_INSULATED_BACK
+        "king" => {
+            let (mounting, back) = match old {
+                Some(&(_, m, b)) => (m, b),
+                None => (
+                    choose(
+                        ctx,
+                        &r.mounting,
+                        &k("mounting"),
+                        &Mounting::ALL,
+                        Mounting::key,
+                    )?
+                    .unwrap_or(Mounting::OpenRack),
+                    choose(ctx, &r.back, &k("back"), &Back::ALL, Back::key)?
+                        .unwrap_or(Back::Polymer),
+                ),
+            };
+            CellTemperatureModel::king(mounting, back).ok_or_else(|| {
+                let at = r.mounting.as_ref().or(r.back.as_ref()).map_or(span.clone(), |v| v.span());
+                let defaulted = match (&r.mounting, &r.back) {
+                    (None, _) => " (mounting defaults to open-rack)",
+                    (_, None) => " (back defaults to polymer)",
+                    _ => "",
+                };
+                ctx.err(
+                    at,
+                    &k("mounting"),
+                    format!(
+                        "{} = {:?} with back = {:?}{defaulted} has no coefficient set in King et al. 2004; it gives: {}; or choose thermal = \"faiman\" or \"noct\"",
+                        k("mounting"),
+                        mounting.key(),
+                        back.key(),
+                        king_sets_text()
+                    ),
+                )
+            })?
         }
         "faiman" => CellTemperatureModel::Faiman {
             u0: ctx.opt_range(&r.faiman_u0_w_m2k, &k("faiman_u0_w_m2k"), 1.0, 100.0, 25.0)?,
@@ -293,17 +386,32 @@ fn thermal_model(
             noct_c: module_type.noct_c,
         },
         other => {
-            let span = r.thermal.as_ref().map_or(g.span(), |t| t.span());
             return Err(ctx.err(
                 span,
                 &k("thermal"),
                 format!(
-                    "{} = {other:?} is not known; use sandia-open-rack-glass-glass, sandia-close-roof-glass-glass, sandia-open-rack-glass-polymer, sandia-insulated-back-glass-polymer, faiman or noct",
-                    k("thermal")
+                    "{} = {other:?} is not known; use {} (with mounting and back for king: {})",
+                    k("thermal"),
+                    THERMAL_MODELS.join(", "),
+                    king_sets_text()
                 ),
             ));
         }
     };
+    if thermal_name != "king" {
+        for (v, name) in [(&r.mounting, "mounting"), (&r.back, "back")] {
+            if let Some(v) = v {
+                return Err(ctx.err(
+                    v.span(),
+                    &k(name),
+                    format!(
+                        "{} is only used with thermal = \"king\" (here thermal = {thermal_name:?})",
+                        k(name)
+                    ),
+                ));
+            }
+        }
+    }
     if thermal_name != "faiman" {
         for (v, name) in [
             (&r.faiman_u0_w_m2k, "faiman_u0_w_m2k"),
@@ -319,4 +427,27 @@ fn thermal_model(
         }
     }
     Ok(thermal)
+}
+
+/// One of a few words, or `None` when the key is absent.
+fn choose<T: Copy>(
+    ctx: &Ctx,
+    v: &Option<S<String>>,
+    key: &str,
+    all: &[T],
+    word: fn(T) -> &'static str,
+) -> Result<Option<T>, PlanError> {
+    let Some(v) = v else { return Ok(None) };
+    let given = v.get_ref().as_str();
+    match all.iter().find(|&&t| word(t) == given) {
+        Some(&t) => Ok(Some(t)),
+        None => Err(ctx.err(
+            v.span(),
+            key,
+            format!(
+                "{key} = {given:?} is not known; use {}",
+                all.iter().map(|&t| word(t)).collect::<Vec<_>>().join(", ")
+            ),
+        )),
+    }
 }

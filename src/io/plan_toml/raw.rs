@@ -129,6 +129,8 @@ pub(super) struct RawGroup {
     pub(super) tilt_deg: S<f64>,
     pub(super) azimuth_deg: S<f64>,
     pub(super) thermal: Option<S<String>>,
+    pub(super) mounting: Option<S<String>>,
+    pub(super) back: Option<S<String>>,
     pub(super) faiman_u0_w_m2k: Option<S<f64>>,
     pub(super) faiman_u1_w_s_m3k: Option<S<f64>>,
     pub(super) soiling_pct: Option<S<OneOrMonthly>>,

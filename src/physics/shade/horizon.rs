@@ -36,7 +36,7 @@ impl HorizonProfile {
         for (i, &(az, el)) in points.iter().enumerate() {
             if !(0.0..360.0).contains(&az) {
                 return Err(format!(
-                    "horizon point {i}: azimuth_deg = {az} is outside 0..360 (degrees clockwise from north)"
+                    "horizon point {i}: azimuth_deg = {az} is outside 0 to 360 (degrees clockwise from north)"
                 ));
             }
             if !(HORIZON_MIN_ELEVATION_DEG..=90.0).contains(&el) {
