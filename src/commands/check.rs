@@ -1,6 +1,6 @@
 //! `wirerank check`: every candidate layout against the electrical limits, no simulation.
 
-use crate::commands::load::load;
+use crate::commands::load::{read_plan, read_weather, with_weather};
 use crate::commands::{CheckShow, Outcome, PlanSource};
 use crate::design::candidates::candidate_layouts;
 use crate::design::rules::{self, design_temperatures, DesignTemperatures};
@@ -15,25 +15,23 @@ use crate::results::{CheckInput, CheckResult};
 /// temperatures (the limits need nothing else from the weather) and says so.
 ///
 /// # Errors
-/// As [`load`] and [`candidate_layouts`].
+/// As [`crate::commands::load::load`] and [`candidate_layouts`].
 pub fn check_limits(source: &PlanSource) -> Result<CheckResult, Error> {
-    let (input, temps) = match load(source) {
-        Ok(loaded) => {
+    let plan = read_plan(source)?;
+    let (input, temps) = match read_weather(source, &plan) {
+        Ok(weather) => {
+            let loaded = with_weather(source, plan, weather)?;
             let temps = design_temperatures(&loaded.plan, &loaded.weather);
             (CheckInput::Loaded(Box::new(loaded)), temps)
         }
         Err(Error::Weather(WeatherError::Read { file, source: e }))
             if e.kind() == std::io::ErrorKind::NotFound =>
         {
-            let PlanSource::File(path) = source else {
-                return Err(Error::Weather(WeatherError::Read { file, source: e }));
-            };
-            let plan = io::plan_toml::read_plan(path)?;
             let (Some(lo), Some(hi)) = (plan.site.design_min_air_c, plan.site.design_max_air_c)
             else {
                 return Err(Error::Usage(format!(
                     "cannot read {file}: {e}; give the weather file, or give site.design_min_air_c and site.design_max_air_c in {} to check the limits without it",
-                    path.display()
+                    plan.source.display()
                 )));
             };
             let temps = DesignTemperatures {

@@ -104,16 +104,9 @@ pub fn simulate_and_rank(
         fill(o, energies.next().expect("one energy per passing layout"));
     }
     rank::rank(&mut outcomes, criterion);
-    // One layout simulated alone, as the criterion's key (for the swap search).
-    let quiet = year::RunOptions {
-        parallel: false,
-        hourly: false,
-        on_layout_done: None,
-    };
+    // One layout simulated alone, summarised (for the swap search and the id-order figures).
     let summarise = |l: &layout::Layout| {
-        let mut e = year::simulate_layouts(plan, &conditions, &curves, &[l], quiet)
-            .pop()
-            .expect("one layout in, one energy out");
+        let mut e = year::simulate_one(plan, &conditions, &curves, l, false);
         e.scale_to_mean_year(per_year);
         LayoutSummary::new(plan, l, &e, &temps, &months_present, &winter_months)
     };
@@ -134,38 +127,25 @@ pub fn simulate_and_rank(
         for k in best {
             let o = &outcomes[k];
             let Some(s) = &o.summary else { continue };
+            let start_key = rank::sort_key(s, criterion);
             // The search starts from the shape in id order (its seed is the current layout,
             // whose key is known).
             let shape = id_order
                 .iter()
                 .find(|(id, _)| *id == o.layout.id)
                 .map_or(&o.layout, |(_, l)| l);
-            let found = assign::search(
-                plan,
-                &profiles,
-                shape,
-                rank::sort_key(s, criterion),
-                &eval,
-                SWAP_EVALUATIONS,
-            );
+            let found = assign::search(plan, &profiles, shape, start_key, &eval, SWAP_EVALUATIONS);
             report.searched += 1;
             report.evaluations += found.evaluations;
-            if found.swaps > 0 {
+            // Better than the seed, whether by swaps or from another start.
+            if found.key > start_key {
                 report.improved += 1;
                 let o = &mut outcomes[k];
                 if !id_order.iter().any(|(id, _)| *id == o.layout.id) {
                     id_order.push((o.layout.id.clone(), o.layout.clone()));
                 }
                 o.layout = found.layout;
-                let e = year::simulate_layouts(
-                    plan,
-                    &conditions,
-                    &curves,
-                    &[&o.layout],
-                    quiet_with(opts),
-                )
-                .pop()
-                .expect("one layout in, one energy out");
+                let e = year::simulate_one(plan, &conditions, &curves, &o.layout, opts.hourly);
                 fill(o, e);
             }
         }
@@ -245,15 +225,6 @@ pub fn simulate_and_rank(
 /// budget per layout (notebooks-free-docs/method-assignment.md).
 pub const SWAP_SEARCHED: usize = 3;
 pub const SWAP_EVALUATIONS: usize = 400;
-
-/// The run's options for re-simulating one layout: hourly rows as asked, no progress ticks.
-fn quiet_with(opts: year::RunOptions) -> year::RunOptions {
-    year::RunOptions {
-        parallel: false,
-        hourly: opts.hourly,
-        on_layout_done: None,
-    }
-}
 
 pub fn rank(r: &RankRequest, on_layout_done: &(dyn Fn(usize) + Sync)) -> Result<Outcome, Error> {
     // The month × hour gain picture needs the per-interval rows, so any export keeps them.

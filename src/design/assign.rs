@@ -54,44 +54,44 @@ fn slots_of_group(plan: &Plan, layout: &Layout, g: usize) -> Vec<Slot> {
     out
 }
 
+/// The modules of group `g`, those that give most over the year first (ties by id).
+fn by_energy(plan: &Plan, prof: &ShadeProfiles, g: usize) -> Vec<usize> {
+    let mut v: Vec<usize> = (0..plan.modules.len())
+        .filter(|&m| plan.modules[m].group == g)
+        .collect();
+    v.sort_by(|&a, &b| {
+        prof.energy_wh[b]
+            .total_cmp(&prof.energy_wh[a])
+            .then(a.cmp(&b))
+    });
+    v
+}
+
 /// The seed assignment of `layout`'s shape (step 1 of the method); the id, code and shape
 /// are kept.
 pub fn seed(plan: &Plan, prof: &ShadeProfiles, layout: &Layout) -> Layout {
-    let mut out = layout.clone();
-    for g in 0..plan.groups.len() {
-        let slots = slots_of_group(plan, layout, g);
-        if slots.is_empty() {
-            continue;
-        }
-        let mut pool: Vec<usize> = (0..plan.modules.len())
-            .filter(|&m| plan.modules[m].group == g)
-            .collect();
-        pool.sort_by(|&a, &b| {
-            prof.energy_wh[b]
-                .total_cmp(&prof.energy_wh[a])
-                .then(a.cmp(&b))
-        });
-        pool.truncate(slots.len());
-        // Chain: from the module that gives most, always on to the closest profile.
-        let mut chain = Vec::with_capacity(pool.len());
-        let mut rest = pool;
-        let mut last = rest.remove(0);
-        chain.push(last);
+    let chain = |g: usize| {
+        let mut rest = by_energy(plan, prof, g);
+        rest.truncate(slots_of_group(plan, layout, g).len());
+        // From the module that gives most, always on to the closest profile.
+        let mut chain = Vec::with_capacity(rest.len());
         while !rest.is_empty() {
-            let (k, _) = rest
-                .iter()
-                .enumerate()
-                .map(|(k, &m)| (k, distance(&prof.lost_by_hour[last], &prof.lost_by_hour[m])))
-                .min_by(|a, b| a.1.total_cmp(&b.1).then(a.0.cmp(&b.0)))
-                .expect("rest is not empty");
-            last = rest.remove(k);
-            chain.push(last);
+            let k = match chain.last() {
+                None => 0,
+                Some(&last) => (0..rest.len())
+                    .min_by(|&a, &b| {
+                        let d = |k: usize| {
+                            distance(&prof.lost_by_hour[last], &prof.lost_by_hour[rest[k]])
+                        };
+                        d(a).total_cmp(&d(b)).then(a.cmp(&b))
+                    })
+                    .unwrap_or(0),
+            };
+            chain.push(rest.remove(k));
         }
-        for ((wi, si, pi), m) in slots.into_iter().zip(chain) {
-            out.inputs[wi].strings[si][pi] = m;
-        }
-    }
-    out
+        chain
+    };
+    fill_in_order(plan, layout, &chain)
 }
 
 /// The layout's slots of each group filled from `order` (per group, modules best first):
@@ -100,6 +100,9 @@ fn fill_in_order(plan: &Plan, layout: &Layout, order: &dyn Fn(usize) -> Vec<usiz
     let mut out = layout.clone();
     for g in 0..plan.groups.len() {
         let slots = slots_of_group(plan, layout, g);
+        if slots.is_empty() {
+            continue;
+        }
         for ((wi, si, pi), m) in slots.into_iter().zip(order(g)) {
             out.inputs[wi].strings[si][pi] = m;
         }
@@ -111,20 +114,7 @@ fn fill_in_order(plan: &Plan, layout: &Layout, order: &dyn Fn(usize) -> Vec<usiz
 /// year's energy, in order of when in the day shade takes their light (morning first), and
 /// the shape as given (id order); equivalent ones once.
 pub fn starts(plan: &Plan, prof: &ShadeProfiles, layout: &Layout) -> Vec<Layout> {
-    let group_modules = |g: usize| -> Vec<usize> {
-        (0..plan.modules.len())
-            .filter(|&m| plan.modules[m].group == g)
-            .collect()
-    };
-    let by_energy = |g: usize| {
-        let mut v = group_modules(g);
-        v.sort_by(|&a, &b| {
-            prof.energy_wh[b]
-                .total_cmp(&prof.energy_wh[a])
-                .then(a.cmp(&b))
-        });
-        v
-    };
+    let by_energy = |g: usize| by_energy(plan, prof, g);
     // When in the day a module loses its light: the loss-weighted mean hour.
     let timing = |m: usize| {
         let l = &prof.lost_by_hour[m];
@@ -371,128 +361,83 @@ pub fn all_assignments(
     layout: &Layout,
     limit: usize,
 ) -> Option<Vec<Layout>> {
-    // Each string takes its modules per group in increasing id order (series order does not
-    // matter); every choice of which modules go to which string is walked.
-    let strings: Vec<(usize, usize)> = layout
-        .inputs
-        .iter()
-        .enumerate()
-        .flat_map(|(wi, w)| (0..w.strings.len()).map(move |si| (wi, si)))
-        .collect();
-    let mut out = Vec::new();
-    let mut seen = HashSet::new();
-    let mut free = vec![true; plan.modules.len()];
-    let mut current = layout.clone();
-    let mut raw = 0usize;
-    #[allow(clippy::too_many_arguments)]
-    fn walk(
-        plan: &Plan,
-        prof: &ShadeProfiles,
-        strings: &[(usize, usize)],
-        k: usize,
-        current: &mut Layout,
-        free: &mut [bool],
-        out: &mut Vec<Layout>,
-        seen: &mut HashSet<Vec<Vec<Vec<usize>>>>,
-        raw: &mut usize,
-        limit: usize,
-    ) -> bool {
-        if k == strings.len() {
-            *raw += 1;
-            if *raw > limit.saturating_mul(50) {
+    let mut walk = Walk {
+        plan,
+        prof,
+        strings: layout
+            .inputs
+            .iter()
+            .enumerate()
+            .flat_map(|(wi, w)| (0..w.strings.len()).map(move |si| (wi, si)))
+            .collect(),
+        current: layout.clone(),
+        free: vec![true; plan.modules.len()],
+        out: Vec::new(),
+        seen: HashSet::new(),
+        raw: 0,
+        limit,
+    };
+    walk.place(0, 0).then_some(walk.out)
+}
+
+/// The state of [`all_assignments`]' walk: each string takes its modules per group in
+/// increasing id order (series order does not matter); every choice of which modules go to
+/// which string is walked, and each class-distinct result kept once.
+struct Walk<'a> {
+    plan: &'a Plan,
+    prof: &'a ShadeProfiles,
+    /// Every string as (input, string) indices, in layout order.
+    strings: Vec<(usize, usize)>,
+    current: Layout,
+    /// Modules not yet placed.
+    free: Vec<bool>,
+    out: Vec<Layout>,
+    seen: HashSet<Vec<Vec<Vec<usize>>>>,
+    /// Complete assignments walked, distinct or not (bounded at 50 × `limit`).
+    raw: usize,
+    limit: usize,
+}
+
+impl Walk<'_> {
+    /// Places position `pos` of string `k` and everything after it; false to stop the walk.
+    fn place(&mut self, k: usize, pos: usize) -> bool {
+        let Some(&(wi, si)) = self.strings.get(k) else {
+            self.raw += 1;
+            if self.raw > self.limit.saturating_mul(50) {
                 return false;
             }
-            if seen.insert(class_key(prof, current)) {
-                out.push(current.clone());
+            if self.seen.insert(class_key(self.prof, &self.current)) {
+                self.out.push(self.current.clone());
             }
-            return out.len() <= limit;
+            return self.out.len() <= self.limit;
+        };
+        let string = &self.current.inputs[wi].strings[si];
+        if pos == string.len() {
+            return self.place(k + 1, 0);
         }
-        let (wi, si) = strings[k];
-        fill(
-            plan, prof, strings, k, wi, si, 0, current, free, out, seen, raw, limit,
-        )
-    }
-    #[allow(clippy::too_many_arguments)]
-    fn fill(
-        plan: &Plan,
-        prof: &ShadeProfiles,
-        strings: &[(usize, usize)],
-        k: usize,
-        wi: usize,
-        si: usize,
-        pos: usize,
-        current: &mut Layout,
-        free: &mut [bool],
-        out: &mut Vec<Layout>,
-        seen: &mut HashSet<Vec<Vec<Vec<usize>>>>,
-        raw: &mut usize,
-        limit: usize,
-    ) -> bool {
-        let len = current.inputs[wi].strings[si].len();
-        if pos == len {
-            return walk(
-                plan,
-                prof,
-                strings,
-                k + 1,
-                current,
-                free,
-                out,
-                seen,
-                raw,
-                limit,
-            );
-        }
-        let old = current.inputs[wi].strings[si][pos];
-        let g = plan.modules[old].group;
+        let old = string[pos];
+        let g = self.plan.modules[old].group;
         // Increasing ids among this string's modules of the same group.
-        let after = current.inputs[wi].strings[si][..pos]
+        let after = string[..pos]
             .iter()
-            .filter(|&&m| plan.modules[m].group == g)
+            .filter(|&&m| self.plan.modules[m].group == g)
             .max()
             .map_or(0, |&m| m + 1);
-        for m in after..plan.modules.len() {
-            if !free[m] || plan.modules[m].group != g {
+        for m in after..self.plan.modules.len() {
+            if !self.free[m] || self.plan.modules[m].group != g {
                 continue;
             }
-            free[m] = false;
-            current.inputs[wi].strings[si][pos] = m;
-            let go_on = fill(
-                plan,
-                prof,
-                strings,
-                k,
-                wi,
-                si,
-                pos + 1,
-                current,
-                free,
-                out,
-                seen,
-                raw,
-                limit,
-            );
-            free[m] = true;
-            current.inputs[wi].strings[si][pos] = old;
+            self.free[m] = false;
+            self.current.inputs[wi].strings[si][pos] = m;
+            let go_on = self.place(k, pos + 1);
+            self.free[m] = true;
+            self.current.inputs[wi].strings[si][pos] = old;
             if !go_on {
                 return false;
             }
         }
         true
     }
-    walk(
-        plan,
-        prof,
-        &strings,
-        0,
-        &mut current,
-        &mut free,
-        &mut out,
-        &mut seen,
-        &mut raw,
-        limit,
-    )
-    .then_some(out)
 }
 
 /// Evaluates every distinct assignment (at most `limit`) and returns the best; `None` when

@@ -299,6 +299,9 @@ pub fn shade_profiles(
     let mut lost = vec![[0.0; 24]; n];
     let mut best_by_hour = vec![[0.0; 24]; n];
     let mut mpp = vec![0.0; n];
+    let members: Vec<Vec<usize>> = (0..plan.groups.len())
+        .map(|g| (0..n).filter(|&mi| plan.modules[mi].group == g).collect())
+        .collect();
     for (k, info) in cond.intervals.iter().enumerate() {
         let Some(ic) = &curves[k] else { continue };
         for mi in 0..n {
@@ -310,12 +313,9 @@ pub fn shade_profiles(
             energy_wh[mi] += mpp[mi] * info.hours;
         }
         let h = (info.hour as usize).min(23);
-        for g in 0..plan.groups.len() {
-            let best = (0..n)
-                .filter(|&mi| plan.modules[mi].group == g)
-                .map(|mi| mpp[mi])
-                .fold(0.0, f64::max);
-            for mi in (0..n).filter(|&mi| plan.modules[mi].group == g) {
+        for group in &members {
+            let best = group.iter().map(|&mi| mpp[mi]).fold(0.0, f64::max);
+            for &mi in group {
                 lost[mi][h] += (best - mpp[mi]) * info.hours;
                 best_by_hour[mi][h] += best * info.hours;
             }

@@ -487,6 +487,18 @@ pub struct RunOptions<'a> {
     pub on_layout_done: Option<&'a (dyn Fn(usize) + Sync)>,
 }
 
+/// One layout over every interval from shared curves, on the calling thread (the swap search
+/// of module assignment, the re-simulation of a changed layout).
+pub fn simulate_one(
+    plan: &Plan,
+    cond: &Conditions,
+    curves: &[Option<IntervalCurves>],
+    layout: &Layout,
+    hourly: bool,
+) -> LayoutEnergy {
+    simulate_layout(plan, cond, curves, layout, hourly)
+}
+
 /// Every layout over every interval from shared curves (the combination half of phase 2).
 pub fn simulate_layouts(
     plan: &Plan,

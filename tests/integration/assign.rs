@@ -37,11 +37,8 @@ fn method_against_exhaustive(name: &str, limit: usize) -> (usize, usize, f64) {
     );
     let months = [true; 12];
     let winter = [0, 10, 11];
-    let quiet = year::RunOptions::default();
     let eval = |l: &Layout| {
-        let e = year::simulate_layouts(plan, &cond, &curves, &[l], quiet)
-            .pop()
-            .expect("one energy");
+        let e = year::simulate_one(plan, &cond, &curves, l, false);
         sort_key(
             &LayoutSummary::new(plan, l, &e, &temps, &months, &winter),
             Criterion::Annual,
