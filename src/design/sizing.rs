@@ -163,7 +163,7 @@ fn size_modules(
 }
 
 /// Both sizing answers for the best layout (a simulated `best`, with its energy): the
-/// smallest battery and the fewest extra modules. `None` for each without a `[load]` and a
+/// smallest battery and the fewest extra modules, searched side by side. `None` for each without a `[load]` and a
 /// battery model.
 pub fn size_best(
     plan: &Plan,
@@ -173,9 +173,10 @@ pub fn size_best(
     best: &Layout,
     energy: Option<&LayoutEnergy>,
 ) -> (Option<Sizing>, Option<ModuleSizing>) {
-    (
-        size_battery(plan, cond, curves, best),
-        energy.and_then(|e| size_modules(plan, cond, curves, temps, best, e)),
+    // The two searches are independent: one per core (results do not depend on it).
+    rayon::join(
+        || size_battery(plan, cond, curves, best),
+        || energy.and_then(|e| size_modules(plan, cond, curves, temps, best, e)),
     )
 }
 

@@ -1005,7 +1005,8 @@ impl<'a> Series<'a> {
 /// # Formula
 /// Pass 1 starts from [`BatterySpec::initial_state`]; pass 2 starts from the state pass 1
 /// ended in, so that a year is simulated as one of many alike (a periodic steady state)
-/// rather than from an arbitrary start.
+/// rather than from an arbitrary start. Pass 1 runs the series' last [`WARM_UP_MAX_H`] hours
+/// (all of a series of one year or less), as the interval loop's warm-up does.
 ///
 /// # Validity
 /// Once the battery has reached its floor in pass 1, pass 2 no longer depends on the
@@ -1015,8 +1016,34 @@ pub fn run_series(
     load: &LoadProfile,
     series: &Series,
 ) -> (Vec<Flows>, Vec<f64>) {
+    let mut flows = Vec::with_capacity(series.len());
+    let mut soc = Vec::with_capacity(series.len());
+    second_pass(spec, load, series, |f, s| {
+        flows.push(f);
+        soc.push(s);
+    });
+    (flows, soc)
+}
+
+/// The longest warm-up pass, h: one leap year, so that any series of one year runs whole.
+pub const WARM_UP_MAX_H: f64 = 8784.0;
+
+/// The warm-up and reported passes of [`run_series`], handing each reported interval's flows
+/// and end state of charge to `visit` (no list is built).
+fn second_pass(
+    spec: &BatterySpec,
+    load: &LoadProfile,
+    series: &Series,
+    mut visit: impl FnMut(Flows, f64),
+) {
     let mut s = spec.initial_state();
-    for k in 0..series.len() {
+    let warm_up = (WARM_UP_MAX_H / series.interval_h - 1e-9).ceil();
+    let first = if warm_up.is_finite() && warm_up >= 0.0 {
+        series.len().saturating_sub(warm_up as usize)
+    } else {
+        0
+    };
+    for k in first..series.len() {
         spec.step_at(
             &mut s,
             series.harvest_wh[k],
@@ -1025,19 +1052,16 @@ pub fn run_series(
             series.air_c(k),
         );
     }
-    let mut flows = Vec::with_capacity(series.len());
-    let mut soc = Vec::with_capacity(series.len());
     for k in 0..series.len() {
-        flows.push(spec.step_at(
+        let f = spec.step_at(
             &mut s,
             series.harvest_wh[k],
             series.load_wh(load, k),
             series.interval_h,
             series.air_c(k),
-        ));
-        soc.push(s.soc_frac);
+        );
+        visit(f, s.soc_frac);
     }
-    (flows, soc)
 }
 
 /// Unmet load over a series (second pass of `run_series`) at a capacity; 0 Ah means no
@@ -1057,11 +1081,9 @@ fn unmet_for(
         capacity_ah,
         ..*template
     })?;
-    Ok(run_series(&spec, load, series)
-        .0
-        .iter()
-        .map(|f| f.unmet_wh)
-        .sum())
+    let mut unmet = 0.0;
+    second_pass(&spec, load, series, |f, _| unmet += f.unmet_wh);
+    Ok(unmet)
 }
 
 /// The smallest battery, in whole steps of `step_ah`, whose unmet load over the series

@@ -149,11 +149,11 @@ fn best_in(curve: &ArrayCurve, lo: f64, hi: f64) -> (f64, f64) {
     if p_hi > best.0 {
         best = (p_hi, hi);
     }
-    for m in curve.local_maxima(lo, hi) {
+    curve.for_each_local_maximum(lo, hi, |m| {
         if m.p > best.0 {
             best = (m.p, m.v);
         }
-    }
+    });
     best
 }
 
@@ -164,7 +164,9 @@ fn first_from_top(curve: &ArrayCurve, lo: f64, hi: f64) -> (f64, f64) {
     }
     // Local maxima come sorted by voltage; the climb meets the highest-voltage one first. If
     // there is none, power rises all the way down to the window's lower edge.
-    match curve.local_maxima(lo, hi).last() {
+    let mut last = None;
+    curve.for_each_local_maximum(lo, hi, |m| last = Some(m));
+    match last {
         Some(m) => (m.p, m.v),
         None => {
             let (p_lo, p_hi) = (curve.power_at(lo), curve.power_at(hi));

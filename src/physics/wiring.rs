@@ -559,6 +559,12 @@ impl ArrayCurve {
     /// once it has grown).
     pub fn local_maxima_into(&self, v_lo: f64, v_hi: f64, found: &mut Vec<Mpp>) {
         found.clear();
+        self.for_each_local_maximum(v_lo, v_hi, |m| found.push(m));
+    }
+
+    /// Calls `visit` with each local maximum of [`Self::local_maxima`], in the same order,
+    /// without building a list (the controller's searches in the interval loop).
+    pub fn for_each_local_maximum(&self, v_lo: f64, v_hi: f64, mut visit: impl FnMut(Mpp)) {
         let n = self.v.len();
         if n < 2 {
             return;
@@ -570,7 +576,7 @@ impl ArrayCurve {
         }
         let mut keep = |m: Mpp| {
             if m.p > 0.0 {
-                found.push(m);
+                visit(m);
             }
         };
         // Walk the pieces of the window in voltage order, tracking the sign of dP/dV. On a

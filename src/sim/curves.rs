@@ -36,6 +36,58 @@ pub struct IntervalCurves {
     pub(crate) diffuse_factor: Vec<f64>,
 }
 
+/// Relative width of the light classes that decide which substrings share a curve: the
+/// substrings of one orientation group whose light falls in one class (2 % wide on a
+/// logarithmic scale) take one curve, computed at their mean light
+/// (notebooks-free-docs/method-shade.md, "Which substrings share a curve": measured effect at
+/// most 0.01 % of a month's energy).
+pub const LIGHT_STEP_FRAC: f64 = 0.02;
+
+/// The light class of an effective irradiance, W/m²: its logarithm in steps of
+/// [`LIGHT_STEP_FRAC`], so that the class width is the same share of the light at dawn as at
+/// noon. Darkness (0 or below) is one class of its own.
+fn light_key(e_w_m2: f64, step_frac: f64) -> i64 {
+    if e_w_m2 <= 0.0 {
+        return i64::MIN;
+    }
+    (e_w_m2.ln() / step_frac.ln_1p()).round() as i64
+}
+
+/// The substrings of one light class in an interval: the light its curve is computed at is
+/// their mean (exactly the shared value when all of them have the same light, as on an
+/// unshaded group), so that the class's power is right to first order in the spread.
+struct LightClass {
+    first: f64,
+    sum: f64,
+    count: u32,
+    all_same: bool,
+}
+
+impl LightClass {
+    fn new(e: f64) -> Self {
+        LightClass {
+            first: e,
+            sum: e,
+            count: 1,
+            all_same: true,
+        }
+    }
+
+    fn add(&mut self, e: f64) {
+        self.sum += e;
+        self.count += 1;
+        self.all_same &= e == self.first;
+    }
+
+    fn value(&self) -> f64 {
+        if self.all_same {
+            self.first
+        } else {
+            self.sum / f64::from(self.count)
+        }
+    }
+}
+
 /// Beam and circumsolar fraction blocked by the plan's shade schedule for a module's
 /// substring in an interval (several rules combine multiplicatively on what passes).
 fn schedule_blocked(plan: &Plan, module: usize, sub: usize, month: u32, hour: u32) -> f64 {
@@ -71,11 +123,15 @@ pub fn interval_curves(
     }
     let sun_dir = SunDirection::from_position(&sun.position);
     let (sun_el, sun_az) = (sun.position.elevation_deg(), sun.position.azimuth_deg);
-    // Distinct states: (group, blocked fraction, diffuse factor), both rounded to 1e-4 so that
-    // modules in practically the same light share one curve.
-    let q = |x: f64| (x * 1e4).round() as i64;
+    // Distinct states: (group, blocked share of the direct light to 1e-4, the light reaching
+    // the substring in classes LIGHT_STEP_FRAC wide). Substrings of one group whose direct
+    // light is blocked alike and whose light differs by less than a class share one curve,
+    // at their mean light: modules that differ only in how much sky an obstacle hides from
+    // them (a few per cent of the diffuse light) no longer each need a curve, while shade's
+    // timing, which module assignment reads from the curves, stays exact
+    // (notebooks-free-docs/method-shade.md, "Which substrings share a curve").
     let mut keys: Vec<(usize, i64, i64)> = Vec::new();
-    let mut params: Vec<OperatingParams> = Vec::new();
+    let mut lights: Vec<LightClass> = Vec::new();
     let mut module_subs = Vec::with_capacity(plan.modules.len());
     let mut blocked_all = Vec::with_capacity(plan.modules.len());
     let mut near = [0.0; crate::physics::shade::MAX_SUBSTRINGS as usize];
@@ -108,13 +164,20 @@ pub fn interval_curves(
             } else {
                 1.0 - (1.0 - near_j) * (1.0 - sched)
             };
-            let key = (module.group, q(f), q(ms.diffuse_factor));
+            let e = (direct * (1.0 - f) + sky * ms.diffuse_factor + ground).max(0.0);
+            let key = (
+                module.group,
+                (f * 1e4).round() as i64,
+                light_key(e, scene.light_step_frac),
+            );
             let idx = match keys.iter().position(|x| *x == key) {
-                Some(i) => i,
+                Some(i) => {
+                    lights[i].add(e);
+                    i
+                }
                 None => {
-                    let e = (direct * (1.0 - f) + sky * ms.diffuse_factor + ground).max(0.0);
-                    params.push(t.substring.at(e, g.cell_temp_c[k]));
                     keys.push(key);
+                    lights.push(LightClass::new(e));
                     keys.len() - 1
                 }
             };
@@ -124,6 +187,15 @@ pub fn interval_curves(
         module_subs.push(subs);
         blocked_all.push(blocked);
     }
+    let params: Vec<OperatingParams> = keys
+        .iter()
+        .zip(&lights)
+        .map(|(&(group, _, _), light)| {
+            let t = &plan.module_types[plan.groups[group].module_type];
+            t.substring
+                .at(light.value(), cond.groups[group].cell_temp_c[k])
+        })
+        .collect();
     let i_max = params.iter().map(|p| p.il_a).fold(0.0, f64::max);
     if i_max <= 0.0 {
         return None;
@@ -172,12 +244,20 @@ struct ModuleShade {
 pub struct ShadeScene {
     modules: Vec<ModuleShade>,
     obstacles: Vec<PreparedObstacle>,
+    /// Width of the light classes ([`LIGHT_STEP_FRAC`] unless a check asks for another).
+    light_step_frac: f64,
 }
 
 impl ShadeScene {
     /// Prepares the plan's geometry: horizon per module, placements, diffuse factors
     /// (numerical sky-dome integrals, once per module).
     pub fn new(plan: &Plan) -> ShadeScene {
+        Self::with_light_step(plan, LIGHT_STEP_FRAC)
+    }
+
+    /// As [`Self::new`], with light classes of another relative width (the check of the
+    /// classes' effect against near-exact ones).
+    pub fn with_light_step(plan: &Plan, light_step_frac: f64) -> ShadeScene {
         let geo = &plan.geometry;
         let obstacles_raw: Vec<_> = geo.obstacles.iter().map(|(_, o)| *o).collect();
         let obstacles = obstacles_raw.iter().map(|o| o.prepare()).collect();
@@ -207,7 +287,11 @@ impl ShadeScene {
                 }
             })
             .collect();
-        ShadeScene { modules, obstacles }
+        ShadeScene {
+            modules,
+            obstacles,
+            light_step_frac,
+        }
     }
 }
 
@@ -240,15 +324,24 @@ pub fn all_interval_curves(
     cond: &Conditions,
     parallel: bool,
 ) -> Vec<Option<IntervalCurves>> {
-    let scene = ShadeScene::new(plan);
+    curves_in_scene(plan, cond, &ShadeScene::new(plan), parallel)
+}
+
+/// [`all_interval_curves`] in a prepared scene.
+pub fn curves_in_scene(
+    plan: &Plan,
+    cond: &Conditions,
+    scene: &ShadeScene,
+    parallel: bool,
+) -> Vec<Option<IntervalCurves>> {
     if parallel {
         (0..cond.intervals.len())
             .into_par_iter()
-            .map(|k| interval_curves(plan, cond, &scene, k))
+            .map(|k| interval_curves(plan, cond, scene, k))
             .collect()
     } else {
         (0..cond.intervals.len())
-            .map(|k| interval_curves(plan, cond, &scene, k))
+            .map(|k| interval_curves(plan, cond, scene, k))
             .collect()
     }
 }
