@@ -267,7 +267,10 @@ pub fn rank(r: &RankRequest, on_layout_done: &(dyn Fn(usize) + Sync)) -> Result<
             &browser,
             written
                 .iter()
-                .find(|p| p.file_name().is_some_and(|n| n == io::report_html::REPORT_HTML))
+                .find(|p| {
+                    p.file_name()
+                        .is_some_and(|n| n == io::report_html::REPORT_HTML)
+                })
                 .cloned(),
         ) {
             written.push(io::report_pdf::print_pdf(browser, &html)?);

@@ -467,7 +467,9 @@ fn ranking(r: &RankResult, ranked: &[&LayoutOutcome], hidden: usize, rejected: u
                     ),
                     awake: format!(
                         "{:.0}",
-                        o.energy.as_ref().map_or(0.0, |e| e.awake_h.iter().sum::<f64>())
+                        o.energy
+                            .as_ref()
+                            .map_or(0.0, |e| e.awake_h.iter().sum::<f64>())
                     ),
                     notes: terminal::layout_notes(r, o).join(", "),
                     difference: (!recommended && !o.difference.is_empty())
@@ -519,10 +521,7 @@ fn checks(r: &RankResult) -> Vec<InputChecks> {
             let n = input_numbers(plan, w, t);
             let mut rows = vec![
                 below(
-                    format!(
-                        "highest string Voc at {:.0} °C (cold morning)",
-                        t.min_air_c
-                    ),
+                    format!("highest string Voc at {:.0} °C (cold morning)", t.min_air_c),
                     n.voc_cold_max_v,
                     c.max_input_v,
                     "V",
@@ -662,7 +661,8 @@ mod tests {
 
     #[test]
     fn an_svg_document_becomes_an_inline_element() {
-        let s = inline_svg("<?xml version=\"1.0\"?>\n<svg width=\"10\" viewBox=\"0 0 10 10\"></svg>");
+        let s =
+            inline_svg("<?xml version=\"1.0\"?>\n<svg width=\"10\" viewBox=\"0 0 10 10\"></svg>");
         assert!(s.starts_with("<svg class=\"picture\""), "{s}");
         assert!(!s.contains("<?xml"));
     }

@@ -27,8 +27,8 @@ pub const CHROMIUM_NAMES: [&str; 2] = ["chromium", "chromium-browser"];
 
 /// The flags every headless run gets: no sandbox (it needs privileges a container often
 /// lacks; the page is our own, with no script), no GPU, and nothing that reaches the
-/// network on its own.
-pub const HEADLESS_FLAGS: [&str; 9] = [
+/// network.
+pub const HEADLESS_FLAGS: [&str; 10] = [
     "--headless",
     "--no-sandbox",
     "--disable-gpu",
@@ -38,6 +38,9 @@ pub const HEADLESS_FLAGS: [&str; 9] = [
     "--disable-component-update",
     "--disable-sync",
     "--hide-scrollbars",
+    // Every host name fails to resolve: nothing the browser tries on its own leaves the
+    // machine (the page itself asks for nothing).
+    "--host-resolver-rules=MAP * ~NOTFOUND",
 ];
 
 /// The browser to use: `WIRERANK_CHROMIUM` when set, else the first of
@@ -89,10 +92,8 @@ impl Profile {
         let nanos = SystemTime::now()
             .duration_since(UNIX_EPOCH)
             .map_or(0, |d| d.as_nanos());
-        let dir = std::env::temp_dir().join(format!(
-            "wirerank-browser-{}-{nanos}",
-            std::process::id()
-        ));
+        let dir =
+            std::env::temp_dir().join(format!("wirerank-browser-{}-{nanos}", std::process::id()));
         fs::create_dir(&dir)?;
         Ok(Profile(dir))
     }
