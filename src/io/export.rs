@@ -411,10 +411,7 @@ fn findings(o: &LayoutOutcome, severity: Severity) -> String {
         .join(LIST_SEPARATOR)
 }
 
-/// The cautions as one line (a CSV cell reads better without line breaks).
-pub fn cautions_one_line() -> String {
-    CAUTIONS.split_whitespace().collect::<Vec<_>>().join(" ")
-}
+pub use crate::design::cautions::cautions_one_line;
 
 fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     let n = r.outcomes.len();

@@ -303,7 +303,7 @@ fn page(r: &RankResult, provenance: &str) -> Page {
         title: format!("Wiring report: {}", r.loaded.site.name),
         site_line: terminal::site_line(&r.loaded),
         run_lines: terminal::header_lines(r),
-        cautions: crate::io::export::cautions_one_line()
+        cautions: crate::design::cautions::cautions_one_line()
             .trim_start_matches("Cautions: ")
             .to_string(),
         decision: terminal::recommendation_text(r).map(Decision::from),

@@ -240,7 +240,9 @@ fn names_from_the_plan_are_escaped_in_the_report() {
         assert!(!text.contains(tag), "an unescaped {tag} in report.html");
     }
     // minijinja's HTML escaping (it also escapes `/` as `&#x2f;`).
-    assert!(text.contains("Cabin &lt;script&gt;alert(1)&lt;&#x2f;script&gt; &amp; &quot;shed&quot;"));
+    assert!(
+        text.contains("Cabin &lt;script&gt;alert(1)&lt;&#x2f;script&gt; &amp; &quot;shed&quot;")
+    );
     assert!(text.contains("&lt;b&gt;three&lt;&#x2f;b&gt; inputs &amp; more"));
     assert!(!text.contains("<b>three"));
     let plain = text_of(&text);
