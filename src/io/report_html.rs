@@ -276,22 +276,10 @@ fn kwh(x: f64) -> String {
 }
 
 fn page(r: &RankResult, provenance: &str) -> Page {
-    let enumerated = r.outcomes.iter().any(|o| o.layout.id.starts_with('E'));
-    let rec_id = r.recommended().map(|o| o.layout.id.clone());
-    let all_ranked: Vec<&LayoutOutcome> = r.outcomes.iter().filter(|o| o.rank.is_some()).collect();
     // As the terminal report: of an enumeration the best 20 and the layout to build.
-    let keep = if enumerated {
-        terminal::DEFAULT_TOP_ENUMERATED
-    } else {
-        usize::MAX
-    };
-    let ranked: Vec<&LayoutOutcome> = all_ranked
-        .iter()
-        .copied()
-        .filter(|o| o.rank.is_some_and(|k| k <= keep) || Some(&o.layout.id) == rec_id.as_ref())
-        .collect();
+    let (ranked, hidden) = terminal::shown_ranked(r, None);
     let rejected: Vec<&LayoutOutcome> = r.outcomes.iter().filter(|o| o.rank.is_none()).collect();
-    let nothing_passes = if all_ranked.is_empty() {
+    let nothing_passes = if ranked.is_empty() {
         let findings: Vec<&[crate::design::rules::Finding]> =
             r.outcomes.iter().map(|o| o.findings.as_slice()).collect();
         nothing_passes_advice(&r.loaded.plan, &findings)
@@ -311,7 +299,7 @@ fn page(r: &RankResult, provenance: &str) -> Page {
         wiring: wiring(r),
         monthly: monthly(r),
         outlook: outlook(r, &ranked),
-        ranking: ranking(r, &ranked, all_ranked.len() - ranked.len(), rejected.len()),
+        ranking: ranking(r, &ranked, hidden, rejected.len()),
         rejected: rejected
             .iter()
             .map(|o| Rejected {

@@ -100,8 +100,6 @@ pub const DEFAULT_TOP_ENUMERATED: usize = 20;
 /// the wiring lists (of every candidate when `wiring_all`), P50/P90, the winter outlook,
 /// monthly energy, the light on each orientation and the cautions.
 pub fn ranking_with(r: &RankResult, wiring_all: bool, top: Option<usize>) -> String {
-    let enumerated = r.outcomes.iter().any(|o| o.layout.id.starts_with('E'));
-    let top = top.or(enumerated.then_some(DEFAULT_TOP_ENUMERATED));
     let t = RankingText::new(r, top);
     let mut out = String::new();
     t.header(&mut out);
@@ -148,18 +146,10 @@ impl<'a> RankingText<'a> {
             .max()
             .unwrap_or(6)
             .clamp(6, 90);
-        let rec = r.recommendation.as_ref().map(|x| x.layout.as_str());
-        let all_ranked: Vec<&LayoutOutcome> =
-            r.outcomes.iter().filter(|o| o.rank.is_some()).collect();
-        let keep = top.unwrap_or(usize::MAX);
-        let ranked: Vec<&LayoutOutcome> = all_ranked
-            .iter()
-            .copied()
-            .filter(|o| o.rank.is_some_and(|k| k <= keep) || Some(o.layout.id.as_str()) == rec)
-            .collect();
+        let (ranked, hidden) = shown_ranked(r, top);
         RankingText {
             r,
-            hidden: all_ranked.len() - ranked.len(),
+            hidden,
             ranked,
             rejected: r.outcomes.iter().filter(|o| o.rank.is_none()).collect(),
             name_w,
@@ -473,6 +463,25 @@ impl<'a> RankingText<'a> {
             }
         }
     }
+}
+
+/// The ranked layouts a report shows, in rank order, and how many it leaves out: the best
+/// `top` and the layout to build; without `top`, every listed layout, or of an enumeration
+/// the best [`DEFAULT_TOP_ENUMERATED`] and the layout to build.
+pub fn shown_ranked(r: &RankResult, top: Option<usize>) -> (Vec<&LayoutOutcome>, usize) {
+    let enumerated = r.outcomes.iter().any(|o| o.layout.id.starts_with('E'));
+    let keep = top
+        .or(enumerated.then_some(DEFAULT_TOP_ENUMERATED))
+        .unwrap_or(usize::MAX);
+    let rec = r.recommendation.as_ref().map(|x| x.layout.as_str());
+    let all_ranked: Vec<&LayoutOutcome> = r.outcomes.iter().filter(|o| o.rank.is_some()).collect();
+    let ranked: Vec<&LayoutOutcome> = all_ranked
+        .iter()
+        .copied()
+        .filter(|o| o.rank.is_some_and(|k| k <= keep) || Some(o.layout.id.as_str()) == rec)
+        .collect();
+    let hidden = all_ranked.len() - ranked.len();
+    (ranked, hidden)
 }
 
 /// The ranking's title: the criterion and how many layouts are ranked and rejected.

@@ -435,3 +435,31 @@ fn pdf_without_a_browser_says_so_and_writes_nothing() {
     assert!(err.contains("no headless browser found"), "{err}");
     assert!(!out.exists());
 }
+
+#[test]
+fn when_nothing_passes_the_report_says_so_with_the_rejections() {
+    let dir = tempfile::tempdir().expect("temporary folder");
+    let out = dir.path().join("out");
+    let plan = fixture("plan_nothing_passes.toml");
+    let o = wirerank(&[
+        "rank",
+        plan.to_str().expect("utf-8"),
+        "--out",
+        out.to_str().expect("utf-8"),
+        "-q",
+    ]);
+    // Exit code 1: the command ran and no layout passes (README, exit codes).
+    assert_eq!(o.status.code(), Some(1), "{}", String::from_utf8_lossy(&o.stderr));
+    let text = std::fs::read_to_string(out.join("report.html")).expect("report.html");
+    assert_self_contained(&text);
+    let plain = text_of(&text);
+    for s in [
+        "No layout passes the electrical limits.",
+        "Rejected layouts",
+        "have a licensed professional check the design",
+        "Provenance",
+    ] {
+        assert!(plain.contains(s), "{s:?} missing");
+    }
+    assert!(!plain.contains("Build L"), "nothing is recommended");
+}
