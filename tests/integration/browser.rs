@@ -449,7 +449,12 @@ fn when_nothing_passes_the_report_says_so_with_the_rejections() {
         "-q",
     ]);
     // Exit code 1: the command ran and no layout passes (README, exit codes).
-    assert_eq!(o.status.code(), Some(1), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(
+        o.status.code(),
+        Some(1),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
     let text = std::fs::read_to_string(out.join("report.html")).expect("report.html");
     assert_self_contained(&text);
     let plain = text_of(&text);
