@@ -48,12 +48,21 @@ fn report(plan: &str) -> (tempfile::TempDir, PathBuf, String) {
     (dir, html, text)
 }
 
+/// A line on stderr that the test harness does not capture (it captures `eprintln!`), so
+/// that a skipped browser test and the screenshots' paths show in a plain `cargo test`.
+fn visible(line: &str) {
+    use std::io::Write as _;
+    let _ = writeln!(std::io::stderr().lock(), "{line}");
+}
+
 /// The browser, or `None` after printing why the test is skipped.
 fn browser(test: &str) -> Option<PathBuf> {
     match find_chromium() {
         Ok(b) => Some(b),
         Err(why) => {
-            eprintln!("SKIPPED: chromium not found, {test} not run ({why})");
+            visible(&format!(
+                "SKIPPED: chromium not found, {test} not run ({why})"
+            ));
             None
         }
     }
@@ -154,7 +163,7 @@ fn screenshot(browser: &Path, page: &Path, name: &str, width: u32, height: u32) 
         "{} is not a PNG",
         png.display()
     );
-    eprintln!("screenshot: {}", png.display());
+    visible(&format!("screenshot: {}", png.display()));
     png
 }
 
