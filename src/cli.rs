@@ -144,8 +144,8 @@ pub struct OutputArgs {
     /// Energy criteria rank on energy offered by the controllers.
     #[arg(long, value_enum)]
     pub by: Option<ByArg>,
-    /// Write monthly.csv, summary.csv, losses.csv, differences.csv, wiring.csv,
-    /// provenance.txt and the plots (PNG and SVG)
+    /// Write report.html (the whole answer on one page), monthly.csv, summary.csv,
+    /// losses.csv, differences.csv, wiring.csv, provenance.txt and the plots (PNG and SVG)
     /// into this folder (created if missing).
     #[arg(long)]
     pub out: Option<PathBuf>,
@@ -163,6 +163,11 @@ pub struct OutputArgs {
     /// With --out, also write hourly.csv (one row per layout and weather interval).
     #[arg(long, requires = "out")]
     pub hourly: bool,
+    /// With --out, also print report.html to report.pdf with a headless Chromium
+    /// (`chromium` or `chromium-browser` on the PATH, or the program WIRERANK_CHROMIUM
+    /// names). Without one, nothing is written and the command says so.
+    #[arg(long, requires = "out")]
+    pub pdf: bool,
     /// Print nothing on stderr (no progress, no warnings).
     #[arg(long, short)]
     pub quiet: bool,
@@ -256,6 +261,7 @@ impl Cli {
                 criterion: self.demo.by.map(Into::into),
                 out: self.demo.out,
                 hourly: self.demo.hourly,
+                pdf: self.demo.pdf,
                 wiring: self.demo.wiring,
                 top: self.demo.top,
                 diagrams: self.demo.diagrams,
@@ -271,6 +277,7 @@ impl Cli {
                 criterion: a.output.by.map(Into::into),
                 out: a.output.out,
                 hourly: a.output.hourly,
+                pdf: a.output.pdf,
                 wiring: a.output.wiring,
                 top: a.output.top,
                 diagrams: a.output.diagrams,

@@ -46,6 +46,8 @@ pub struct RankRequest {
     pub out: Option<PathBuf>,
     /// Also write hourly.csv.
     pub hourly: bool,
+    /// With `out`: also print report.html to report.pdf with a headless browser.
+    pub pdf: bool,
     /// List the wiring of every candidate in the report.
     pub wiring: bool,
     /// At most this many ranked layouts in the report (`None`: the default).

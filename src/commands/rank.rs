@@ -227,6 +227,17 @@ pub const SWAP_SEARCHED: usize = 3;
 pub const SWAP_EVALUATIONS: usize = 400;
 
 pub fn rank(r: &RankRequest, on_layout_done: &(dyn Fn(usize) + Sync)) -> Result<Outcome, Error> {
+    // The browser is looked for first: without one, --pdf fails before anything is written.
+    let browser = if r.pdf {
+        let found = io::report_pdf::find_chromium().map_err(|why| {
+            Error::Usage(format!(
+                "--pdf: {why}. Nothing was written; without --pdf, --out still writes report.html, which any browser can print"
+            ))
+        })?;
+        Some(found)
+    } else {
+        None
+    };
     // The month × hour gain picture needs the per-interval rows, so any export keeps them.
     let result = simulate_and_rank(
         &r.plan,
@@ -251,6 +262,19 @@ pub fn rank(r: &RankRequest, on_layout_done: &(dyn Fn(usize) + Sync)) -> Result<
                 diagrams: r.diagrams.clone(),
             },
         )?;
+        let mut written = written;
+        if let (Some(browser), Some(html)) = (
+            &browser,
+            written
+                .iter()
+                .find(|p| {
+                    p.file_name()
+                        .is_some_and(|n| n == io::report_html::REPORT_HTML)
+                })
+                .cloned(),
+        ) {
+            written.push(io::report_pdf::print_pdf(browser, &html)?);
+        }
         if r.format == OutputFormat::Table {
             stdout.push_str(&format!(
                 "\nWrote {} files to {}:\n",

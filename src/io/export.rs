@@ -23,6 +23,7 @@ use crate::design::rules::Severity;
 use crate::error::Error;
 use crate::io::atomic::{same_file, temp_name};
 use crate::io::plots::{self, Chart};
+use crate::io::report_html::{self, REPORT_HTML};
 use crate::physics::controller::{ControllerModel, TrackerMode};
 use crate::physics::thermal::CellTemperatureModel;
 use crate::results::rank::{Criterion, LayoutOutcome};
@@ -205,19 +206,25 @@ pub fn write_outputs(
         ));
     }
     let planned = plots::plan_charts(r, &opts.diagrams);
+    let mut svgs: Vec<(String, String)> = Vec::new();
     for chart in &planned.charts {
         let name = format!("{}.svg", chart.stem());
         let svg = chart
             .to_svg()
             .map_err(|m| output_error(&dir.join(&name), io::Error::other(m)))?;
-        files.push((name, svg.into_bytes()));
+        svgs.push((chart.stem(), svg));
+    }
+    for (stem, svg) in &svgs {
+        files.push((format!("{stem}.svg"), svg.clone().into_bytes()));
     }
     let mut names: Vec<String> = files.iter().map(|(n, _)| n.clone()).collect();
     names.extend(planned.charts.iter().map(|c| format!("{}.png", c.stem())));
-    files.push((
-        PROVENANCE_TXT.into(),
-        provenance(r, &names, &planned.skipped).into_bytes(),
-    ));
+    names.push(REPORT_HTML.into());
+    let provenance_text = provenance(r, &names, &planned.skipped);
+    let report = report_html::render(r, &report_html::Pictures { svgs: &svgs }, &provenance_text)
+        .map_err(|m| output_error(&dir.join(REPORT_HTML), io::Error::other(m)))?;
+    files.push((REPORT_HTML.into(), report.into_bytes()));
+    files.push((PROVENANCE_TXT.into(), provenance_text.into_bytes()));
     names.push(PROVENANCE_TXT.into());
 
     let mut every_path: Vec<String> = Vec::new();
@@ -404,10 +411,7 @@ fn findings(o: &LayoutOutcome, severity: Severity) -> String {
         .join(LIST_SEPARATOR)
 }
 
-/// The cautions as one line (a CSV cell reads better without line breaks).
-pub fn cautions_one_line() -> String {
-    CAUTIONS.split_whitespace().collect::<Vec<_>>().join(" ")
-}
+pub use crate::design::cautions::cautions_one_line;
 
 fn summary_frame(r: &RankResult) -> Result<DataFrame, PolarsError> {
     let n = r.outcomes.len();

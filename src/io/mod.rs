@@ -11,6 +11,8 @@ pub mod json;
 pub mod monthly_toml;
 pub mod plan_toml;
 pub mod plots;
+pub mod report_html;
+pub mod report_pdf;
 pub mod terminal;
 pub mod typical_year;
 pub mod weather_csv;

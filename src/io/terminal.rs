@@ -31,9 +31,13 @@ const MONTHS: [&str; 12] = [
 
 /// Site line shared by the reports.
 fn site_header(out: &mut String, l: &Loaded) {
+    let _ = writeln!(out, "{}", site_line(l));
+}
+
+/// The site and its weather in one line (no line break).
+pub fn site_line(l: &Loaded) -> String {
     let s = &l.site;
-    let _ = writeln!(
-        out,
+    format!(
         "{}  ({:.2}°, {:.2}°, {:.0} m, UTC{:+})  weather: {} ({} intervals of {} min)",
         s.name,
         s.latitude_deg,
@@ -43,7 +47,7 @@ fn site_header(out: &mut String, l: &Loaded) {
         l.weather.source,
         l.weather.len(),
         l.weather.interval_s / 60
-    );
+    )
 }
 
 /// What module assignment did, in one sentence: the gain over id order for the recommended
@@ -96,8 +100,6 @@ pub const DEFAULT_TOP_ENUMERATED: usize = 20;
 /// the wiring lists (of every candidate when `wiring_all`), P50/P90, the winter outlook,
 /// monthly energy, the light on each orientation and the cautions.
 pub fn ranking_with(r: &RankResult, wiring_all: bool, top: Option<usize>) -> String {
-    let enumerated = r.outcomes.iter().any(|o| o.layout.id.starts_with('E'));
-    let top = top.or(enumerated.then_some(DEFAULT_TOP_ENUMERATED));
     let t = RankingText::new(r, top);
     let mut out = String::new();
     t.header(&mut out);
@@ -144,18 +146,10 @@ impl<'a> RankingText<'a> {
             .max()
             .unwrap_or(6)
             .clamp(6, 90);
-        let rec = r.recommendation.as_ref().map(|x| x.layout.as_str());
-        let all_ranked: Vec<&LayoutOutcome> =
-            r.outcomes.iter().filter(|o| o.rank.is_some()).collect();
-        let keep = top.unwrap_or(usize::MAX);
-        let ranked: Vec<&LayoutOutcome> = all_ranked
-            .iter()
-            .copied()
-            .filter(|o| o.rank.is_some_and(|k| k <= keep) || Some(o.layout.id.as_str()) == rec)
-            .collect();
+        let (ranked, hidden) = shown_ranked(r, top);
         RankingText {
             r,
-            hidden: all_ranked.len() - ranked.len(),
+            hidden,
             ranked,
             rejected: r.outcomes.iter().filter(|o| o.rank.is_none()).collect(),
             name_w,
@@ -164,60 +158,9 @@ impl<'a> RankingText<'a> {
 
     /// Site, system, candidates and what enumeration skipped.
     fn header(&self, out: &mut String) {
-        let r = self.r;
-        site_header(out, &r.loaded);
-        let plan = &r.loaded.plan;
-        let battery = match &plan.battery.model {
-            Some(b) => format!(
-                "battery {} Ah {} V {} (charging voltage follows its state; energy counts what the battery and the load take)",
-                Num(b.params().capacity_ah),
-                Num(b.params().nominal_v),
-                b.params().chemistry.key()
-            ),
-            None => format!("battery charged at {} V", Num(plan.battery.charge_v)),
-        };
-        let _ = writeln!(
-            out,
-            "{} modules, {battery}; limits checked at {:.0} °C (coldest) and {:.0} °C (hottest air)",
-            plan.modules.len(),
-            r.temps.min_air_c,
-            r.temps.max_air_c
-        );
-        let enumerated = r.outcomes.len() - r.listed;
-        let _ = writeln!(
-            out,
-            "{} candidate layouts ({} listed in the plan, {} enumerated)",
-            r.outcomes.len(),
-            r.listed,
-            enumerated
-        );
-        if !r.pruned.is_empty() {
-            let parts: Vec<String> = r
-                .pruned
-                .iter()
-                .map(|(rule, n)| format!("{rule} {n}"))
-                .collect();
-            let _ = writeln!(
-                out,
-                "enumeration skipped input wirings that break a hard limit on their own: {}",
-                parts.join(", ")
-            );
-        }
-        if r.years > 1.0 + 1e-9 {
-            let _ = writeln!(
-                out,
-                "every energy below is per year: the mean of the {:.1} years in the weather file",
-                r.years
-            );
-        }
-        if plan.battery.model.is_some() && plan.consumption.is_none() {
-            let _ = writeln!(out, "{BATTERY_WITHOUT_LOAD}");
-        }
-        for note in crate::design::rules::current_rating_notes(plan) {
-            let _ = writeln!(out, "note: {note}");
-        }
-        for note in facing_away_notes(r) {
-            let _ = writeln!(out, "note: {note}");
+        site_header(out, &self.r.loaded);
+        for line in header_lines(self.r) {
+            let _ = writeln!(out, "{line}");
         }
         let _ = writeln!(out, "{CAUTIONS_SHORT}");
         let _ = writeln!(out);
@@ -225,47 +168,22 @@ impl<'a> RankingText<'a> {
 
     /// The layout to build, why, and the runner-up.
     fn recommendation(&self, out: &mut String) {
-        let Some(rec) = &self.r.recommendation else {
+        let Some(t) = recommendation_text(self.r) else {
             return;
         };
-        let Some(o) = self.r.recommended() else {
-            return;
-        };
-        let _ = writeln!(out, "Build {}: {}", o.layout.id, o.layout.display_name());
-        let _ = writeln!(out, "  Why: {}", rec.reason);
-        if let Some(a) = &self.r.assignment {
-            let _ = writeln!(out, "  {}", assignment_line(a, rec.criterion));
+        let _ = writeln!(out, "{}", t.build);
+        let _ = writeln!(out, "  Why: {}", t.why);
+        if let Some(a) = &t.assignment {
+            let _ = writeln!(out, "  {a}");
         }
-        if let (Some(id), Some(gap)) = (&rec.runner_up, &rec.runner_up_gap) {
-            let name = self
-                .r
-                .outcomes
-                .iter()
-                .find(|x| &x.layout.id == id)
-                .map_or(String::new(), |x| x.layout.display_name());
-            let _ = writeln!(out, "  Runner-up {id} ({name}): {gap}");
-            if let Some(x) = self.r.outcomes.iter().find(|x| &x.layout.id == id) {
-                if !x.difference.is_empty() {
-                    let _ = writeln!(out, "    {}", difference_line(&x.difference));
-                }
+        if let Some(line) = &t.runner_up {
+            let _ = writeln!(out, "  {line}");
+            if let Some(d) = &t.runner_up_difference {
+                let _ = writeln!(out, "    {d}");
             }
         }
-        if rec.tie {
-            let band = match rec.criterion {
-                crate::results::rank::Criterion::Unmet => format!(
-                    "the same days short and unmet load within {:.1} % of the year's load",
-                    UNMET_TIE_FRAC_OF_LOAD * 100.0
-                ),
-                _ => format!("within {:.0} %", TIE_BAND_FRAC * 100.0),
-            };
-            let _ = writeln!(
-                out,
-                "  Tie: the leaders are closer on {} than the model can tell apart ({band}){}",
-                rec.criterion.short(),
-                rec.tie_break
-                    .as_ref()
-                    .map_or(String::new(), |t| format!("; broken by {t}"))
-            );
+        if let Some(tie) = &t.tie {
+            let _ = writeln!(out, "  {tie}");
         }
         let _ = writeln!(out);
     }
@@ -301,32 +219,18 @@ impl<'a> RankingText<'a> {
                 ""
             };
             let _ = writeln!(out, "  {} {}{mark}", o.layout.id, o.layout.display_name());
-            let rows = o.layout.wiring_rows(plan);
-            let mut k = 0;
-            while k < rows.len() {
-                let (input, string) = (&rows[k].input, rows[k].string);
-                let mut modules = Vec::new();
-                let mut groups: Vec<&str> = Vec::new();
-                while k < rows.len() && &rows[k].input == input && rows[k].string == string {
-                    modules.push(rows[k].module.as_str());
-                    if !groups.contains(&rows[k].group.as_str()) {
-                        groups.push(&rows[k].group);
-                    }
-                    k += 1;
-                }
+            let w = wired_strings(o, plan);
+            for st in &w.strings {
                 let _ = writeln!(
                     out,
-                    "    {input} string {string}: {}   ({})",
-                    modules.join(" – "),
-                    groups.join(" + ")
+                    "    {} string {}: {}   ({})",
+                    st.input,
+                    st.string,
+                    st.modules.join(" – "),
+                    st.groups.join(" + ")
                 );
             }
-            let unused: Vec<&str> = plan
-                .modules
-                .iter()
-                .filter(|m| !rows.iter().any(|r| r.module == m.id))
-                .map(|m| m.id.as_str())
-                .collect();
+            let unused = &w.not_wired;
             if !unused.is_empty() {
                 let _ = writeln!(out, "    not wired: {}", unused.join(", "));
             }
@@ -338,19 +242,10 @@ impl<'a> RankingText<'a> {
     fn table(&self, out: &mut String) {
         let (r, name_w) = (self.r, self.name_w);
         let plan = &r.loaded.plan;
-        let winter: Vec<&str> = r.winter_months.iter().map(|&m| MONTHS[m]).collect();
         let _ = writeln!(
             out,
-            "Ranked by {}{} — {} layout{} ranked, {} rejected",
-            r.criterion.describe(),
-            if r.criterion == crate::results::rank::Criterion::Winter {
-                format!(" ({})", winter.join(", "))
-            } else {
-                String::new()
-            },
-            self.ranked.len(),
-            if self.ranked.len() == 1 { "" } else { "s" },
-            self.rejected.len()
+            "{}",
+            ranking_title(r, self.ranked.len(), self.rejected.len())
         );
         let _ = writeln!(
             out,
@@ -368,17 +263,8 @@ impl<'a> RankingText<'a> {
         let rec_id = r.recommendation.as_ref().map(|x| x.layout.as_str());
         for o in &self.ranked {
             let Some(s) = &o.summary else { continue };
-            let score = match r.criterion {
-                crate::results::rank::Criterion::Unmet => format!(
-                    "{:.0} d, {:.1} kWh",
-                    s.annual_days_short(),
-                    s.annual_unmet_kwh()
-                ),
-                _ => format!("{:.1} kWh", o.score_kwh.unwrap_or(0.0)),
-            };
-            let worst = s.worst_month.map_or("-".to_string(), |m| {
-                format!("{:.1} {}", s.offered_kwh[m], MONTHS[m])
-            });
+            let score = score_text(r, o, s);
+            let worst = worst_text(s);
             let mark = if Some(o.layout.id.as_str()) == rec_id {
                 "→"
             } else {
@@ -401,7 +287,7 @@ impl<'a> RankingText<'a> {
                     s.annual_low_sun_delivered_kwh()
                 ),
                 o.energy.as_ref().map_or(0.0, |e| e.awake_h.iter().sum::<f64>()),
-                self.notes_with_twins(o).join(", ")
+                layout_notes(r, o).join(", ")
             );
             if !o.difference.is_empty() {
                 if let Some(id) = rec_id {
@@ -425,32 +311,7 @@ impl<'a> RankingText<'a> {
                 if self.hidden == 1 { "" } else { "s" }
             );
         }
-        let _ = writeln!(
-            out,
-            "  → = the layout to build; energies in kWh a year. offered = what the controllers could put out; delivered = what the battery and the load took (a full battery turns the rest away); worst = the month with the least offered; low-sun = sun below {:.0}°",
-            plan.model.low_sun_elevation_deg
-        );
-    }
-
-    /// The notes column, and the other candidates with the same code (their wiring lists
-    /// say what differs).
-    fn notes_with_twins(&self, o: &LayoutOutcome) -> Vec<String> {
-        let mut n = notes(o, self.r.loaded.plan.modules.len());
-        let twins: Vec<&str> = self
-            .r
-            .outcomes
-            .iter()
-            .filter(|x| x.layout.code == o.layout.code && x.layout.id != o.layout.id)
-            .map(|x| x.layout.id.as_str())
-            .take(3)
-            .collect();
-        if !twins.is_empty() {
-            n.push(format!(
-                "same code as {} (other modules per string: see --wiring)",
-                twins.join(", ")
-            ));
-        }
-        n
+        let _ = writeln!(out, "  → = the layout to build; {}", ranking_legend(r));
     }
 
     /// Rejected layouts with the rules they break.
@@ -500,30 +361,11 @@ impl<'a> RankingText<'a> {
         if self.ranked.is_empty() {
             return;
         }
-        let u = &self.r.loaded.plan.model.uncertainty;
         let _ = writeln!(out);
-        let _ = writeln!(
-            out,
-            "Energy offered a year that you can count on (normal approximation; resource variability {:.1} %, model uncertainty {:.1} %):",
-            u.variability_frac * 100.0,
-            u.model_frac * 100.0
-        );
-        let z = crate::results::uncertainty::z_90();
+        let _ = writeln!(out, "{}:", p90_intro(self.r));
         for o in &self.ranked {
-            if let Some(spread) = o
-                .energy
-                .as_ref()
-                .and_then(|e| empirical_variability(&e.complete_year_totals_kwh()))
-            {
-                let _ = writeln!(
-                    out,
-                    "  {:<4} {} complete years in the weather file: mean {:.1} kWh, spread {:.1} % → empirical one-year P90 {:.1} kWh",
-                    o.layout.id,
-                    spread.years,
-                    spread.mean,
-                    spread.sd_frac * 100.0,
-                    spread.mean * (1.0 - z * spread.sd_frac)
-                );
+            if let Some(line) = empirical_p90_text(o) {
+                let _ = writeln!(out, "  {:<4} {line}", o.layout.id);
             }
             if let Some(p) = &o.p90 {
                 let _ = writeln!(
@@ -621,6 +463,286 @@ impl<'a> RankingText<'a> {
             }
         }
     }
+}
+
+/// The ranked layouts a report shows, in rank order, and how many it leaves out: the best
+/// `top` and the layout to build; without `top`, every listed layout, or of an enumeration
+/// the best [`DEFAULT_TOP_ENUMERATED`] and the layout to build.
+pub fn shown_ranked(r: &RankResult, top: Option<usize>) -> (Vec<&LayoutOutcome>, usize) {
+    let enumerated = r.outcomes.iter().any(|o| o.layout.id.starts_with('E'));
+    let keep = top
+        .or(enumerated.then_some(DEFAULT_TOP_ENUMERATED))
+        .unwrap_or(usize::MAX);
+    let rec = r.recommendation.as_ref().map(|x| x.layout.as_str());
+    let all_ranked: Vec<&LayoutOutcome> = r.outcomes.iter().filter(|o| o.rank.is_some()).collect();
+    let ranked: Vec<&LayoutOutcome> = all_ranked
+        .iter()
+        .copied()
+        .filter(|o| o.rank.is_some_and(|k| k <= keep) || Some(o.layout.id.as_str()) == rec)
+        .collect();
+    let hidden = all_ranked.len() - ranked.len();
+    (ranked, hidden)
+}
+
+/// The ranking's title: the criterion and how many layouts are ranked and rejected.
+pub fn ranking_title(r: &RankResult, ranked: usize, rejected: usize) -> String {
+    let winter: Vec<&str> = r.winter_months.iter().map(|&m| MONTHS[m]).collect();
+    format!(
+        "Ranked by {}{} — {} layout{} ranked, {} rejected",
+        r.criterion.describe(),
+        if r.criterion == crate::results::rank::Criterion::Winter {
+            format!(" ({})", winter.join(", "))
+        } else {
+            String::new()
+        },
+        ranked,
+        if ranked == 1 { "" } else { "s" },
+        rejected
+    )
+}
+
+/// What the ranking's columns mean.
+pub fn ranking_legend(r: &RankResult) -> String {
+    format!(
+        "energies in kWh a year. offered = what the controllers could put out; delivered = what the battery and the load took (a full battery turns the rest away); worst = the month with the least offered; low-sun = sun below {:.0}°",
+        r.loaded.plan.model.low_sun_elevation_deg
+    )
+}
+
+/// The score a ranked layout was ranked on (for `unmet`: days short and kWh unmet a year).
+pub fn score_text(
+    r: &RankResult,
+    o: &LayoutOutcome,
+    s: &crate::results::summary::LayoutSummary,
+) -> String {
+    match r.criterion {
+        crate::results::rank::Criterion::Unmet => format!(
+            "{:.0} d, {:.1} kWh",
+            s.annual_days_short(),
+            s.annual_unmet_kwh()
+        ),
+        _ => format!("{:.1} kWh", o.score_kwh.unwrap_or(0.0)),
+    }
+}
+
+/// The worst month: its energy offered and its name, or `-`.
+pub fn worst_text(s: &crate::results::summary::LayoutSummary) -> String {
+    s.worst_month.map_or("-".to_string(), |m| {
+        format!("{:.1} {}", s.offered_kwh[m], MONTHS[m])
+    })
+}
+
+/// The notes column, and the other candidates with the same code (their wiring lists
+/// say what differs).
+pub fn layout_notes(r: &RankResult, o: &LayoutOutcome) -> Vec<String> {
+    let mut n = notes(o, r.loaded.plan.modules.len());
+    let twins: Vec<&str> = r
+        .outcomes
+        .iter()
+        .filter(|x| x.layout.code == o.layout.code && x.layout.id != o.layout.id)
+        .map(|x| x.layout.id.as_str())
+        .take(3)
+        .collect();
+    if !twins.is_empty() {
+        n.push(format!(
+            "same code as {} (other modules per string: see --wiring)",
+            twins.join(", ")
+        ));
+    }
+    n
+}
+
+/// What P50/P90 rests on, in one line.
+pub fn p90_intro(r: &RankResult) -> String {
+    let u = &r.loaded.plan.model.uncertainty;
+    format!(
+        "Energy offered a year that you can count on (normal approximation; resource variability {:.1} %, model uncertainty {:.1} %)",
+        u.variability_frac * 100.0,
+        u.model_frac * 100.0
+    )
+}
+
+/// The spread of the complete years in a weather file of several years, and the one-year
+/// P90 it gives (`None` with fewer than two complete years).
+pub fn empirical_p90_text(o: &LayoutOutcome) -> Option<String> {
+    let spread = o
+        .energy
+        .as_ref()
+        .and_then(|e| empirical_variability(&e.complete_year_totals_kwh()))?;
+    let z = crate::results::uncertainty::z_90();
+    Some(format!(
+        "{} complete years in the weather file: mean {:.1} kWh, spread {:.1} % → empirical one-year P90 {:.1} kWh",
+        spread.years,
+        spread.mean,
+        spread.sd_frac * 100.0,
+        spread.mean * (1.0 - z * spread.sd_frac)
+    ))
+}
+
+/// One string of a layout as the wiring lists show it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct WiredString {
+    /// The controller input's name.
+    pub input: String,
+    /// The string's number on its input, from 1.
+    pub string: usize,
+    /// Module ids in series order, from the string's first module.
+    pub modules: Vec<String>,
+    /// The orientation groups of its modules, each once.
+    pub groups: Vec<String>,
+}
+
+/// A layout's wiring, module by module: its strings and the modules it leaves unwired.
+#[derive(Clone, Debug, PartialEq)]
+pub struct WiredLayout {
+    pub strings: Vec<WiredString>,
+    pub not_wired: Vec<String>,
+}
+
+/// Which modules form each string of a layout, and which modules are not wired.
+pub fn wired_strings(o: &LayoutOutcome, plan: &crate::input::plan::Plan) -> WiredLayout {
+    let rows = o.layout.wiring_rows(plan);
+    let mut strings = Vec::new();
+    let mut k = 0;
+    while k < rows.len() {
+        let (input, string) = (&rows[k].input, rows[k].string);
+        let mut st = WiredString {
+            input: input.clone(),
+            string,
+            modules: Vec::new(),
+            groups: Vec::new(),
+        };
+        while k < rows.len() && &rows[k].input == input && rows[k].string == string {
+            st.modules.push(rows[k].module.clone());
+            if !st.groups.contains(&rows[k].group) {
+                st.groups.push(rows[k].group.clone());
+            }
+            k += 1;
+        }
+        strings.push(st);
+    }
+    let not_wired = plan
+        .modules
+        .iter()
+        .filter(|m| !rows.iter().any(|r| r.module == m.id))
+        .map(|m| m.id.clone())
+        .collect();
+    WiredLayout { strings, not_wired }
+}
+
+/// The decision in words, line by line, for every report that shows it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct RecommendationText {
+    /// `Build L1: <layout>`.
+    pub build: String,
+    /// Why this layout (one or two sentences).
+    pub why: String,
+    /// What module assignment gained, when enumerated layouts chose modules by shade.
+    pub assignment: Option<String>,
+    /// `Runner-up L2 (<layout>): <what separates it>`.
+    pub runner_up: Option<String>,
+    /// The runner-up's difference from the layout to build by cause.
+    pub runner_up_difference: Option<String>,
+    /// `Tie: …` when the leaders tie.
+    pub tie: Option<String>,
+}
+
+/// The decision's lines, or `None` when no layout is recommended.
+pub fn recommendation_text(r: &RankResult) -> Option<RecommendationText> {
+    let rec = r.recommendation.as_ref()?;
+    let o = r.recommended()?;
+    let mut t = RecommendationText {
+        build: format!("Build {}: {}", o.layout.id, o.layout.display_name()),
+        why: rec.reason.clone(),
+        assignment: r
+            .assignment
+            .as_ref()
+            .map(|a| assignment_line(a, rec.criterion)),
+        runner_up: None,
+        runner_up_difference: None,
+        tie: None,
+    };
+    if let (Some(id), Some(gap)) = (&rec.runner_up, &rec.runner_up_gap) {
+        let x = r.outcomes.iter().find(|x| &x.layout.id == id);
+        let name = x.map_or(String::new(), |x| x.layout.display_name());
+        t.runner_up = Some(format!("Runner-up {id} ({name}): {gap}"));
+        t.runner_up_difference = x
+            .filter(|x| !x.difference.is_empty())
+            .map(|x| difference_line(&x.difference));
+    }
+    if rec.tie {
+        let band = match rec.criterion {
+            crate::results::rank::Criterion::Unmet => format!(
+                "the same days short and unmet load within {:.1} % of the year's load",
+                UNMET_TIE_FRAC_OF_LOAD * 100.0
+            ),
+            _ => format!("within {:.0} %", TIE_BAND_FRAC * 100.0),
+        };
+        t.tie = Some(format!(
+            "Tie: the leaders are closer on {} than the model can tell apart ({band}){}",
+            rec.criterion.short(),
+            rec.tie_break
+                .as_ref()
+                .map_or(String::new(), |t| format!("; broken by {t}"))
+        ));
+    }
+    Some(t)
+}
+
+/// The lines under the site line of a ranking report: the system, the candidates, what
+/// enumeration skipped, and the run's notes.
+pub fn header_lines(r: &RankResult) -> Vec<String> {
+    let mut out: Vec<String> = Vec::new();
+    let plan = &r.loaded.plan;
+    let battery = match &plan.battery.model {
+        Some(b) => format!(
+            "battery {} Ah {} V {} (charging voltage follows its state; energy counts what the battery and the load take)",
+            Num(b.params().capacity_ah),
+            Num(b.params().nominal_v),
+            b.params().chemistry.key()
+        ),
+        None => format!("battery charged at {} V", Num(plan.battery.charge_v)),
+    };
+    out.push(format!(
+        "{} modules, {battery}; limits checked at {:.0} °C (coldest) and {:.0} °C (hottest air)",
+        plan.modules.len(),
+        r.temps.min_air_c,
+        r.temps.max_air_c
+    ));
+    let enumerated = r.outcomes.len() - r.listed;
+    out.push(format!(
+        "{} candidate layouts ({} listed in the plan, {} enumerated)",
+        r.outcomes.len(),
+        r.listed,
+        enumerated
+    ));
+    if !r.pruned.is_empty() {
+        let parts: Vec<String> = r
+            .pruned
+            .iter()
+            .map(|(rule, n)| format!("{rule} {n}"))
+            .collect();
+        out.push(format!(
+            "enumeration skipped input wirings that break a hard limit on their own: {}",
+            parts.join(", ")
+        ));
+    }
+    if r.years > 1.0 + 1e-9 {
+        out.push(format!(
+            "every energy below is per year: the mean of the {:.1} years in the weather file",
+            r.years
+        ));
+    }
+    if plan.battery.model.is_some() && plan.consumption.is_none() {
+        out.push(BATTERY_WITHOUT_LOAD.to_string());
+    }
+    for note in crate::design::rules::current_rating_notes(plan) {
+        out.push(format!("note: {note}"));
+    }
+    for note in facing_away_notes(r) {
+        out.push(format!("note: {note}"));
+    }
+    out
 }
 
 /// The notes column of a ranked layout: mixed orientations, unused modules, then the rules
@@ -745,21 +867,8 @@ pub fn check(r: &CheckResult, show: CheckShow) -> String {
 /// The off-grid owner's view: the load over the year and in the darkest months.
 fn outlook(r: &RankResult, ranked: &[&LayoutOutcome]) -> String {
     let mut out = String::new();
-    let plan = &r.loaded.plan;
-    let spec = plan.battery.model.as_ref();
-    let winter: Vec<&str> = r.winter_months.iter().map(|&m| MONTHS[m]).collect();
     let _ = writeln!(out);
-    let _ = writeln!(
-        out,
-        "Winter outlook ({}) with the load and the battery{}:",
-        winter.join(", "),
-        spec.map_or(String::new(), |b| format!(
-            " ({} Ah, {} V, {})",
-            Num(b.params().capacity_ah),
-            Num(b.params().nominal_v),
-            b.params().chemistry.key()
-        ))
-    );
+    let _ = writeln!(out, "{}:", outlook_title(r));
     let name_w = ranked
         .iter()
         .map(|o| o.layout.display_name().chars().count() + o.layout.id.len() + 1)
@@ -779,58 +888,150 @@ fn outlook(r: &RankResult, ranked: &[&LayoutOutcome]) -> String {
         "curtailed",
         "days short"
     );
+    for row in outlook_rows(r, ranked) {
+        let low = format!(
+            "{:.1}/{:.1}",
+            row.low_sun_offered_kwh, row.low_sun_delivered_kwh
+        );
+        let _ = writeln!(
+            out,
+            "  {:<name_w$} {:>10.1} {:>10.1} {:>10.0} {:>10.0}% {low:>15} | {:>11.1} {:>10.1} {:>10.0}",
+            format!("{} {}", row.id, row.name),
+            row.served_kwh,
+            row.unmet_kwh,
+            row.days_short,
+            row.lowest_soc_pct,
+            row.year_unmet_kwh,
+            row.year_curtailed_kwh,
+            row.year_days_short
+        );
+    }
+    for note in outlook_notes(r) {
+        let _ = writeln!(out, "  {note}");
+    }
+    if let Some((headline, rows)) = battery_sizing_text(r) {
+        let _ = writeln!(out, "  {headline}");
+        let w = rows
+            .iter()
+            .map(|(l, _)| l.chars().count())
+            .max()
+            .unwrap_or(0);
+        for (label, ah) in rows {
+            let pad = w - label.chars().count();
+            let _ = writeln!(out, "    {label}:{:pad$} {ah:>9}", "");
+        }
+    }
+    if let Some(line) = module_sizing_text(r) {
+        let _ = writeln!(out, "  {line}");
+    }
+    out
+}
+
+/// The winter outlook's title: the darkest months and the battery.
+pub fn outlook_title(r: &RankResult) -> String {
+    let winter: Vec<&str> = r.winter_months.iter().map(|&m| MONTHS[m]).collect();
+    format!(
+        "Winter outlook ({}) with the load and the battery{}",
+        winter.join(", "),
+        r.loaded
+            .plan
+            .battery
+            .model
+            .as_ref()
+            .map_or(String::new(), |b| format!(
+                " ({} Ah, {} V, {})",
+                Num(b.params().capacity_ah),
+                Num(b.params().nominal_v),
+                b.params().chemistry.key()
+            ))
+    )
+}
+
+/// One layout in the winter outlook: the darkest months, then the year.
+#[derive(Clone, Debug, PartialEq)]
+pub struct OutlookRow {
+    pub id: String,
+    pub name: String,
+    /// Load served in the darkest months, kWh.
+    pub served_kwh: f64,
+    /// Load unmet in the darkest months, kWh.
+    pub unmet_kwh: f64,
+    /// Days short of energy in the darkest months.
+    pub days_short: f64,
+    /// Lowest state of charge in the darkest months, %.
+    pub lowest_soc_pct: f64,
+    /// Low-sun energy offered and delivered in the darkest months, kWh.
+    pub low_sun_offered_kwh: f64,
+    pub low_sun_delivered_kwh: f64,
+    /// The year's unmet load, curtailed energy (what a full battery turned away), kWh, and
+    /// days short.
+    pub year_unmet_kwh: f64,
+    pub year_curtailed_kwh: f64,
+    pub year_days_short: f64,
+}
+
+/// The winter outlook of each layout shown.
+pub fn outlook_rows(r: &RankResult, ranked: &[&LayoutOutcome]) -> Vec<OutlookRow> {
+    let mut rows = Vec::new();
     for o in ranked {
         let (Some(e), Some(s)) = (&o.energy, &o.summary) else {
             continue;
         };
         let w = |f: &dyn Fn(usize) -> f64| r.winter_months.iter().map(|&m| f(m)).sum::<f64>();
-        let served = w(&|m| e.load_served_wh[m]) / 1000.0;
-        let unmet = w(&|m| e.unmet_wh[m]) / 1000.0;
-        let days = s.winter_days_short;
         let soc = r
             .winter_months
             .iter()
             .map(|&m| e.min_soc_frac[m])
             .fold(f64::INFINITY, f64::min);
-        let low = format!(
-            "{:.1}/{:.1}",
-            w(&|m| s.low_sun_offered_kwh[m]),
-            w(&|m| s.low_sun_delivered_kwh[m])
-        );
-        let _ = writeln!(
-            out,
-            "  {:<name_w$} {served:>10.1} {unmet:>10.1} {days:>10.0} {:>10.0}% {low:>15} | {:>11.1} {:>10.1} {:>10.0}",
-            format!("{} {}", o.layout.id, o.layout.display_name()),
-            soc * 100.0,
-            s.annual_unmet_kwh(),
-            s.annual_curtailed_kwh(),
-            s.annual_days_short()
-        );
+        rows.push(OutlookRow {
+            id: o.layout.id.clone(),
+            name: o.layout.display_name(),
+            served_kwh: w(&|m| e.load_served_wh[m]) / 1000.0,
+            unmet_kwh: w(&|m| e.unmet_wh[m]) / 1000.0,
+            days_short: s.winter_days_short,
+            lowest_soc_pct: soc * 100.0,
+            low_sun_offered_kwh: w(&|m| s.low_sun_offered_kwh[m]),
+            low_sun_delivered_kwh: w(&|m| s.low_sun_delivered_kwh[m]),
+            year_unmet_kwh: s.annual_unmet_kwh(),
+            year_curtailed_kwh: s.annual_curtailed_kwh(),
+            year_days_short: s.annual_days_short(),
+        });
     }
-    if let (Some(o), Some(b)) = (r.recommended(), spec) {
+    rows
+}
+
+/// What the battery's charging cut-off in the cold and its discharge rate cost the layout
+/// to build, when they cost anything.
+pub fn outlook_notes(r: &RankResult) -> Vec<String> {
+    let mut out = Vec::new();
+    if let (Some(o), Some(b)) = (r.recommended(), r.loaded.plan.battery.model.as_ref()) {
         if let Some(e) = &o.energy {
             let cold: f64 = e.cold_blocked_wh.iter().sum::<f64>() / 1000.0;
             if let (Some(t), true) = (b.params().min_charge_air_c, cold > 0.0) {
-                let _ = writeln!(
-                    out,
-                    "  {}: the battery takes no charge below {} °C air (its charging cut-off; the air temperature stands in for the cell's): {cold:.1} kWh a year turned away (in the curtailed figure)",
+                out.push(format!(
+                    "{}: the battery takes no charge below {} °C air (its charging cut-off; the air temperature stands in for the cell's): {cold:.1} kWh a year turned away (in the curtailed figure)",
                     o.layout.id,
                     Num(t)
-                );
+                ));
             }
             let rate: f64 = e.rate_unmet_wh.iter().sum::<f64>() / 1000.0;
             if rate > 0.0 {
-                let _ = writeln!(
-                    out,
-                    "  {}: load above the battery's discharge rate ({} C = {} W) goes unmet: {rate:.1} kWh a year (in the unmet figure)",
+                out.push(format!(
+                    "{}: load above the battery's discharge rate ({} C = {} W) goes unmet: {rate:.1} kWh a year (in the unmet figure)",
                     o.layout.id,
                     Num(b.params().max_discharge_rate_c),
                     Num(b.max_discharge_w())
-                );
+                ));
             }
         }
     }
-    if let Some(s) = &r.sizing {
+    out
+}
+
+/// The smallest battery for the layout to build: the answer in one line, then each
+/// constraint with the capacity it needs.
+pub fn battery_sizing_text(r: &RankResult) -> Option<(String, Vec<(String, String)>)> {
+    r.sizing.as_ref().map(|s| {
         let answer = match s.battery_ah {
             Some(a) if a <= 0.0 => "no battery would be needed".to_string(),
             Some(a) => format!(
@@ -844,9 +1045,8 @@ fn outlook(r: &RankResult, ranked: &[&LayoutOutcome]) -> String {
                 Num(s.limit_ah)
             ),
         };
-        let _ = writeln!(
-            out,
-            "  Smallest battery for {} (steps of {} Ah): {answer}",
+        let headline = format!(
+            "Smallest battery for {} (steps of {} Ah): {answer}",
             s.layout,
             Num(s.step_ah)
         );
@@ -889,17 +1089,13 @@ fn outlook(r: &RankResult, ranked: &[&LayoutOutcome]) -> String {
                 format!("{} Ah", Num(s.discharge_rate_ah)),
             ),
         ];
-        let w = rows
-            .iter()
-            .map(|(l, _)| l.chars().count())
-            .max()
-            .unwrap_or(0);
-        for (label, ah) in rows {
-            let pad = w - label.chars().count();
-            let _ = writeln!(out, "    {label}:{:pad$} {ah:>9}", "");
-        }
-    }
-    if let Some(m) = &r.module_sizing {
+        (headline, rows.to_vec())
+    })
+}
+
+/// The fewest extra modules that would meet the load with the planned battery.
+pub fn module_sizing_text(r: &RankResult) -> Option<String> {
+    r.module_sizing.as_ref().map(|m| {
         let answer = match &m.answer {
             ModuleAnswer::NoneNeeded => format!(
                 "none needed (it leaves {:.1} kWh a year unmet)",
@@ -924,13 +1120,11 @@ fn outlook(r: &RankResult, ranked: &[&LayoutOutcome]) -> String {
                 "not reached: with {tried_modules} more modules {unmet_kwh:.1} kWh a year is still unmet, and {stopped}"
             ),
         };
-        let _ = writeln!(
-            out,
-            "  Fewest extra modules for {} at the planned battery, same wiring rule: {answer}",
+        format!(
+            "Fewest extra modules for {} at the planned battery, same wiring rule: {answer}",
             m.layout
-        );
-    }
-    out
+        )
+    })
 }
 
 fn light_section(r: &RankResult) -> String {

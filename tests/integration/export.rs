@@ -154,6 +154,7 @@ fn writes_every_file_and_leaves_no_temporaries() {
         "monthly_unmet.svg",
         "wiring_L1.png",
         "wiring_L1.svg",
+        wirerank::io::report_html::REPORT_HTML,
     ]
     .map(String::from)
     .into();

@@ -1,5 +1,6 @@
 //! Integration tests, compiled into one binary and grouped by topic.
 mod assign;
+mod browser;
 mod cli;
 mod decision;
 mod electrical;
