@@ -61,7 +61,12 @@ fn main() -> ExitCode {
             let mut msg = format!("error: {e}");
             let mut source = std::error::Error::source(&e);
             while let Some(s) = source {
-                msg.push_str(&format!("\n  caused by: {s}"));
+                // An error that already quotes its cause (`cannot write X: <cause>`) does
+                // not repeat it.
+                let cause = s.to_string();
+                if !msg.contains(&cause) {
+                    msg.push_str(&format!("\n  caused by: {cause}"));
+                }
                 source = s.source();
             }
             eprintln!("{msg}");

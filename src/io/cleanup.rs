@@ -106,7 +106,7 @@ pub fn remove_temporaries_on_signal() -> std::io::Result<()> {
                 for p in held.iter() {
                     match remove_path(p) {
                         Ok(()) => msg.push_str(&format!(
-                            "\n  removed the unfinished temporary {}",
+                            "\n  removed the run's temporary {}",
                             p.display()
                         )),
                         Err(e) => msg.push_str(&format!(

@@ -130,6 +130,8 @@ impl OutputSet {
             .map(|(p, w)| (p.to_path_buf(), (*w).to_string()))
             .collect();
         let started = (|| {
+            // First without the lock, so that a refused folder gets no lock file beside it.
+            inspect(&target, dir, &inputs)?;
             let lock = take_lock(&lock_path, dir)?;
             inspect(&target, dir, &inputs)?;
             sweep_stale(&parent, &base);
@@ -550,7 +552,7 @@ fn join_and(items: &[String]) -> String {
 
 /// Removes the old set now at `at`: the files its manifest lists, the manifest, then the
 /// folder. Anything else found there (a file added while the run was writing) is kept: the
-/// folder is then renamed to `<folder>.kept-<random>` beside the new one.
+/// folder is then renamed to `<folder>.wirerank-kept-<random>` beside the new one.
 fn remove_old_set(at: &Path, parent: &Path, base: &str) {
     let manifest = at.join(MANIFEST);
     for n in read_manifest(&manifest).unwrap_or_default() {

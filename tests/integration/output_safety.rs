@@ -167,7 +167,7 @@ fn a_signal_before_the_swap_leaves_the_old_set_and_no_temporary() {
         assert_eq!(o.status.code(), Some(code), "{err}");
         assert!(err.contains(&format!("stopped by SIG{sig}")), "{err}");
         assert!(
-            err.contains("removed the unfinished temporary") && err.contains("wirerank-new-"),
+            err.contains("removed the run's temporary") && err.contains("wirerank-new-"),
             "{err}"
         );
         assert!(!fresh.exists());
@@ -381,7 +381,8 @@ fn a_folder_of_the_users_files_is_never_lost() {
     // Source: issue 17 (control characters never reach the terminal).
     assert!(!err.contains('\u{1b}'), "{err:?}");
     assert_eq!(snapshot(&docs), before);
-    assert_eq!(names(dir.path()), [".Documents.wirerank-lock", "Documents"]);
+    // Refused before locking: not even a lock file beside the folder.
+    assert_eq!(names(dir.path()), ["Documents"]);
 }
 
 #[test]
