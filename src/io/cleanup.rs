@@ -99,16 +99,18 @@ pub fn remove_temporaries_on_signal() -> std::io::Result<()> {
         .name("signals".into())
         .spawn(move || {
             if let Some(signal) = signals.forever().next() {
-                let name = if signal == SIGINT { "SIGINT" } else { "SIGTERM" };
+                let name = if signal == SIGINT {
+                    "SIGINT"
+                } else {
+                    "SIGTERM"
+                };
                 // Held until the process exits: no writer starts another step.
                 let held = registry();
                 let mut msg = format!("error: stopped by {name}");
                 for p in held.iter() {
                     match remove_path(p) {
-                        Ok(()) => msg.push_str(&format!(
-                            "\n  removed the run's temporary {}",
-                            p.display()
-                        )),
+                        Ok(()) => msg
+                            .push_str(&format!("\n  removed the run's temporary {}", p.display())),
                         Err(e) => msg.push_str(&format!(
                             "\n  could not remove the temporary {}: {e}",
                             p.display()

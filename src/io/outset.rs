@@ -135,8 +135,8 @@ impl OutputSet {
             let lock = take_lock(&lock_path, dir)?;
             inspect(&target, dir, &inputs)?;
             sweep_stale(&parent, &base);
-            let temp = create_fresh_dir(&parent, &base, "new", false)
-                .map_err(|e| output_error(dir, e))?;
+            let temp =
+                create_fresh_dir(&parent, &base, "new", false).map_err(|e| output_error(dir, e))?;
             Ok((lock, temp))
         })();
         match started {
@@ -358,11 +358,7 @@ fn resolve(dir: &Path) -> Result<(PathBuf, Vec<PathBuf>), Error> {
         }
         Err(e) if e.kind() == io::ErrorKind::NotFound => {
             let name = dir.file_name().ok_or_else(|| {
-                refusal(
-                    dir,
-                    io::ErrorKind::InvalidInput,
-                    "not a folder name".into(),
-                )
+                refusal(dir, io::ErrorKind::InvalidInput, "not a folder name".into())
             })?;
             let parent = match dir.parent() {
                 Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
@@ -746,7 +742,10 @@ mod tests {
         let tmp = tempfile::tempdir().expect("temporary folder");
         let p = tmp.path().join(MANIFEST);
         fs::write(&p, format!("{MANIFEST_HEADER}\na.csv\nb.png\n")).expect("manifest");
-        assert_eq!(read_manifest(&p), Some(vec!["a.csv".into(), "b.png".into()]));
+        assert_eq!(
+            read_manifest(&p),
+            Some(vec!["a.csv".into(), "b.png".into()])
+        );
         fs::write(&p, "a.csv\n").expect("manifest");
         assert_eq!(read_manifest(&p), None, "no header, no manifest");
     }

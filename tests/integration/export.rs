@@ -159,7 +159,10 @@ fn writes_every_file_and_leaves_no_temporaries() {
     .into();
     let mut on_disk = listing(&out_dir());
     // Source: output-files.md (the set's manifest, a hidden file beside the set).
-    assert!(on_disk.remove(wirerank::io::outset::MANIFEST), "{on_disk:?}");
+    assert!(
+        on_disk.remove(wirerank::io::outset::MANIFEST),
+        "{on_disk:?}"
+    );
     assert_eq!(on_disk, expected);
     // Beside the folder: only its lock file, no temporary.
     assert_eq!(
@@ -645,7 +648,10 @@ fn a_folder_holding_other_files_is_refused_and_kept_whole() {
         BTreeSet::from([MONTHLY_CSV.to_string(), "notes.txt".to_string()])
     );
     assert!(dir.path().join(MONTHLY_CSV).join("keep").is_dir());
-    assert_eq!(fs::read(dir.path().join("notes.txt")).expect("kept"), b"mine");
+    assert_eq!(
+        fs::read(dir.path().join("notes.txt")).expect("kept"),
+        b"mine"
+    );
 }
 
 #[test]

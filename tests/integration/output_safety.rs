@@ -104,10 +104,7 @@ fn which_set(dir: &Path) -> &'static str {
         "winter"
     } else {
         let keys: Vec<_> = now.keys().collect();
-        panic!(
-            "{} holds neither complete set: {keys:?}",
-            dir.display()
-        )
+        panic!("{} holds neither complete set: {keys:?}", dir.display())
     }
 }
 
@@ -212,7 +209,10 @@ fn a_signal_at_any_moment_leaves_one_complete_set() {
         *seen.entry(o.status.code()).or_insert(0) += 1;
         assert_no_temporaries(dir.path(), "r");
     }
-    assert!(seen.contains_key(&Some(143)), "no run was stopped: {seen:?}");
+    assert!(
+        seen.contains_key(&Some(143)),
+        "no run was stopped: {seen:?}"
+    );
 }
 
 #[test]
@@ -227,7 +227,10 @@ fn a_failed_swap_leaves_the_old_set() {
     );
     let err = text(&o.stderr);
     assert_eq!(o.status.code(), Some(2), "{err}");
-    assert!(err.contains("cannot write") && err.contains("the swap failed"), "{err}");
+    assert!(
+        err.contains("cannot write") && err.contains("the swap failed"),
+        "{err}"
+    );
     assert_eq!(which_set(&out), "annual");
     assert_no_temporaries(dir.path(), "r");
 }
@@ -323,7 +326,10 @@ fn planted_links_are_never_followed() {
     let o = run(&rank_args("annual", &out), &[]);
     let err = text(&o.stderr);
     assert_eq!(o.status.code(), Some(2), "{err}");
-    assert!(err.contains("lock file") && err.contains("not a regular file"), "{err}");
+    assert!(
+        err.contains("lock file") && err.contains("not a regular file"),
+        "{err}"
+    );
     assert!(!out.exists());
     fs::remove_file(dir.path().join(".r.wirerank-lock")).expect("unplant");
 
@@ -375,7 +381,9 @@ fn a_folder_of_the_users_files_is_never_lost() {
     let err = text(&o.stderr);
     assert_eq!(o.status.code(), Some(2), "{err}");
     assert!(
-        err.contains("2 entries") && err.contains("letter.txt") && err.contains("choose an empty or new folder"),
+        err.contains("2 entries")
+            && err.contains("letter.txt")
+            && err.contains("choose an empty or new folder"),
         "{err}"
     );
     // Source: issue 17 (control characters never reach the terminal).
