@@ -247,23 +247,58 @@ fn without_the_exchange_two_renames_replace_the_set() {
     }
 }
 
+/// True once process `pid` has the file `path` open (Linux: its `/proc/PID/fd` links).
+fn has_open(pid: u32, path: &Path) -> bool {
+    let Ok(fds) = fs::read_dir(format!("/proc/{pid}/fd")) else {
+        return false;
+    };
+    fds.flatten()
+        .any(|fd| fs::read_link(fd.path()).is_ok_and(|p| p == path))
+}
+
+/// Polls `cond` every 10 ms for up to 60 s.
+fn wait_until(what: &str, mut cond: impl FnMut() -> bool) {
+    let started = Instant::now();
+    while !cond() {
+        assert!(started.elapsed() < Duration::from_secs(60), "{what}");
+        std::thread::sleep(Duration::from_millis(10));
+    }
+}
+
+#[cfg(target_os = "linux")]
 #[test]
 fn a_second_run_waits_for_the_first_then_replaces_its_set() {
     let dir = tempfile::tempdir().expect("temporary folder");
     let out = dir.path().join("r");
-    let first = spawn(
+    let mut first = spawn(
         &rank_args("annual", &out),
-        &[("WIRERANK_TEST_PAUSE_BEFORE_SWAP", "3000")],
+        &[("WIRERANK_TEST_PAUSE_BEFORE_SWAP", "8000")],
     );
     wait_for_complete_new_set(dir.path(), "r");
-    let started = Instant::now();
-    let second = run(&rank_args("winter", &out), &[]);
-    let waited = started.elapsed();
+    let second = spawn(&rank_args("winter", &out), &[]);
+    // The second run has opened the lock file while the first still holds the lock: it
+    // waits (it creates no fresh folder before it has the lock).
+    let lock = dir
+        .path()
+        .canonicalize()
+        .expect("resolved")
+        .join(".r.wirerank-lock");
+    wait_until("the second run never opened the lock file", || {
+        has_open(second.id(), &lock)
+    });
+    assert!(
+        first.try_wait().expect("status").is_none(),
+        "the first run ended before the second waited: the test proves nothing"
+    );
+    let fresh: Vec<String> = names(dir.path())
+        .into_iter()
+        .filter(|n| n.starts_with(".r.wirerank-new-"))
+        .collect();
+    assert_eq!(fresh.len(), 1, "only the first run writes: {fresh:?}");
     let first = first.wait_with_output().expect("ends");
+    let second = second.wait_with_output().expect("ends");
     assert_eq!(first.status.code(), Some(0), "{}", text(&first.stderr));
     assert_eq!(second.status.code(), Some(0), "{}", text(&second.stderr));
-    // The second run had to wait for the first's swap (about 3 s of pause were left).
-    assert!(waited > Duration::from_millis(1000), "{waited:?}");
     assert_eq!(which_set(&out), "winter");
     assert_no_temporaries(dir.path(), "r");
 }
@@ -274,7 +309,7 @@ fn a_second_run_refuses_clearly_when_the_wait_runs_out() {
     let out = dir.path().join("r");
     let first = spawn(
         &rank_args("annual", &out),
-        &[("WIRERANK_TEST_PAUSE_BEFORE_SWAP", "4000")],
+        &[("WIRERANK_TEST_PAUSE_BEFORE_SWAP", "60000")],
     );
     wait_for_complete_new_set(dir.path(), "r");
     let second = run(
@@ -289,10 +324,12 @@ fn a_second_run_refuses_clearly_when_the_wait_runs_out() {
             && err.contains("waited 0.3 seconds"),
         "{err}"
     );
+    // The first run, stopped, leaves no set (there was none before) and no temporary.
+    signal(&first, "TERM");
     let first = first.wait_with_output().expect("ends");
-    assert_eq!(first.status.code(), Some(0), "{}", text(&first.stderr));
-    assert_eq!(which_set(&out), "annual");
-    assert_no_temporaries(dir.path(), "r");
+    assert_eq!(first.status.code(), Some(143), "{}", text(&first.stderr));
+    assert!(!out.exists());
+    assert_eq!(names(dir.path()), [".r.wirerank-lock"]);
 }
 
 /// Two runs with different criteria started together, five times: both succeed (one waits)
@@ -408,6 +445,16 @@ fn a_signal_before_anything_is_written_exits_with_the_signal_code() {
         ],
         &[],
     );
+    // Once the signal thread runs (main starts it first), and while still simulating.
+    #[cfg(target_os = "linux")]
+    wait_until("no signal thread", || {
+        fs::read_dir(format!("/proc/{}/task", child.id())).is_ok_and(|tasks| {
+            tasks.flatten().any(|t| {
+                fs::read_to_string(t.path().join("comm")).is_ok_and(|c| c.trim() == "signals")
+            })
+        })
+    });
+    #[cfg(not(target_os = "linux"))]
     std::thread::sleep(Duration::from_millis(300));
     signal(&child, "INT");
     let o = child.wait_with_output().expect("ends");
