@@ -727,6 +727,30 @@ mod tests {
         assert_eq!(listing(tmp.path()), [".out.wirerank-lock", "out"]);
     }
 
+    #[cfg(unix)]
+    #[test]
+    fn a_link_to_a_folder_is_honoured_and_stays_a_link() {
+        let tmp = tempfile::tempdir().expect("temporary folder");
+        let real = tmp.path().join("real");
+        fs::create_dir(&real).expect("folder");
+        let link = tmp.path().join("link");
+        std::os::unix::fs::symlink(&real, &link).expect("link");
+        for k in 0..2 {
+            let mut s = OutputSet::begin(&link, &[]).expect("begins");
+            s.write(&format!("x{k}.csv"), b"1\n").expect("writes");
+            assert_eq!(
+                s.commit().expect("commits"),
+                vec![link.join(format!("x{k}.csv"))]
+            );
+            assert!(fs::symlink_metadata(&link)
+                .expect("link")
+                .file_type()
+                .is_symlink());
+            assert_eq!(listing(&real), [MANIFEST.to_string(), format!("x{k}.csv")]);
+        }
+        assert_eq!(listing(tmp.path()), [".real.wirerank-lock", "link", "real"]);
+    }
+
     #[test]
     fn names_must_be_plain_and_new() {
         let tmp = tempfile::tempdir().expect("temporary folder");

@@ -248,6 +248,7 @@ fn without_the_exchange_two_renames_replace_the_set() {
 }
 
 /// True once process `pid` has the file `path` open (Linux: its `/proc/PID/fd` links).
+#[cfg(target_os = "linux")]
 fn has_open(pid: u32, path: &Path) -> bool {
     let Ok(fds) = fs::read_dir(format!("/proc/{pid}/fd")) else {
         return false;
@@ -257,6 +258,7 @@ fn has_open(pid: u32, path: &Path) -> bool {
 }
 
 /// Polls `cond` every 10 ms for up to 60 s.
+#[cfg(target_os = "linux")]
 fn wait_until(what: &str, mut cond: impl FnMut() -> bool) {
     let started = Instant::now();
     while !cond() {
