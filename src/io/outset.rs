@@ -290,8 +290,16 @@ impl OutputSet {
                         return Err(err(e));
                     }
                     if let Err(e) = fs::rename(&temp, target) {
-                        let _ = fs::rename(&old, target);
                         held.forget(&old);
+                        if fs::rename(&old, target).is_err() {
+                            return Err(err(io::Error::new(
+                                e.kind(),
+                                format!(
+                                    "{e}; the previous files are kept whole in {}",
+                                    old.display()
+                                ),
+                            )));
+                        }
                         return Err(err(e));
                     }
                     held.forget(&temp);
