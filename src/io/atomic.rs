@@ -112,6 +112,17 @@ pub fn split_path(path: &Path) -> io::Result<(PathBuf, String)> {
     Ok((parent, name))
 }
 
+/// The test hook `WIRERANK_TEST_PAUSE_BEFORE_SWAP=MS` (DEVELOPERS.md; integration tests
+/// only): sleeps with the new file or set complete, just before it is put in place.
+pub fn pause_before_swap_for_tests() {
+    if let Some(ms) = std::env::var("WIRERANK_TEST_PAUSE_BEFORE_SWAP")
+        .ok()
+        .and_then(|v| v.parse::<u64>().ok())
+    {
+        std::thread::sleep(std::time::Duration::from_millis(ms));
+    }
+}
+
 /// Writes `bytes` to `path` atomically (see the module text); on failure the temporary is
 /// removed and the old file stays.
 ///
@@ -140,6 +151,7 @@ pub fn produce_atomic(
     let tmp = dir.path().join(&name);
     let result = cleanup::guarded(|_| produce(&tmp))
         .and_then(|()| fs::File::open(&tmp)?.sync_all())
+        .map(|()| pause_before_swap_for_tests())
         .and_then(|()| cleanup::guarded(|_| fs::rename(&tmp, path)))
         .and_then(|()| sync_dir(&parent));
     // Empty after the rename; holds the unfinished file after a failure.

@@ -39,7 +39,9 @@ use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
 
 use crate::error::Error;
-use crate::io::atomic::{create_fresh_dir, create_new_file, fresh_name, same_file, sync_dir};
+use crate::io::atomic::{
+    create_fresh_dir, create_new_file, fresh_name, pause_before_swap_for_tests, same_file, sync_dir,
+};
 use crate::io::cleanup::{self, remove_path, Registered};
 use crate::io::plots::Chart;
 
@@ -257,9 +259,7 @@ impl OutputSet {
         }
         sync_dir(&temp).map_err(err)?;
 
-        if let Some(pause) = test_hook_ms("WIRERANK_TEST_PAUSE_BEFORE_SWAP") {
-            std::thread::sleep(pause);
-        }
+        pause_before_swap_for_tests();
         if test_hook("WIRERANK_TEST_FAIL_SWAP").is_some() {
             return Err(err(io::Error::other(
                 "the swap failed (test hook WIRERANK_TEST_FAIL_SWAP)",

@@ -465,3 +465,51 @@ fn a_signal_before_anything_is_written_exits_with_the_signal_code() {
     assert!(err.contains("stopped by SIGINT"), "{err}");
     assert!(!out.exists());
 }
+
+/// A single output file (`weather synth --out`): SIGTERM with the new file complete in its
+/// fresh folder leaves the old file and no temporary.
+#[test]
+fn a_signal_before_a_single_file_is_renamed_leaves_the_old_file() {
+    let dir = tempfile::tempdir().expect("temporary folder");
+    let csv = dir.path().join("synth.csv");
+    fs::write(&csv, "old file").expect("old file");
+    let child = spawn(
+        &[
+            "weather",
+            "synth",
+            "weather-samples/dunewell-pump.monthly.toml",
+            "--seed",
+            "1",
+            "--out",
+            csv.to_str().expect("UTF-8"),
+        ],
+        &[("WIRERANK_TEST_PAUSE_BEFORE_SWAP", "30000")],
+    );
+    let started = Instant::now();
+    loop {
+        let complete = names(dir.path()).iter().any(|n| {
+            n.starts_with(".synth.csv.wirerank-tmp-")
+                && fs::metadata(dir.path().join(n).join("synth.csv"))
+                    .is_ok_and(|m| m.len() > 100_000)
+        });
+        if complete {
+            break;
+        }
+        assert!(
+            started.elapsed() < Duration::from_secs(60),
+            "no temporary appeared"
+        );
+        std::thread::sleep(Duration::from_millis(10));
+    }
+    // Whether the signal lands during the writing or in the pause, the outcome is the same.
+    signal(&child, "TERM");
+    let o = child.wait_with_output().expect("ends");
+    let err = text(&o.stderr);
+    assert_eq!(o.status.code(), Some(143), "{err}");
+    assert!(
+        err.contains("stopped by SIGTERM") && err.contains("wirerank-tmp-"),
+        "{err}"
+    );
+    assert_eq!(fs::read(&csv).expect("old file"), b"old file");
+    assert_eq!(names(dir.path()), ["synth.csv"]);
+}
