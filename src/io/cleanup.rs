@@ -92,6 +92,7 @@ pub fn remove_path(path: &Path) -> std::io::Result<()> {
 ///
 /// # Errors
 /// When the signal handlers or the thread cannot be set up.
+#[cfg(unix)]
 pub fn remove_temporaries_on_signal() -> std::io::Result<()> {
     use signal_hook::consts::signal::{SIGINT, SIGTERM};
     let mut signals = signal_hook::iterator::Signals::new([SIGINT, SIGTERM])?;
@@ -121,6 +122,16 @@ pub fn remove_temporaries_on_signal() -> std::io::Result<()> {
                 std::process::exit(128 + signal);
             }
         })?;
+    Ok(())
+}
+
+/// Elsewhere (no SIGTERM; `signal-hook`'s signal thread is Unix-only) nothing is watched:
+/// Ctrl-C ends the process as before and may leave a hidden temporary.
+///
+/// # Errors
+/// Never.
+#[cfg(not(unix))]
+pub fn remove_temporaries_on_signal() -> std::io::Result<()> {
     Ok(())
 }
 
