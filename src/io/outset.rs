@@ -760,6 +760,24 @@ mod tests {
     }
 
     #[test]
+    fn a_killed_runs_fresh_folder_is_swept_only_when_it_holds_only_files() {
+        let tmp = tempfile::tempdir().expect("temporary folder");
+        let stale = tmp.path().join(".out.wirerank-new-0123456789abcdef");
+        fs::create_dir(&stale).expect("stale folder");
+        fs::write(stale.join("monthly.csv"), "half").expect("half a file");
+        let odd = tmp.path().join(".out.wirerank-new-fedcba9876543210");
+        fs::create_dir_all(odd.join("sub")).expect("folder with a subfolder");
+        let mut s = OutputSet::begin(&tmp.path().join("out"), &[]).expect("begins");
+        s.write("x.csv", b"1").expect("writes");
+        s.commit().expect("commits");
+        assert!(!stale.exists(), "a killed run's files are swept");
+        assert!(
+            odd.join("sub").is_dir(),
+            "a folder with a subfolder is not ours to sweep"
+        );
+    }
+
+    #[test]
     fn names_must_be_plain_and_new() {
         let tmp = tempfile::tempdir().expect("temporary folder");
         let mut s = OutputSet::begin(&tmp.path().join("o"), &[]).expect("begins");
