@@ -1,6 +1,7 @@
 //! The `wirerank` binary: parse arguments, call the library, print, set the exit code.
 //!
-//! Exit codes: 0 success, 1 when no layout passes the limits, 2 bad input or I/O.
+//! Exit codes: 0 success, 1 when no layout passes the limits, 2 bad input or I/O, 130 and
+//! 143 when stopped by SIGINT or SIGTERM (the run's temporary output is removed first).
 
 mod cli;
 
@@ -10,6 +11,11 @@ use std::process::ExitCode;
 use clap::Parser;
 
 fn main() -> ExitCode {
+    // Before anything is written: SIGINT and SIGTERM remove the run's temporaries.
+    if let Err(e) = wirerank::io::cleanup::remove_temporaries_on_signal() {
+        eprintln!("error: cannot watch for SIGINT and SIGTERM: {e}");
+        return ExitCode::from(2);
+    }
     let cli = match cli::Cli::try_parse() {
         Ok(c) => c,
         Err(e) => {
@@ -55,7 +61,12 @@ fn main() -> ExitCode {
             let mut msg = format!("error: {e}");
             let mut source = std::error::Error::source(&e);
             while let Some(s) = source {
-                msg.push_str(&format!("\n  caused by: {s}"));
+                // An error that already quotes its cause (`cannot write X: <cause>`) does
+                // not repeat it.
+                let cause = s.to_string();
+                if !msg.contains(&cause) {
+                    msg.push_str(&format!("\n  caused by: {cause}"));
+                }
                 source = s.source();
             }
             eprintln!("{msg}");

@@ -260,21 +260,9 @@ pub fn rank(r: &RankRequest, on_layout_done: &(dyn Fn(usize) + Sync)) -> Result<
             &io::export::ExportOptions {
                 hourly: r.hourly,
                 diagrams: r.diagrams.clone(),
+                pdf_browser: browser,
             },
         )?;
-        let mut written = written;
-        if let (Some(browser), Some(html)) = (
-            &browser,
-            written
-                .iter()
-                .find(|p| {
-                    p.file_name()
-                        .is_some_and(|n| n == io::report_html::REPORT_HTML)
-                })
-                .cloned(),
-        ) {
-            written.push(io::report_pdf::print_pdf(browser, &html)?);
-        }
         if r.format == OutputFormat::Table {
             stdout.push_str(&format!(
                 "\nWrote {} files to {}:\n",

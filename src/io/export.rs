@@ -1,19 +1,19 @@
 //! The `--out DIR` files of a ranking run: CSV tables (written with polars), a provenance
 //! record and the charts, replaced atomically.
 //!
-//! Every file is first produced whole (CSV and SVG in memory, PNG into a temporary file),
-//! then written as `<name>.tmp` beside its final name and renamed into place only when all
-//! of them exist, so a reader never sees a half-written file. On failure the temporaries
-//! (and any folder this call created) are removed. The files' columns are documented in
-//! notebooks-free-docs/output-files.md and listed here as constants that the tests share.
+//! Every file is first produced whole (CSV and SVG in memory), then the set is written into
+//! a fresh folder beside the target and put in place of the previous set in one step
+//! ([`crate::io::outset`]): a killed, failed or concurrent run leaves either the old complete
+//! set or the new one, and a folder holding anything else is refused. The files' columns
+//! are documented in notebooks-free-docs/output-files.md and listed here as constants that
+//! the tests share.
 //!
 //! This module formats numbers that arrive computed; it does not simulate, rank or decide
 //! what a chart shows (see [`crate::io::plots`]). It never writes over the plan or the
 //! weather file that produced the run.
 
 use std::fmt::Write as _;
-use std::fs;
-use std::io::{self, Write as _};
+use std::io;
 use std::path::{Path, PathBuf};
 
 use polars::prelude::{Column, CsvWriter, DataFrame, PolarsError, SerWriter};
@@ -21,8 +21,9 @@ use polars::prelude::{Column, CsvWriter, DataFrame, PolarsError, SerWriter};
 use crate::design::cautions::CAUTIONS;
 use crate::design::rules::Severity;
 use crate::error::Error;
-use crate::io::atomic::{same_file, temp_name};
-use crate::io::plots::{self, Chart};
+use crate::io::atomic::same_file;
+use crate::io::outset::OutputSet;
+use crate::io::plots;
 use crate::io::report_html::{self, REPORT_HTML};
 use crate::physics::controller::{ControllerModel, TrackerMode};
 use crate::physics::thermal::CellTemperatureModel;
@@ -127,11 +128,13 @@ pub struct ExportOptions {
     pub hourly: bool,
     /// Layout ids whose wiring diagram to draw besides the recommended layout's.
     pub diagrams: Vec<String>,
+    /// A headless browser to print report.html to report.pdf with (`--pdf`), inside the set.
+    pub pdf_browser: Option<PathBuf>,
 }
 
 /// Writes monthly.csv, summary.csv, losses.csv (and hourly.csv when asked) plus
-/// provenance.txt and the charts into `dir` (created if missing). Returns the paths written,
-/// in the order they were renamed into place.
+/// provenance.txt and the charts into `dir` (created if missing), replacing an earlier run's
+/// set as a whole. Returns the paths written, in writing order.
 ///
 /// The gain map needs the run's interval rows (`simulate_and_rank(.., hourly = true)`);
 /// without them it is skipped and provenance.txt says why.
@@ -139,8 +142,10 @@ pub struct ExportOptions {
 /// # Errors
 /// - [`Error::Usage`] when `opts.hourly` is set but the run kept no interval rows.
 /// - [`Error::Output`] naming the path when the folder cannot be created, a file cannot be
-///   written or renamed, or an output name would replace the run's plan or weather file.
-///   Nothing is left behind in that case (no temporary, no folder this call created).
+///   written, the folder holds files that are not an earlier run's set, another run is
+///   writing it, or an output would replace the run's plan or weather file. Nothing is left
+///   behind in that case (no temporary, no folder this call created) and an earlier set is
+///   as it was.
 pub fn write_outputs(
     r: &RankResult,
     dir: &Path,
@@ -227,19 +232,19 @@ pub fn write_outputs(
     files.push((PROVENANCE_TXT.into(), provenance_text.into_bytes()));
     names.push(PROVENANCE_TXT.into());
 
-    let mut every_path: Vec<String> = Vec::new();
-    for n in &names {
-        every_path.push(n.clone());
-        every_path.push(temp_name(n));
-    }
-    refuse_inputs(r, dir, &every_path)?;
+    refuse_inputs(r, dir, &names)?;
 
-    let mut stage = Staging::create(dir)?;
+    let mut stage = OutputSet::begin(dir, &inputs_of(&r.loaded))?;
     for (name, bytes) in &files {
         stage.write(name, bytes)?;
     }
     for chart in &planned.charts {
         stage.png(chart)?;
+    }
+    if let Some(browser) = &opts.pdf_browser {
+        stage.produce(crate::io::report_pdf::REPORT_PDF, |pdf| {
+            crate::io::report_pdf::print_pdf_into(browser, &pdf.with_file_name(REPORT_HTML), pdf)
+        })?;
     }
     stage.commit()
 }
@@ -795,9 +800,8 @@ fn provenance(r: &RankResult, files: &[String], skipped: &[String]) -> String {
     out
 }
 
-/// True when `a` and `b` name the same existing file (same canonical path or, on Unix, the
-/// same inode: a hard link), or the same path text when either cannot be resolved.
-/// Refuses any output (or temporary) name that is the run's plan or weather file.
+/// Refuses any output name that is the run's plan or weather file ([`OutputSet::begin`]
+/// also refuses a folder that holds one under any name).
 fn refuse_inputs(r: &RankResult, dir: &Path, names: &[String]) -> Result<(), Error> {
     refuse_loaded_inputs(&r.loaded, dir, names)
 }
@@ -807,13 +811,10 @@ fn refuse_loaded_inputs(
     dir: &Path,
     names: &[String],
 ) -> Result<(), Error> {
-    let inputs = [
-        (loaded.plan.source.as_path(), "plan"),
-        (loaded.plan.weather_path.as_path(), "weather"),
-    ];
+    let inputs = inputs_of(loaded);
     for name in names {
         let path = dir.join(name);
-        for (input, what) in inputs {
+        for &(input, what) in &inputs {
             if same_file(&path, input) {
                 return Err(output_error(
                     &path,
@@ -830,99 +831,12 @@ fn refuse_loaded_inputs(
     Ok(())
 }
 
-/// Temporaries written so far and folders created, removed again unless committed.
-struct Staging<'a> {
-    dir: &'a Path,
-    /// (temporary, final), in writing order.
-    pending: Vec<(PathBuf, PathBuf)>,
-    /// Folders this call created, the outermost first.
-    created_dirs: Vec<PathBuf>,
-}
-
-impl<'a> Staging<'a> {
-    fn create(dir: &'a Path) -> Result<Self, Error> {
-        let mut created_dirs: Vec<PathBuf> = dir
-            .ancestors()
-            .take_while(|a| !a.as_os_str().is_empty() && fs::symlink_metadata(a).is_err())
-            .map(Path::to_path_buf)
-            .collect();
-        created_dirs.reverse();
-        // Built before creating, so that a half-made chain of folders is removed on failure.
-        let stage = Staging {
-            dir,
-            pending: Vec::new(),
-            created_dirs,
-        };
-        fs::create_dir_all(dir).map_err(|e| output_error(dir, e))?;
-        if !dir.is_dir() {
-            return Err(output_error(
-                dir,
-                io::Error::new(io::ErrorKind::NotADirectory, "not a folder"),
-            ));
-        }
-        Ok(stage)
-    }
-
-    fn write(&mut self, name: &str, bytes: &[u8]) -> Result<(), Error> {
-        let fin = self.dir.join(name);
-        let tmp = self.dir.join(temp_name(name));
-        // Registered before it exists: a failure half-way through still removes it.
-        self.pending.push((tmp.clone(), fin.clone()));
-        let written = fs::File::create(&tmp).and_then(|mut f| {
-            f.write_all(bytes)?;
-            f.sync_all()
-        });
-        written.map_err(|e| output_error(&fin, e))
-    }
-
-    fn png(&mut self, chart: &Chart) -> Result<(), Error> {
-        self.png_named(&chart.stem(), chart)
-    }
-
-    /// As [`Self::png`], under a chosen file stem.
-    fn png_named(&mut self, stem: &str, chart: &Chart) -> Result<(), Error> {
-        let name = format!("{stem}.png");
-        let fin = self.dir.join(&name);
-        let tmp = self.dir.join(temp_name(&name));
-        self.pending.push((tmp.clone(), fin.clone()));
-        chart
-            .to_png(&tmp)
-            .map_err(|m| output_error(&fin, io::Error::other(m)))
-    }
-
-    /// Renames every temporary into place. A rename that fails stops the commit: the
-    /// files already renamed stay (each one whole), the rest are removed.
-    fn commit(mut self) -> Result<Vec<PathBuf>, Error> {
-        let mut written = Vec::with_capacity(self.pending.len());
-        let pending = std::mem::take(&mut self.pending);
-        let mut rest = pending.into_iter();
-        while let Some((tmp, fin)) = rest.next() {
-            if let Err(e) = fs::rename(&tmp, &fin) {
-                self.pending = std::iter::once((tmp, fin)).chain(rest).collect();
-                // The folder now holds finished files: keep it.
-                if !written.is_empty() {
-                    self.created_dirs.clear();
-                }
-                let (_, fin) = &self.pending[0];
-                return Err(output_error(fin, e));
-            }
-            written.push(fin);
-        }
-        self.created_dirs.clear();
-        Ok(written)
-    }
-}
-
-impl Drop for Staging<'_> {
-    fn drop(&mut self) {
-        for (tmp, _) in &self.pending {
-            let _ = fs::remove_file(tmp);
-        }
-        // Only empty folders go (remove_dir refuses others), innermost first.
-        for d in self.created_dirs.iter().rev() {
-            let _ = fs::remove_dir(d);
-        }
-    }
+/// The run's input files and what they are, never replaced by an output.
+fn inputs_of(loaded: &crate::input::Loaded) -> [(&Path, &'static str); 2] {
+    [
+        (loaded.plan.source.as_path(), "plan"),
+        (loaded.plan.weather_path.as_path(), "weather"),
+    ]
 }
 
 /// File name of the shade report's CSV.
@@ -937,7 +851,7 @@ pub const SHADE_COLUMNS: [&str; 5] = [
 ];
 
 /// Writes `shade.csv` (one row per module and month) and the sun-path pictures into `dir`,
-/// atomically.
+/// replacing an earlier run's set as a whole ([`crate::io::outset`]).
 ///
 /// # Errors
 /// [`Error::Output`] naming the path; nothing is left behind.
@@ -991,13 +905,8 @@ pub fn write_shade_csv(r: &crate::results::ShadeResult, dir: &Path) -> Result<Ve
         names.push(format!("{stem}.png"));
         svgs.push((name, svg));
     }
-    let mut every: Vec<String> = Vec::new();
-    for n in &names {
-        every.push(n.clone());
-        every.push(temp_name(n));
-    }
-    refuse_loaded_inputs(&r.loaded, dir, &every)?;
-    let mut stage = Staging::create(dir)?;
+    refuse_loaded_inputs(&r.loaded, dir, &names)?;
+    let mut stage = OutputSet::begin(dir, &inputs_of(&r.loaded))?;
     stage.write(SHADE_CSV, &df)?;
     for (name, svg) in &svgs {
         stage.write(name, svg.as_bytes())?;
@@ -1018,31 +927,5 @@ mod tests {
         let c = cautions_one_line();
         assert!(!c.contains('\n'));
         assert!(c.contains("licensed professional"));
-    }
-
-    #[test]
-    fn staging_removes_its_temporaries_and_folders_when_dropped() {
-        let tmp = tempfile::tempdir().expect("temporary folder");
-        let base = tmp.path().join("new");
-        let dir = base.join("a").join("b");
-        {
-            let mut s = Staging::create(&dir).expect("creates");
-            s.write("x.csv", b"1,2\n").expect("writes");
-            assert!(dir.join("x.csv.tmp").exists());
-        }
-        assert!(!base.exists(), "{} left behind", base.display());
-        assert!(tmp.path().is_dir(), "a folder that existed before stays");
-    }
-
-    #[test]
-    fn staging_commit_renames_and_keeps_the_folder() {
-        let tmp = tempfile::tempdir().expect("temporary folder");
-        let base = tmp.path().join("new");
-        let mut s = Staging::create(&base).expect("creates");
-        s.write("x.csv", b"1,2\n").expect("writes");
-        let written = s.commit().expect("commits");
-        assert_eq!(written, vec![base.join("x.csv")]);
-        assert_eq!(fs::read(base.join("x.csv")).expect("reads"), b"1,2\n");
-        assert!(!base.join("x.csv.tmp").exists());
     }
 }

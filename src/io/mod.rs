@@ -4,11 +4,13 @@
 //! of the library. Nothing here simulates anything; nothing outside here opens a file.
 
 pub mod atomic;
+pub mod cleanup;
 pub mod colour;
 pub mod diagram;
 pub mod export;
 pub mod json;
 pub mod monthly_toml;
+pub mod outset;
 pub mod plan_toml;
 pub mod plots;
 pub mod report_html;

@@ -15,9 +15,6 @@ use std::path::{Path, PathBuf};
 use std::process::Command;
 use std::time::{SystemTime, UNIX_EPOCH};
 
-use crate::error::Error;
-use crate::io::atomic::produce_atomic;
-
 /// The PDF's file name in the `--out` folder.
 pub const REPORT_PDF: &str = "report.pdf";
 /// The environment variable that names the browser to use.
@@ -105,57 +102,48 @@ impl Drop for Profile {
     }
 }
 
-/// Prints `html` (an existing file) to `report.pdf` in the same folder with the browser
-/// `browser`, and returns the PDF's path.
+/// Prints `html` (an existing file) to the PDF file `pdf` with the browser `browser` (the
+/// output set calls it inside the run's new folder, so the PDF joins the set whole or not
+/// at all).
 ///
 /// # Errors
-/// [`Error::Output`] naming report.pdf when the browser cannot be started, fails, or
-/// writes no PDF; nothing is left behind but the files written before.
-pub fn print_pdf(browser: &Path, html: &Path) -> Result<PathBuf, Error> {
-    let dir = html.parent().unwrap_or(Path::new("."));
-    let pdf = dir.join(REPORT_PDF);
-    let fail = |e: io::Error| Error::Output {
-        path: pdf.display().to_string(),
-        source: e,
-    };
-    let page = fs::canonicalize(html).map_err(fail)?;
-    let profile = Profile::create().map_err(fail)?;
-    produce_atomic(&pdf, |tmp| {
-        let out = Command::new(browser)
-            .args(HEADLESS_FLAGS)
-            .arg(format!("--user-data-dir={}", profile.0.display()))
-            .arg("--no-pdf-header-footer")
-            .arg(format!("--print-to-pdf={}", tmp.display()))
-            .arg(file_url(&page))
-            .output()
-            .map_err(|e| {
-                io::Error::new(
-                    e.kind(),
-                    format!("cannot start the browser {}: {e}", browser.display()),
+/// The I/O error when the browser cannot be started, fails, or writes no PDF; its message
+/// names the browser and the last lines it printed.
+pub fn print_pdf_into(browser: &Path, html: &Path, pdf: &Path) -> io::Result<()> {
+    let page = fs::canonicalize(html)?;
+    let profile = Profile::create()?;
+    let out = Command::new(browser)
+        .args(HEADLESS_FLAGS)
+        .arg(format!("--user-data-dir={}", profile.0.display()))
+        .arg("--no-pdf-header-footer")
+        .arg(format!("--print-to-pdf={}", pdf.display()))
+        .arg(file_url(&page))
+        .output()
+        .map_err(|e| {
+            io::Error::new(
+                e.kind(),
+                format!("cannot start the browser {}: {e}", browser.display()),
+            )
+        })?;
+    let made = fs::metadata(pdf).map(|m| m.len() > 0).unwrap_or(false);
+    if !out.status.success() || !made {
+        let err = String::from_utf8_lossy(&out.stderr);
+        let last: Vec<&str> = err.lines().rev().take(3).collect();
+        return Err(io::Error::other(format!(
+            "the browser {} printed no PDF ({}){}",
+            browser.display(),
+            out.status,
+            if last.is_empty() {
+                String::new()
+            } else {
+                format!(
+                    "; it said: {}",
+                    last.into_iter().rev().collect::<Vec<_>>().join(" / ")
                 )
-            })?;
-        let made = fs::metadata(tmp).map(|m| m.len() > 0).unwrap_or(false);
-        if !out.status.success() || !made {
-            let err = String::from_utf8_lossy(&out.stderr);
-            let last: Vec<&str> = err.lines().rev().take(3).collect();
-            return Err(io::Error::other(format!(
-                "the browser {} printed no PDF ({}){}",
-                browser.display(),
-                out.status,
-                if last.is_empty() {
-                    String::new()
-                } else {
-                    format!(
-                        "; it said: {}",
-                        last.into_iter().rev().collect::<Vec<_>>().join(" / ")
-                    )
-                }
-            )));
-        }
-        Ok(())
-    })
-    .map_err(fail)?;
-    Ok(pdf)
+            }
+        )));
+    }
+    Ok(())
 }
 
 /// A `file://` URL for an absolute path, with the characters a URL cannot hold

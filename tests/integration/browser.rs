@@ -405,6 +405,21 @@ fn pdf_is_printed_by_the_browser() {
     assert!(pdf.starts_with(b"%PDF-"), "not a PDF");
     assert!(String::from_utf8_lossy(&o.stdout).contains("report.pdf"));
     assert!(!out.join("report.pdf.tmp").exists());
+    // The PDF is part of the run's set (its manifest lists it): a later run without --pdf
+    // replaces the folder, and the old PDF goes with the old set.
+    let listed = std::fs::read_to_string(out.join(".wirerank-set")).expect("manifest");
+    assert!(listed.lines().any(|l| l == "report.pdf"), "{listed}");
+    let again = wirerank(&["rank", "demo", "--out", out.to_str().expect("utf-8"), "-q"]);
+    assert!(
+        again.status.success(),
+        "{}",
+        String::from_utf8_lossy(&again.stderr)
+    );
+    assert!(
+        !out.join("report.pdf").exists(),
+        "the old set's PDF went with it"
+    );
+    assert!(out.join("report.html").exists());
 }
 
 #[test]

@@ -158,7 +158,18 @@ fn writes_every_file_and_leaves_no_temporaries() {
     ]
     .map(String::from)
     .into();
-    assert_eq!(listing(&out_dir()), expected);
+    let mut on_disk = listing(&out_dir());
+    // Source: output-files.md (the set's manifest, a hidden file beside the set).
+    assert!(
+        on_disk.remove(wirerank::io::outset::MANIFEST),
+        "{on_disk:?}"
+    );
+    assert_eq!(on_disk, expected);
+    // Beside the folder: only its lock file, no temporary.
+    assert_eq!(
+        listing(written().0.path()),
+        BTreeSet::from(["run".to_string(), ".run.wirerank-lock".to_string()])
+    );
     let returned: BTreeSet<String> = paths
         .iter()
         .map(|p| {
@@ -608,11 +619,13 @@ fn unwritable_folder_is_an_output_error_and_leaves_nothing() {
 }
 
 #[test]
-fn failed_rename_removes_every_temporary() {
-    // A folder where monthly.csv should go: the first rename fails, after every temporary
-    // was written.
+fn a_folder_holding_other_files_is_refused_and_kept_whole() {
+    // A folder where monthly.csv should go, and a file of the user's: replacing the folder
+    // as a whole would lose them, so nothing is written (output-files.md, "How the files
+    // are written").
     let dir = tempfile::tempdir().expect("temporary folder");
     fs::create_dir_all(dir.path().join(MONTHLY_CSV).join("keep")).expect("blocking folder");
+    fs::write(dir.path().join("notes.txt"), "mine").expect("user file");
     match write_outputs(
         demo(),
         dir.path(),
@@ -621,14 +634,25 @@ fn failed_rename_removes_every_temporary() {
             ..ExportOptions::default()
         },
     ) {
-        Err(Error::Output { path, .. }) => assert!(path.ends_with(MONTHLY_CSV), "{path}"),
+        Err(Error::Output { source, .. }) => {
+            let m = source.to_string();
+            assert!(
+                m.contains("2 entries") && m.contains("monthly.csv and notes.txt"),
+                "{m}"
+            );
+            assert!(m.contains("choose an empty or new folder"), "{m}");
+        }
         other => panic!("expected an output error, got {other:?}"),
     }
     assert_eq!(
         listing(dir.path()),
-        BTreeSet::from([MONTHLY_CSV.to_string()])
+        BTreeSet::from([MONTHLY_CSV.to_string(), "notes.txt".to_string()])
     );
     assert!(dir.path().join(MONTHLY_CSV).join("keep").is_dir());
+    assert_eq!(
+        fs::read(dir.path().join("notes.txt")).expect("kept"),
+        b"mine"
+    );
 }
 
 #[test]

@@ -9,5 +9,6 @@ mod export;
 mod golden;
 mod invariants;
 mod limits;
+mod output_safety;
 mod synth;
 mod weather;

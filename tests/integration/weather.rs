@@ -383,7 +383,12 @@ fn write_is_atomic_and_round_trips() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("copy.csv");
     wirerank::io::weather_csv::write_weather_csv(&w, &out).unwrap();
-    assert!(!dir.path().join("copy.csv.tmp").exists());
+    // No temporary is left beside the file (io/atomic.rs writes through a hidden folder).
+    let left: Vec<String> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    assert_eq!(left, ["copy.csv"]);
     let again = read_weather_csv(&out).unwrap();
     assert_eq!(again.len(), w.len());
     assert_eq!(again.ghi_w_m2, w.ghi_w_m2);
