@@ -6,6 +6,7 @@
 
 use crate::error::PlanError;
 use crate::input::plan::{Battery, Consumption, DEFAULT_AUTONOMY_DAYS};
+use crate::num::Num;
 
 use super::ctx::Ctx;
 use super::raw::{RawBattery, RawLoad, S};
@@ -77,7 +78,7 @@ fn validate_battery(ctx: &Ctx, b: &RawBattery) -> Result<Battery, PlanError> {
             model: None,
         });
     };
-    let capacity_ah = ctx.above(cap, "battery.capacity_ah", 0.0, 1e9)?;
+    let capacity_ah = ctx.above(cap, "battery.capacity_ah", 0.0, 100_000.0)?;
     let chemistry = match b.chemistry.as_ref().map(|c| c.get_ref().as_str()) {
         None | Some("lead-acid") => Chemistry::LeadAcid,
         Some("lifepo4") => Chemistry::LiFePo4,
@@ -141,6 +142,10 @@ fn validate_battery(ctx: &Ctx, b: &RawBattery) -> Result<Battery, PlanError> {
     })
 }
 
+/// Largest load in one hour of the day, Wh: 100 kWh in an hour is a hundred times what a
+/// battery system of this size serves; the bound keeps every sum finite.
+pub(super) const MAX_HOURLY_LOAD_WH: f64 = 100_000.0;
+
 fn hours24(ctx: &Ctx, v: &S<Vec<f64>>, key: &str) -> Result<[f64; 24], PlanError> {
     let x = v.get_ref();
     if x.len() != 24 {
@@ -155,11 +160,14 @@ fn hours24(ctx: &Ctx, v: &S<Vec<f64>>, key: &str) -> Result<[f64; 24], PlanError
     }
     let mut out = [0.0; 24];
     for (h, w) in x.iter().enumerate() {
-        if !w.is_finite() || *w < 0.0 {
+        if !w.is_finite() || *w < 0.0 || *w > MAX_HOURLY_LOAD_WH {
             return Err(ctx.err(
                 v.span(),
                 key,
-                format!("{key}: hour {h} = {w} must be a finite number ≥ 0 (Wh)"),
+                format!(
+                    "{key}: hour {h} = {w} is outside 0 to {} Wh (the energy the load takes in that hour)",
+                    Num(MAX_HOURLY_LOAD_WH)
+                ),
             ));
         }
         out[h] = *w;

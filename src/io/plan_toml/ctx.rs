@@ -31,7 +31,11 @@ impl Ctx<'_> {
         let (line, column) = self.line_col(span.start);
         self.warnings
             .borrow_mut()
-            .push(format!("{}:{line}:{column} {message}", self.file));
+            .push(format!(
+                "{}:{line}:{column} {}",
+                self.file,
+                crate::text::escape_line(&message)
+            ));
     }
 
     pub(super) fn err(
@@ -45,8 +49,8 @@ impl Ctx<'_> {
             file: self.file.clone(),
             line,
             column,
-            key: key.to_string(),
-            message,
+            key: crate::text::escape_line(key).into_owned(),
+            message: crate::text::escape_line(&message).into_owned(),
         }
     }
 

@@ -29,6 +29,10 @@ pub(super) fn enumerate_all(ctx: &Ctx, raw: Option<&S<String>>) -> Result<bool, 
     }
 }
 
+/// Most `[[layout]]` tables in one plan (enumeration has its own limit,
+/// `design::candidates::MAX_CANDIDATES`).
+pub const MAX_LISTED_LAYOUTS: usize = 1000;
+
 /// Every `[[layout]]`, in file order; at least one unless `layouts = "all"`.
 pub(super) fn validate_layouts(
     ctx: &Ctx,
@@ -37,6 +41,18 @@ pub(super) fn validate_layouts(
     modules: &[Module],
     controllers: &[ControllerInput],
 ) -> Result<Vec<LayoutSpec>, PlanError> {
+    if let Some(l) = raw.get(MAX_LISTED_LAYOUTS) {
+        return Err(ctx.err(
+            l.span(),
+            "layout",
+            format!(
+                "the plan lists {} [[layout]] tables, above the limit of {MAX_LISTED_LAYOUTS}; \
+                 keep the wirings you want to compare, or use layouts = \"all\" to try every \
+                 regular wiring",
+                raw.len()
+            ),
+        ));
+    }
     let mut layouts = Vec::new();
     for (k, l) in raw.iter().enumerate() {
         layouts.push(validate_layout(ctx, k, l, modules, controllers)?);
