@@ -92,9 +92,9 @@ pub fn read_any_weather(path: &Path) -> Result<Weather, WeatherError> {
     let name = crate::text::escape_line(&path.display().to_string()).into_owned();
     let text = crate::io::read_input_text(path, crate::io::WEATHER_MAX_BYTES, "weather file")
         .map_err(|source| WeatherError::Read {
-        file: name.clone(),
-        source,
-    })?;
+            file: name.clone(),
+            source,
+        })?;
     if looks_like_typical_year(&text) {
         parse_typical_year(&text, &name).map(|i| i.weather)
     } else {
@@ -110,9 +110,9 @@ pub fn read_typical_year(path: &Path) -> Result<Imported, WeatherError> {
     let name = crate::text::escape_line(&path.display().to_string()).into_owned();
     let text = crate::io::read_input_text(path, crate::io::WEATHER_MAX_BYTES, "weather file")
         .map_err(|source| WeatherError::Read {
-        file: name.clone(),
-        source,
-    })?;
+            file: name.clone(),
+            source,
+        })?;
     parse_typical_year(&text, &name)
 }
 

@@ -68,9 +68,9 @@ pub fn read_weather_csv(path: &Path) -> Result<Weather, WeatherError> {
     let name = crate::text::escape_line(&path.display().to_string()).into_owned();
     let text = crate::io::read_input_text(path, crate::io::WEATHER_MAX_BYTES, "weather file")
         .map_err(|source| WeatherError::Read {
-        file: name.clone(),
-        source,
-    })?;
+            file: name.clone(),
+            source,
+        })?;
     parse_weather_csv(&text, &name)
 }
 

@@ -298,14 +298,15 @@ fn book_light(
         let direct = g.effective[k].beam_w_m2 + g.effective[k].circumsolar_w_m2;
         let b = t.bypass_diodes as f64;
         let sky = g.effective[k].isotropic_w_m2 + g.effective[k].horizon_w_m2;
-        let shaded: f64 = ic.blocked[mi].iter().map(|f| f * direct / b).sum::<f64>()
-            + (1.0 - ic.diffuse_factor[mi]) * sky;
+        let shaded: f64 = ic.blocked(mi).iter().map(|f| f * direct / b).sum::<f64>()
+            + (1.0 - ic.diffuse_factor(mi)) * sky;
         e.potential_wh[m] += poa * scale;
         e.losses_wh[Step::Incidence][m] += (poa - after_iam) * scale;
         e.losses_wh[Step::Soiling][m] += (after_iam - eff) * scale;
         e.losses_wh[Step::Shading][m] += shaded * scale;
         let light_after_shade = (eff - shaded) * scale;
-        let mpp: f64 = ic.module_subs[mi]
+        let mpp: f64 = ic
+            .module_subs(mi)
             .iter()
             .map(|&s| ic.curves[s as usize].mpp_w)
             .sum();
@@ -421,7 +422,7 @@ fn build_input_curves(
     for st in &w.strings {
         let mut key: Vec<u16> = st
             .iter()
-            .flat_map(|&mi| ic.module_subs[mi].iter().copied())
+            .flat_map(|&mi| ic.module_subs(mi).iter().copied())
             .collect();
         key.sort_unstable();
         let slot = match s.keys[..distinct].iter().position(|k| *k == key) {

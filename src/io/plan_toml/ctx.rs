@@ -29,13 +29,11 @@ impl Ctx<'_> {
     /// the errors); the plan keeps them for stderr.
     pub(super) fn warn(&self, span: std::ops::Range<usize>, message: String) {
         let (line, column) = self.line_col(span.start);
-        self.warnings
-            .borrow_mut()
-            .push(format!(
-                "{}:{line}:{column} {}",
-                self.file,
-                crate::text::escape_line(&message)
-            ));
+        self.warnings.borrow_mut().push(format!(
+            "{}:{line}:{column} {}",
+            self.file,
+            crate::text::escape_line(&message)
+        ));
     }
 
     pub(super) fn err(

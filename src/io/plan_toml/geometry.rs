@@ -314,7 +314,12 @@ fn validate_obstacle(
     let obstacle = match r.kind.get_ref().as_str() {
         "pole" => {
             let hint = "a pole takes east_m, north_m, radius_m and height_m";
-            not_for(r.footprint_m.as_ref().map(S::span), "footprint_m", "pole", hint)?;
+            not_for(
+                r.footprint_m.as_ref().map(S::span),
+                "footprint_m",
+                "pole",
+                hint,
+            )?;
             not_for(r.base_m.as_ref().map(S::span), "base_m", "pole", hint)?;
             Obstacle::Pole {
                 base_e_m: need(&r.east_m, "east_m", -SCENE_EXTENT_M, SCENE_EXTENT_M)?,
@@ -381,7 +386,9 @@ fn box_obstacle(ctx: &Ctx, k: usize, o: &S<RawObstacle>) -> Result<Obstacle, Pla
         ));
     }
     for (i, p) in pts.iter().enumerate() {
-        if p.iter().any(|x| !(-SCENE_EXTENT_M..=SCENE_EXTENT_M).contains(x)) {
+        if p.iter()
+            .any(|x| !(-SCENE_EXTENT_M..=SCENE_EXTENT_M).contains(x))
+        {
             return Err(ctx.err(
                 fp.span(),
                 &key("footprint_m"),

@@ -33,12 +33,13 @@ use raw::RawPlan;
 /// The file cannot be read, is not valid TOML, has unknown keys, or a value is out of range.
 pub fn read_plan(path: &Path) -> Result<Plan, PlanError> {
     let name = crate::text::escape_line(&path.display().to_string()).into_owned();
-    let text = crate::io::read_input_text(path, crate::io::PLAN_MAX_BYTES, "plan").map_err(
-        |e| PlanError::Read {
-            path: name.clone(),
-            source: e,
-        },
-    )?;
+    let text =
+        crate::io::read_input_text(path, crate::io::PLAN_MAX_BYTES, "plan").map_err(|e| {
+            PlanError::Read {
+                path: name.clone(),
+                source: e,
+            }
+        })?;
     let base = path.parent().unwrap_or_else(|| Path::new(""));
     parse_plan(&text, &name, base)
 }
