@@ -8,5 +8,6 @@ mod export;
 mod golden;
 mod invariants;
 mod limits;
+mod limits_input;
 mod synth;
 mod weather;
