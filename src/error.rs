@@ -183,7 +183,7 @@ pub enum WeatherError {
     },
 
     /// A value outside its physically plausible range.
-    #[error("{file} line {line}: {column} = {value} is outside {range}{hint}")]
+    #[error("{file} line {line}: {column} = {} is outside {range}{hint}", crate::num::typed(.value))]
     OutOfRange {
         file: String,
         line: usize,

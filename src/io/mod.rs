@@ -60,7 +60,15 @@ pub fn read_input_text(
     limit: u64,
     what: &str,
 ) -> Result<String, std::io::Error> {
-    let bytes = read_input_bytes(path, limit, what)?;
+    decode_input_text(read_input_bytes(path, limit, what)?, what)
+}
+
+/// The bytes of an input file as UTF-8 text; invalid UTF-8 is reported with its 1-based line
+/// and byte offset. `what` names the kind of file in the message.
+///
+/// # Errors
+/// An [`std::io::Error`] of kind `InvalidData`.
+pub fn decode_input_text(bytes: Vec<u8>, what: &str) -> Result<String, std::io::Error> {
     String::from_utf8(bytes).map_err(|e| {
         let offset = e.utf8_error().valid_up_to();
         let bytes = e.as_bytes();

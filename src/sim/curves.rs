@@ -184,9 +184,11 @@ pub fn interval_curves(
         .zip(&keys)
         .map(|(p, (group, _, _))| {
             let drop = plan.module_types[plan.groups[*group].module_type].bypass_drop_v;
+            let mpp_w = p.max_power_point().p;
+            debug_assert!(mpp_w.is_finite(), "substring maximum power {mpp_w}");
             SubCurve {
                 curve: substring_curve(&p, drop, &grid),
-                mpp_w: p.max_power_point().p,
+                mpp_w,
             }
         })
         .collect();

@@ -510,6 +510,11 @@ pub fn simulate_layouts(
 ) -> Vec<LayoutEnergy> {
     let one = |l: &&Layout| {
         let e = simulate_layout(plan, cond, curves, l, opts.hourly);
+        debug_assert!(
+            e.all_finite(),
+            "layout {}: a simulated figure is not finite",
+            l.id
+        );
         if let Some(done) = opts.on_layout_done {
             done(layouts.len());
         }

@@ -5,6 +5,7 @@ mod decision;
 mod electrical;
 mod enumerate;
 mod export;
+mod fuzz;
 mod golden;
 mod invariants;
 mod limits;

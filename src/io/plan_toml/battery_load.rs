@@ -78,7 +78,7 @@ fn validate_battery(ctx: &Ctx, b: &RawBattery) -> Result<Battery, PlanError> {
             model: None,
         });
     };
-    let capacity_ah = ctx.above(cap, "battery.capacity_ah", 0.0, 100_000.0)?;
+    let capacity_ah = ctx.above(cap, "battery.capacity_ah", 0.0, 1e9)?;
     let chemistry = match b.chemistry.as_ref().map(|c| c.get_ref().as_str()) {
         None | Some("lead-acid") => Chemistry::LeadAcid,
         Some("lifepo4") => Chemistry::LiFePo4,
@@ -165,7 +165,8 @@ fn hours24(ctx: &Ctx, v: &S<Vec<f64>>, key: &str) -> Result<[f64; 24], PlanError
                 v.span(),
                 key,
                 format!(
-                    "{key}: hour {h} = {w} is outside 0 to {} Wh (the energy the load takes in that hour)",
+                    "{key}: hour {h} = {} is outside 0 to {} Wh (the energy the load takes in that hour)",
+                    crate::num::Typed(*w),
                     Num(MAX_HOURLY_LOAD_WH)
                 ),
             ));

@@ -4,7 +4,7 @@
 //! Section rules (what range applies to which key) live in the section files, not here.
 
 use crate::error::PlanError;
-use crate::num::Num;
+use crate::num::{Num, Typed};
 
 use super::raw::{OneOrMonthly, S};
 
@@ -59,7 +59,7 @@ impl Ctx<'_> {
             return Err(self.err(
                 v.span(),
                 key,
-                format!("{key} = {x} is outside {} to {}", Num(lo), Num(hi)),
+                format!("{key} = {} is outside {} to {}", Typed(x), Num(lo), Num(hi)),
             ));
         }
         Ok(x)
@@ -73,7 +73,8 @@ impl Ctx<'_> {
                 v.span(),
                 key,
                 format!(
-                    "{key} = {x} must be above {} and at most {}",
+                    "{key} = {} must be above {} and at most {}",
+                    Typed(x),
                     Num(lo),
                     Num(hi)
                 ),
@@ -144,7 +145,11 @@ impl Ctx<'_> {
                 return Err(self.err(
                     v.span(),
                     key,
-                    format!("{key}: month {} = {x} is outside {lo} to {hi}", k + 1),
+                    format!(
+                        "{key}: month {} = {} is outside {lo} to {hi}",
+                        k + 1,
+                        Typed(*x)
+                    ),
                 ));
             }
             out[k] = x * scale;

@@ -8,7 +8,7 @@ use crate::error::PlanError;
 use crate::input::plan::{Geometry, Group, Module, ModuleType};
 use crate::physics::shade::{HorizonProfile, ModulePlacement, Obstacle};
 
-use crate::num::Num;
+use crate::num::{Num, Typed};
 
 use super::ctx::Ctx;
 use super::raw::{RawGroup, RawModuleHorizon, RawObstacle, RawPlan, S};
@@ -168,8 +168,9 @@ fn group_grid(
                 centre.span(),
                 &k("centre_m"),
                 format!(
-                    "{}: {what} = {x} is outside {} to {} m",
+                    "{}: {what} = {} is outside {} to {} m",
                     k("centre_m"),
+                    Typed(x),
                     Num(lo),
                     Num(hi)
                 ),
@@ -396,8 +397,8 @@ fn box_obstacle(ctx: &Ctx, k: usize, o: &S<RawObstacle>) -> Result<Obstacle, Pla
                     "{} corner {} = [{}, {}] is outside -{e} to {e} m east and north",
                     key("footprint_m"),
                     i + 1,
-                    p[0],
-                    p[1],
+                    Typed(p[0]),
+                    Typed(p[1]),
                     e = Num(SCENE_EXTENT_M)
                 ),
             ));
