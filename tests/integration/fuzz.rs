@@ -20,7 +20,7 @@ use proptest::test_runner::{Config, TestCaseError, TestRunner};
 
 /// Cases per target in a plain `cargo test` run (each target stays well under 20 s in a
 /// release build).
-const FUZZ_CASES_DEFAULT: u32 = 300;
+const FUZZ_CASES_DEFAULT: u32 = 2000;
 
 fn root() -> &'static Path {
     Path::new(env!("CARGO_MANIFEST_DIR"))
@@ -268,7 +268,7 @@ fn decode(bytes: &[u8], what: &str) -> Result<Option<String>, TestCaseError> {
     }
 }
 
-fn finite_weather(w: &wirerank::input::weather::Weather) -> Result<(), TestCaseError> {
+fn finite_weather(w: &wirerank::input::weather::Weather) -> Result<bool, TestCaseError> {
     let columns = [
         Some(&w.ghi_w_m2),
         w.dni_w_m2.as_ref(),
@@ -282,12 +282,12 @@ fn finite_weather(w: &wirerank::input::weather::Weather) -> Result<(), TestCaseE
         prop_assert!(c.iter().all(|x| x.is_finite()), "a value that is not finite");
     }
     prop_assert!(w.len() <= wirerank::input::weather::MAX_INTERVALS);
-    Ok(())
+    Ok(true)
 }
 
-fn check_plan(bytes: &[u8]) -> Result<(), TestCaseError> {
+fn check_plan(bytes: &[u8]) -> Result<bool, TestCaseError> {
     let Some(text) = decode(bytes, "plan")? else {
-        return Ok(());
+        return Ok(false);
     };
     match wirerank::io::plan_toml::parse_plan(&text, "fuzz.toml", Path::new("/nonexistent")) {
         Ok(plan) => {
@@ -295,25 +295,25 @@ fn check_plan(bytes: &[u8]) -> Result<(), TestCaseError> {
             for w in &plan.warnings {
                 clean(w)?;
             }
-            Ok(())
+            Ok(true)
         }
-        Err(e) => clean(&e.to_string()),
+        Err(e) => clean(&e.to_string()).map(|_| false),
     }
 }
 
-fn check_weather_csv(bytes: &[u8]) -> Result<(), TestCaseError> {
+fn check_weather_csv(bytes: &[u8]) -> Result<bool, TestCaseError> {
     let Some(text) = decode(bytes, "weather file")? else {
-        return Ok(());
+        return Ok(false);
     };
     match wirerank::io::weather_csv::parse_weather_csv(&text, "fuzz.csv") {
         Ok(w) => finite_weather(&w),
-        Err(e) => clean(&e.to_string()),
+        Err(e) => clean(&e.to_string()).map(|_| false),
     }
 }
 
-fn check_typical_year(bytes: &[u8]) -> Result<(), TestCaseError> {
+fn check_typical_year(bytes: &[u8]) -> Result<bool, TestCaseError> {
     let Some(text) = decode(bytes, "weather file")? else {
-        return Ok(());
+        return Ok(false);
     };
     match wirerank::io::typical_year::parse_typical_year(&text, "fuzz.csv") {
         Ok(i) => {
@@ -322,7 +322,7 @@ fn check_typical_year(bytes: &[u8]) -> Result<(), TestCaseError> {
             }
             finite_weather(&i.weather)
         }
-        Err(e) => clean(&e.to_string()),
+        Err(e) => clean(&e.to_string()).map(|_| false),
     }
 }
 
@@ -331,7 +331,7 @@ fn check_typical_year(bytes: &[u8]) -> Result<(), TestCaseError> {
 fn fuzz(
     name: &str,
     strategy: impl Strategy<Value = Vec<u8>>,
-    check: fn(&[u8]) -> Result<(), TestCaseError>,
+    check: fn(&[u8]) -> Result<bool, TestCaseError>,
 ) -> u64 {
     for (target, case) in REGRESSIONS {
         if *target == name {
@@ -351,13 +351,20 @@ fn fuzz(
     };
     let deadline = seconds.map(|s| Instant::now() + Duration::from_secs(s));
     let mut total = 0u64;
+    let accepted = std::sync::atomic::AtomicU64::new(0);
     loop {
         let mut runner = if on_demand {
             TestRunner::new(config.clone())
         } else {
             TestRunner::new_with_rng(config.clone(), proptest::test_runner::TestRng::deterministic_rng(config.rng_algorithm))
         };
-        if let Err(e) = runner.run(&strategy, |b| check(&b)) {
+        let result = runner.run(&strategy, |b| {
+            if check(&b)? {
+                accepted.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+            }
+            Ok(())
+        });
+        if let Err(e) = result {
             panic!("{name}: {e}");
         }
         total += u64::from(batch);
@@ -367,7 +374,10 @@ fn fuzz(
         }
     }
     if on_demand {
-        eprintln!("fuzz {name}: {total} cases, no failure");
+        eprintln!(
+            "fuzz {name}: {total} cases, no failure ({} accepted, the rest refused with a clean message)",
+            accepted.into_inner()
+        );
     }
     total
 }
