@@ -239,11 +239,20 @@ impl LayoutEnergy {
             && self.losses_wh.0.iter().flatten().all(|x| x.is_finite())
             && self.daily_soc_frac.iter().all(|x| x.is_finite())
             && self.hourly.iter().all(|h| {
-                [h.potential_w, h.available_w, h.delivered_w, h.harvest_w, h.clipped_w]
-                    .iter()
-                    .all(|x| x.is_finite())
+                [
+                    h.potential_w,
+                    h.available_w,
+                    h.delivered_w,
+                    h.harvest_w,
+                    h.clipped_w,
+                ]
+                .iter()
+                .all(|x| x.is_finite())
             })
-            && self.yearly.iter().all(|(_, a, b)| a.is_finite() && b.is_finite())
+            && self
+                .yearly
+                .iter()
+                .all(|(_, a, b)| a.is_finite() && b.is_finite())
     }
 
     /// Annual totals of the calendar years the weather file covers completely, kWh.

@@ -176,7 +176,8 @@ fn splice(b: &mut Vec<u8>, (s, e): (usize, usize), with: &[u8]) {
 }
 
 fn apply(mut b: Vec<u8>, m: &Mutation) -> Vec<u8> {
-    let lines = |b: &[u8]| -> Vec<Vec<u8>> { b.split(|&c| c == b'\n').map(<[u8]>::to_vec).collect() };
+    let lines =
+        |b: &[u8]| -> Vec<Vec<u8>> { b.split(|&c| c == b'\n').map(<[u8]>::to_vec).collect() };
     match m {
         Mutation::FlipBit(p, bit) if !b.is_empty() => {
             let n = b.len();
@@ -279,7 +280,10 @@ fn finite_weather(w: &wirerank::input::weather::Weather) -> Result<bool, TestCas
         w.pressure_hpa.as_ref(),
     ];
     for c in columns.into_iter().flatten() {
-        prop_assert!(c.iter().all(|x| x.is_finite()), "a value that is not finite");
+        prop_assert!(
+            c.iter().all(|x| x.is_finite()),
+            "a value that is not finite"
+        );
     }
     prop_assert!(w.len() <= wirerank::input::weather::MAX_INTERVALS);
     Ok(true)
@@ -356,7 +360,10 @@ fn fuzz(
         let mut runner = if on_demand {
             TestRunner::new(config.clone())
         } else {
-            TestRunner::new_with_rng(config.clone(), proptest::test_runner::TestRng::deterministic_rng(config.rng_algorithm))
+            TestRunner::new_with_rng(
+                config.clone(),
+                proptest::test_runner::TestRng::deterministic_rng(config.rng_algorithm),
+            )
         };
         let result = runner.run(&strategy, |b| {
             if check(&b)? {
@@ -390,24 +397,72 @@ const REGRESSIONS: &[(&str, &[u8])] = &[
     ("plan", b"[load]\ndaily_wh = [1e308]\n"),
     ("plan", b"\xff\xfe[site]"),
     ("plan", b"[[obstacle]]\nkind = \"pole\"\nfootprint_m = 1\n"),
-    ("weather", b"# wirerank weather 1\n# interval_min = 60\n\x00\n"),
-    ("weather", b"# wirerank weather 1\ntime_local,ghi_w_m2,air_temp_c\n2025-01-01T00:00,1e308,nan\n"),
+    (
+        "weather",
+        b"# wirerank weather 1\n# interval_min = 60\n\x00\n",
+    ),
+    (
+        "weather",
+        b"# wirerank weather 1\ntime_local,ghi_w_m2,air_temp_c\n2025-01-01T00:00,1e308,nan\n",
+    ),
     ("typical-year", b"LOCATION,\x1b,-,XX,x,0,1e308,inf,1,1\n"),
 ];
 
 const PLAN_TOKENS: [&str; 22] = [
-    "[site]", "[[layout]]", "[[obstacle]]", "[group.a]", "[load]", "[battery]", " = ", "\n",
-    "\"", "[", "]", ",", "1", "-2.5", "true", "kind", "strings.a", "count", "#", "'''",
-    "\\u0000", "{ a = 1 }",
+    "[site]",
+    "[[layout]]",
+    "[[obstacle]]",
+    "[group.a]",
+    "[load]",
+    "[battery]",
+    " = ",
+    "\n",
+    "\"",
+    "[",
+    "]",
+    ",",
+    "1",
+    "-2.5",
+    "true",
+    "kind",
+    "strings.a",
+    "count",
+    "#",
+    "'''",
+    "\\u0000",
+    "{ a = 1 }",
 ];
 const CSV_TOKENS: [&str; 16] = [
-    "# wirerank weather 1\n", "# interval_min = 60\n", "# latitude_deg = 47\n",
-    "time_local,ghi_w_m2,air_temp_c\n", "2025-01-01T00:00", ",", "\n", "# ", "=", "12.5",
-    "-3", "ghi_w_m2", "dni_w_m2", "2025-02-29T00:00", "T", ":",
+    "# wirerank weather 1\n",
+    "# interval_min = 60\n",
+    "# latitude_deg = 47\n",
+    "time_local,ghi_w_m2,air_temp_c\n",
+    "2025-01-01T00:00",
+    ",",
+    "\n",
+    "# ",
+    "=",
+    "12.5",
+    "-3",
+    "ghi_w_m2",
+    "dni_w_m2",
+    "2025-02-29T00:00",
+    "T",
+    ":",
 ];
 const TYPICAL_TOKENS: [&str; 12] = [
-    "LOCATION,A,-,XX,x,0,45,7,1,300\n", "DESIGN CONDITIONS,0\n", "DATA PERIODS,1,1,Data,Sunday, 1/ 1,12/31\n",
-    "1995,1,1,1,60,A7A7A7A7,", ",", "\n", "9999", "99.9", "-3.0", "0", "999999", "COMMENTS 1,x\n",
+    "LOCATION,A,-,XX,x,0,45,7,1,300\n",
+    "DESIGN CONDITIONS,0\n",
+    "DATA PERIODS,1,1,Data,Sunday, 1/ 1,12/31\n",
+    "1995,1,1,1,60,A7A7A7A7,",
+    ",",
+    "\n",
+    "9999",
+    "99.9",
+    "-3.0",
+    "0",
+    "999999",
+    "COMMENTS 1,x\n",
 ];
 
 fn plan_seeds() -> Vec<String> {
@@ -455,5 +510,9 @@ fn fuzz_typical_year_importer() {
     .iter()
     .map(|f| fixture(f))
     .collect();
-    fuzz("typical-year", input(seeds, &TYPICAL_TOKENS), check_typical_year);
+    fuzz(
+        "typical-year",
+        input(seeds, &TYPICAL_TOKENS),
+        check_typical_year,
+    );
 }

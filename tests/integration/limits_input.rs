@@ -121,7 +121,10 @@ fn huge_obstacle_position_and_height_are_refused() {
         &["rank", s(&p)],
         &["obstacle[1].east_m = 1e308 is outside -1000 to 1000"],
     );
-    let (_d, p) = demo_with(&[(SPRUCE, &SPRUCE.replace("height_m = 5.0", "height_m = 1e308"))]);
+    let (_d, p) = demo_with(&[(
+        SPRUCE,
+        &SPRUCE.replace("height_m = 5.0", "height_m = 1e308"),
+    )]);
     refused(
         &["rank", s(&p)],
         &["obstacle[1].height_m = 1e308 must be above 0 and at most 500"],
@@ -138,10 +141,9 @@ fn huge_obstacle_position_and_height_are_refused() {
         SPRUCE,
         "footprint_m = [[10, -6], [1e308, -6], [14, -4], [10, -4]]\nheight_m = 5.0",
     )]);
-    let p_text = std::fs::read_to_string(&p).unwrap().replace(
-        "kind = \"pole\"",
-        "kind = \"box\"",
-    );
+    let p_text = std::fs::read_to_string(&p)
+        .unwrap()
+        .replace("kind = \"pole\"", "kind = \"box\"");
     std::fs::write(&p, p_text).unwrap();
     refused(
         &["rank", s(&p)],
@@ -218,7 +220,11 @@ fn dev_zero_as_plan_or_weather_is_refused_before_reading() {
     ] {
         let out = wirerank_within(args, limit);
         assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
-        assert!(stderr(&out).contains("not a regular file"), "{}", stderr(&out));
+        assert!(
+            stderr(&out).contains("not a regular file"),
+            "{}",
+            stderr(&out)
+        );
     }
 }
 
@@ -240,7 +246,9 @@ fn fifo_as_plan_or_weather_is_refused_without_blocking() {
     let err = stderr(&out);
     assert_eq!(out.status.code(), Some(2), "{err}");
     assert!(
-        err.contains("it is a named pipe (FIFO), not a regular file; give the path of a saved plan"),
+        err.contains(
+            "it is a named pipe (FIFO), not a regular file; give the path of a saved plan"
+        ),
         "{err}"
     );
     let (_d, p) = demo_with(&[(
@@ -256,7 +264,11 @@ fn fifo_as_plan_or_weather_is_refused_without_blocking() {
     assert!(err.contains("named pipe (FIFO)"), "{err}");
     let out = wirerank_within(&["weather", "import", s(&fifo), "--out", "x.csv"], limit);
     assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
-    assert!(stderr(&out).contains("named pipe (FIFO)"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("named pipe (FIFO)"),
+        "{}",
+        stderr(&out)
+    );
 }
 
 /// A plan above 1 MiB is refused from its size alone (the demo plan is about 6 kB).
@@ -397,14 +409,20 @@ fn control_characters_from_the_plan_are_escaped_on_the_terminal() {
     assert!(stdout.contains("red\\x1b[31m"), "{stdout}");
 
     let (_d, p) = demo_with(&[(first, "[[layout]]\nstrings.\"mp\\u0000pt\"")]);
-    refused(&["rank", s(&p)], &["\"mp\\0pt\" names no [controller] table"]);
+    refused(
+        &["rank", s(&p)],
+        &["\"mp\\0pt\" names no [controller] table"],
+    );
 
     // A raw control character in a weather file is refused with its line and column.
     let w = std::fs::read_to_string(root().join("tests/fixtures/weather_15min.csv")).unwrap();
     let dir = tempfile::tempdir().unwrap();
     let bad = dir.path().join("w.csv");
-    std::fs::write(&bad, w.replacen("2025-06-21T00:15,0.0", "2025-06-21T00:15,\u{1b}0.0", 1))
-        .unwrap();
+    std::fs::write(
+        &bad,
+        w.replacen("2025-06-21T00:15,0.0", "2025-06-21T00:15,\u{1b}0.0", 1),
+    )
+    .unwrap();
     refused(
         &["weather", "inspect", s(&bad)],
         &["line 11: column 18 holds the control character U+001B; a weather file is plain text"],
@@ -462,8 +480,14 @@ fn accepted_extremes_give_finite_outputs_end_to_end() {
     let (dir, p) = demo_with(&[
         (DEMO_LOAD, &big_load),
         ("capacity_ah = 220", "capacity_ah = 1000000000"),
-        ("usable_dod_pct = 50", "usable_dod_pct = 100\nmax_charge_rate_c = 10\nmax_discharge_rate_c = 10"),
-        ("unmet_target_kwh = 0", "unmet_target_kwh = 1000000\nautonomy_days = 30"),
+        (
+            "usable_dod_pct = 50",
+            "usable_dod_pct = 100\nmax_charge_rate_c = 10\nmax_discharge_rate_c = 10",
+        ),
+        (
+            "unmet_target_kwh = 0",
+            "unmet_target_kwh = 1000000\nautonomy_days = 30",
+        ),
         ("main_run_length_m = 12", "main_run_length_m = 1000"),
         ("string_lead_length_m = 5", "string_lead_length_m = 1000"),
         (
@@ -495,7 +519,10 @@ fn accepted_extremes_give_finite_outputs_end_to_end() {
     let mut csvs = 0;
     for entry in std::fs::read_dir(&out_dir).expect("the output folder") {
         let path = entry.unwrap().path();
-        if path.extension().is_some_and(|e| e == "csv" || e == "json" || e == "toml") {
+        if path
+            .extension()
+            .is_some_and(|e| e == "csv" || e == "json" || e == "toml")
+        {
             let text = std::fs::read_to_string(&path).unwrap();
             assert!(!not_finite(&text), "{}", path.display());
             csvs += 1;
@@ -526,4 +553,21 @@ fn accepted_extremes_give_finite_outputs_end_to_end() {
         }
     }
     walk(&v, "");
+}
+
+/// Campaign finding: 10,000 modules with `layouts = "all"` passed 14 GB. Enumeration takes at
+/// most 100 modules; the message says to list layouts instead.
+#[test]
+fn enumerating_more_than_100_modules_is_refused() {
+    let (_d, p) = demo_with(&[
+        ("[site]\n", "layouts = \"all\"\n\n[site]\n"),
+        (
+            "[battery]\n",
+            "[group.more]\nmodule_type = \"m120\"\ncount = 93\ntilt_deg = 30\nazimuth_deg = 180\n\n[battery]\n",
+        ),
+    ]);
+    refused(
+        &["rank", s(&p)],
+        &["layouts = \"all\" enumerates the wirings of at most 100 modules and the plan has 101"],
+    );
 }

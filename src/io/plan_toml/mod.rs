@@ -83,7 +83,7 @@ fn validate(ctx: &Ctx, raw: RawPlan, base_dir: &Path) -> Result<Plan, PlanError>
     let controllers = controllers::validate_controllers(ctx, raw.controller.as_ref(), &battery)?;
     let cables = cables::require_cables(ctx, raw.cables.as_ref())?;
     let shade = shade::validate_shades(ctx, &raw.shade, &modules, &module_types)?;
-    let enumerate_all = layouts::enumerate_all(ctx, raw.layouts.as_ref())?;
+    let enumerate_all = layouts::enumerate_all(ctx, raw.layouts.as_ref(), &modules)?;
     let layouts =
         layouts::validate_layouts(ctx, &raw.layout, enumerate_all, &modules, &controllers)?;
     let geometry = geometry::validate_geometry(ctx, &raw, &groups, &modules, &module_types)?;
