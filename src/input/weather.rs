@@ -88,8 +88,16 @@ pub fn check_interval_count(file: &str, count: usize) -> Result<(), WeatherError
 /// The first control character other than tab (and the line breaks that end lines) in a
 /// text, as (1-based line, 1-based column in characters, code point).
 pub fn first_control_character(text: &str) -> Option<(usize, usize, u32)> {
-    for (i, line) in text.split('\n').enumerate() {
-        let line = line.strip_suffix('\r').unwrap_or(line);
+    let lines: Vec<&str> = text.split('\n').collect();
+    let last = lines.len() - 1;
+    for (i, line) in lines.into_iter().enumerate() {
+        // A carriage return ends a line only before a line feed (CRLF); a lone one, even at
+        // the end of the text, is a control character.
+        let line = if i < last {
+            line.strip_suffix('\r').unwrap_or(line)
+        } else {
+            line
+        };
         if let Some((col, c)) = line
             .chars()
             .enumerate()

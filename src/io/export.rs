@@ -690,7 +690,8 @@ const MONTH_NAMES: [&str; 12] = [
 ];
 
 /// provenance.txt: what produced these files, and with which models. No clock time is
-/// recorded, so the same inputs give the same bytes.
+/// recorded, so the same inputs give the same bytes. User text (names, paths) has its control
+/// characters escaped, like everything printed on a terminal.
 fn provenance(r: &RankResult, files: &[String], skipped: &[String]) -> String {
     let l = &r.loaded;
     let plan = &l.plan;
@@ -788,7 +789,7 @@ fn provenance(r: &RankResult, files: &[String], skipped: &[String]) -> String {
     }
     let _ = writeln!(out);
     let _ = writeln!(out, "{CAUTIONS}");
-    out
+    crate::text::escape_controls(&out).into_owned()
 }
 
 /// True when `a` and `b` name the same existing file (same canonical path or, on Unix, the

@@ -521,7 +521,7 @@ fn accepted_extremes_give_finite_outputs_end_to_end() {
         let path = entry.unwrap().path();
         if path
             .extension()
-            .is_some_and(|e| e == "csv" || e == "json" || e == "toml")
+            .is_some_and(|e| e == "csv" || e == "json" || e == "toml" || e == "txt")
         {
             let text = std::fs::read_to_string(&path).unwrap();
             assert!(!not_finite(&text), "{}", path.display());
