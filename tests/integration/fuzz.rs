@@ -231,10 +231,8 @@ fn apply(mut b: Vec<u8>, m: &Mutation) -> Vec<u8> {
 /// A mutated seed file, or random text from the format's tokens (one case in five).
 fn input(seeds: Vec<String>, tokens: &'static [&'static str]) -> impl Strategy<Value = Vec<u8>> {
     let n = seeds.len();
-    let mutated = (0..n, prop::collection::vec(mutation(), 1..6)).prop_map(move |(i, ms)| {
-        ms.iter()
-            .fold(seeds[i].clone().into_bytes(), |b, m| apply(b, m))
-    });
+    let mutated = (0..n, prop::collection::vec(mutation(), 1..6))
+        .prop_map(move |(i, ms)| ms.iter().fold(seeds[i].clone().into_bytes(), apply));
     let random = prop::collection::vec(
         prop_oneof![
             (0..tokens.len()).prop_map(move |i| tokens[i].as_bytes().to_vec()),
