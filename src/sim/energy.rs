@@ -218,8 +218,10 @@ impl LayoutEnergy {
 }
 
 impl LayoutEnergy {
-    /// True when every figure is a finite number. Validated inputs have finite ranges, so a
-    /// value that is not finite is a bug; the simulation checks this in debug builds.
+    /// True when every figure is a finite number (`min_soc_frac` may also be NaN, its mark
+    /// for "no battery model" or a month without intervals). Validated inputs have finite
+    /// ranges, so any other value that is not finite is a bug; the simulation checks this in
+    /// debug builds.
     pub fn all_finite(&self) -> bool {
         let months = [
             &self.potential_wh,
@@ -228,7 +230,6 @@ impl LayoutEnergy {
             &self.load_from_harvest_wh,
             &self.unmet_wh,
             &self.unmet_days_mean,
-            &self.min_soc_frac,
             &self.low_sun_offered_wh,
             &self.low_sun_delivered_wh,
             &self.pwm_clamp_wh,
@@ -236,6 +237,10 @@ impl LayoutEnergy {
             &self.other_tracking_wh,
         ];
         months.iter().all(|m| m.iter().all(|x| x.is_finite()))
+            && self
+                .min_soc_frac
+                .iter()
+                .all(|x| x.is_finite() || x.is_nan())
             && self.losses_wh.0.iter().flatten().all(|x| x.is_finite())
             && self.daily_soc_frac.iter().all(|x| x.is_finite())
             && self.hourly.iter().all(|h| {
