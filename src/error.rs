@@ -183,7 +183,7 @@ pub enum WeatherError {
     },
 
     /// A value outside its physically plausible range.
-    #[error("{file} line {line}: {column} = {value} is outside {range}{hint}")]
+    #[error("{file} line {line}: {column} = {} is outside {range}{hint}", crate::num::typed(.value))]
     OutOfRange {
         file: String,
         line: usize,
@@ -281,6 +281,23 @@ pub enum WeatherError {
         what: String,
         value: f64,
         range: String,
+    },
+
+    /// More intervals than a run accepts (`input::weather::MAX_INTERVALS`).
+    #[error("{file}: {count} intervals is above the limit of {max}; use a longer interval_min (10, 15, 30 or 60 minutes) or a shorter period (notebooks-free-docs/limits-and-file-safety.md)")]
+    TooManyIntervals {
+        file: String,
+        count: usize,
+        max: usize,
+    },
+
+    /// A control character (other than tab) in a text input file.
+    #[error("{file} line {line}: column {column} holds the control character U+{code:04X}; a weather file is plain text")]
+    ControlCharacter {
+        file: String,
+        line: usize,
+        column: usize,
+        code: u32,
     },
 
     /// polars refused the file in a way the line-by-line checks did not foresee.

@@ -17,6 +17,7 @@
 //! weather_gen  synthesis of a year from monthly means; the demo year
 //! time       local-standard and UTC instants, the one civil calendar
 //! num        numbers in messages without floating-point noise
+//! text       user text in messages with control characters escaped
 //! ```
 //!
 //! Only `io/` touches files and knows file formats; only the binary knows command-line flags.
@@ -31,6 +32,7 @@ pub mod num;
 pub mod physics;
 pub mod results;
 pub mod sim;
+pub mod text;
 pub mod time;
 pub mod weather_gen;
 

@@ -35,13 +35,13 @@ fn main() -> ExitCode {
             if !quiet {
                 let mut err = std::io::stderr().lock();
                 for w in &outcome.warnings {
-                    let _ = writeln!(err, "warning: {w}");
+                    let _ = writeln!(err, "warning: {}", wirerank::text::escape_controls(w));
                 }
             }
             let mut out = std::io::stdout().lock();
             // A closed pipe (`wirerank ... | head`) is not an error.
             match out
-                .write_all(outcome.stdout.as_bytes())
+                .write_all(wirerank::text::escape_controls(&outcome.stdout).as_bytes())
                 .and_then(|_| out.flush())
             {
                 Ok(()) => {}
@@ -69,7 +69,7 @@ fn main() -> ExitCode {
                 }
                 source = s.source();
             }
-            eprintln!("{msg}");
+            eprintln!("{}", wirerank::text::escape_controls(&msg));
             ExitCode::from(2)
         }
     }

@@ -16,6 +16,28 @@ pub fn num(x: &f64) -> Num {
     Num(*x)
 }
 
+/// A number the user typed, as typed in its shortest form: `25.6` → `25.6`, `120` → `120`,
+/// but very large or very small magnitudes in exponent form (`1e308`, `5e-324`) instead of
+/// hundreds of digits.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Typed(pub f64);
+
+impl fmt::Display for Typed {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let x = self.0;
+        if x.is_finite() && x != 0.0 && !(1e-5..1e15).contains(&x.abs()) {
+            write!(f, "{x:e}")
+        } else {
+            write!(f, "{x}")
+        }
+    }
+}
+
+/// [`Typed`] from a reference, for error attributes that see fields by reference.
+pub fn typed(x: &f64) -> Typed {
+    Typed(*x)
+}
+
 impl fmt::Display for Num {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         let x = self.0;
@@ -38,7 +60,20 @@ impl fmt::Display for Num {
 
 #[cfg(test)]
 mod tests {
-    use super::Num;
+    use super::{Num, Typed};
+
+    /// Worked by hand: Rust's shortest round-trip forms, with exponents outside 1e-5..1e15.
+    #[test]
+    fn typed_numbers_print_short() {
+        assert_eq!(Typed(25.6).to_string(), "25.6");
+        assert_eq!(Typed(120.0).to_string(), "120");
+        assert_eq!(Typed(1e308).to_string(), "1e308");
+        assert_eq!(Typed(-1e308).to_string(), "-1e308");
+        assert_eq!(Typed(5e-324).to_string(), "5e-324");
+        assert_eq!(Typed(f64::NAN).to_string(), "NaN");
+        assert_eq!(Typed(f64::INFINITY).to_string(), "inf");
+        assert_eq!(Typed(-0.0).to_string(), "-0");
+    }
 
     #[test]
     fn computed_values_print_without_noise() {

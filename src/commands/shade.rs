@@ -17,7 +17,8 @@ use crate::time::LocalTime;
 pub fn shade_losses(source: &PlanSource) -> Result<ShadeResult, Error> {
     let loaded = load(source)?;
     let cond = conditions::phase1(&loaded.plan, &loaded.weather, &loaded.site);
-    let curves = curves::all_interval_curves(&loaded.plan, &cond, true);
+    let scene = curves::ShadeScene::every_module(&loaded.plan);
+    let curves = curves::all_interval_curves_in(&loaded.plan, &cond, &scene, true);
     let direct = curves::direct_light_lost(&loaded.plan, &cond, &curves);
     let months_present = light::months_present(&cond);
     // The year of the file's first stamp (the sun paths are drawn for it).

@@ -297,6 +297,25 @@ pub enum HorizonRef {
 }
 
 impl Plan {
+    /// Which modules some candidate layout may wire: every module when the plan enumerates
+    /// (`layouts = "all"`), otherwise those of the listed layouts. The per-interval shade and
+    /// curve data are kept for these only, so a module no layout uses costs no memory per
+    /// interval (notebooks-free-docs/limits-and-file-safety.md).
+    pub fn wired_modules(&self) -> Vec<bool> {
+        if self.enumerate_all {
+            return vec![true; self.modules.len()];
+        }
+        let mut wired = vec![false; self.modules.len()];
+        for l in &self.layouts {
+            for (_, strings) in &l.inputs {
+                for &m in strings.iter().flatten() {
+                    wired[m] = true;
+                }
+            }
+        }
+        wired
+    }
+
     /// The most specific horizon for a module: its own, its group's, or the site's.
     pub fn horizon_ref(&self, module: usize, group: usize) -> Option<HorizonRef> {
         let g = &self.geometry;

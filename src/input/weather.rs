@@ -64,6 +64,51 @@ pub const PRESSURE_RANGE_HPA: (f64, f64) = (300.0, 1100.0);
 
 /// Interval lengths accepted, minutes: the divisors of 60, so that every hour holds a whole
 /// number of intervals and stamps fall on the clock's grid.
+/// Most intervals (rows, after gap repair) in one weather series: 530,000, which holds ten
+/// years of 10-minute data (526,032 intervals) or one year of 1-minute data (527,040 in a
+/// leap year). Memory grows with the number of intervals (about 2 kB each for a plan like
+/// the demo); notebooks-free-docs/limits-and-file-safety.md gives the measured figures.
+pub const MAX_INTERVALS: usize = 530_000;
+
+/// Refuses a series longer than [`MAX_INTERVALS`].
+///
+/// # Errors
+/// [`WeatherError::TooManyIntervals`] naming the file.
+pub fn check_interval_count(file: &str, count: usize) -> Result<(), WeatherError> {
+    if count > MAX_INTERVALS {
+        return Err(WeatherError::TooManyIntervals {
+            file: file.to_string(),
+            count,
+            max: MAX_INTERVALS,
+        });
+    }
+    Ok(())
+}
+
+/// The first control character other than tab (and the line breaks that end lines) in a
+/// text, as (1-based line, 1-based column in characters, code point).
+pub fn first_control_character(text: &str) -> Option<(usize, usize, u32)> {
+    let lines: Vec<&str> = text.split('\n').collect();
+    let last = lines.len() - 1;
+    for (i, line) in lines.into_iter().enumerate() {
+        // A carriage return ends a line only before a line feed (CRLF); a lone one, even at
+        // the end of the text, is a control character.
+        let line = if i < last {
+            line.strip_suffix('\r').unwrap_or(line)
+        } else {
+            line
+        };
+        if let Some((col, c)) = line
+            .chars()
+            .enumerate()
+            .find(|(_, c)| c.is_control() && *c != '\t')
+        {
+            return Some((i + 1, col + 1, c as u32));
+        }
+    }
+    None
+}
+
 pub const ACCEPTED_INTERVALS_MIN: [i64; 12] = [1, 2, 3, 4, 5, 6, 10, 12, 15, 20, 30, 60];
 
 const SECONDS_PER_DAY: i64 = 86_400;
@@ -440,6 +485,8 @@ impl UncheckedWeather {
         let warnings = clamps.warnings();
         let mut weather = self.into_weather(shift, warnings);
         if !gaps.is_empty() {
+            let added: i64 = gaps.iter().map(|g| g.1).sum();
+            check_interval_count(&weather.source, weather.len() + added as usize)?;
             repair_gaps(&mut weather, &gaps, shift);
         }
         warn_missing_months(&mut weather);
@@ -454,6 +501,7 @@ impl UncheckedWeather {
         if n == 0 {
             return Err(WeatherError::NoData { file });
         }
+        check_interval_count(&file, n)?;
         let interval_s = self.interval_s;
         if !(interval_s > 0 && interval_s % 60 == 0 && check_interval_min(interval_s / 60).is_ok())
         {

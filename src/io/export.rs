@@ -699,7 +699,8 @@ const MONTH_NAMES: [&str; 12] = [
 ];
 
 /// provenance.txt: what produced these files, and with which models. No clock time is
-/// recorded, so the same inputs give the same bytes.
+/// recorded, so the same inputs give the same bytes. User text (names, paths) has its control
+/// characters escaped, like everything printed on a terminal.
 fn provenance(r: &RankResult, files: &[String], skipped: &[String]) -> String {
     let l = &r.loaded;
     let plan = &l.plan;
@@ -797,7 +798,7 @@ fn provenance(r: &RankResult, files: &[String], skipped: &[String]) -> String {
     }
     let _ = writeln!(out);
     let _ = writeln!(out, "{CAUTIONS}");
-    out
+    crate::text::escape_controls(&out).into_owned()
 }
 
 /// Refuses any output name that is the run's plan or weather file ([`OutputSet::begin`]

@@ -30,19 +30,148 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
 }
 
 /// SHA-256 of a file's bytes, or `None` when it cannot be read (the run has already read it,
-/// so this only fails if the file changed underneath).
+/// so this only fails if the file changed underneath). Read with the weather file's size
+/// limit, the larger of the two input limits.
 pub fn file_sha256(path: &std::path::Path) -> Option<String> {
-    std::fs::read(path).ok().map(|b| sha256_hex(&b))
+    read_input_bytes(path, WEATHER_MAX_BYTES, "file")
+        .ok()
+        .map(|b| sha256_hex(&b))
 }
 
-/// Reads a weather-tool input (monthly means or a weather file) as text.
+/// Largest plan file read: 1 MiB. The demo plan is about 6 kB and a plan of 200 modules
+/// with every key written out stays under 100 kB
+/// (notebooks-free-docs/limits-and-file-safety.md).
+pub const PLAN_MAX_BYTES: u64 = 1 << 20;
+
+/// Largest weather file read (either format) and largest monthly-means file: 64 MiB. The
+/// longest series accepted ([`crate::input::weather::MAX_INTERVALS`] rows of about 60 bytes)
+/// is about 7 MB; typical-year rows are longer (about 200 bytes, 8,760 rows: 2 MB).
+pub const WEATHER_MAX_BYTES: u64 = 64 << 20;
+
+/// Reads an input file of at most `limit` bytes as UTF-8 text. `what` names the kind of file
+/// in messages ("plan", "weather file").
+///
+/// Refused before any byte is read: anything that is not a regular file (a named pipe, a
+/// device such as `/dev/zero`, a folder, a socket) and a file larger than `limit`. The read
+/// itself is capped at `limit` + 1 bytes, so a file that grows while it is read is refused
+/// too. Invalid UTF-8 is reported with its line and byte offset.
+///
+/// # Errors
+/// An [`std::io::Error`] whose message says what is wrong and what to do; callers wrap it in
+/// their `Read` error with the file's name.
+pub fn read_input_text(
+    path: &std::path::Path,
+    limit: u64,
+    what: &str,
+) -> Result<String, std::io::Error> {
+    decode_input_text(read_input_bytes(path, limit, what)?, what)
+}
+
+/// The bytes of an input file as UTF-8 text; invalid UTF-8 is reported with its 1-based line
+/// and byte offset. `what` names the kind of file in the message.
+///
+/// # Errors
+/// An [`std::io::Error`] of kind `InvalidData`.
+pub fn decode_input_text(bytes: Vec<u8>, what: &str) -> Result<String, std::io::Error> {
+    String::from_utf8(bytes).map_err(|e| {
+        let offset = e.utf8_error().valid_up_to();
+        let bytes = e.as_bytes();
+        let line = bytes[..offset].iter().filter(|&&b| b == b'\n').count() + 1;
+        std::io::Error::new(
+            std::io::ErrorKind::InvalidData,
+            format!(
+                "line {line} (byte {}) is not valid UTF-8; save the {what} as UTF-8 text",
+                offset + 1
+            ),
+        )
+    })
+}
+
+/// The bytes of [`read_input_text`], before the UTF-8 check.
+fn read_input_bytes(
+    path: &std::path::Path,
+    limit: u64,
+    what: &str,
+) -> Result<Vec<u8>, std::io::Error> {
+    use std::io::Read;
+    let refuse = |message: String| std::io::Error::new(std::io::ErrorKind::InvalidInput, message);
+    let too_large = |size: &str| {
+        refuse(format!(
+            "it is {size}, above the {} limit for a {what}; give a smaller file \
+             (notebooks-free-docs/limits-and-file-safety.md)",
+            byte_size(limit)
+        ))
+    };
+    let meta = std::fs::metadata(path)?;
+    if !meta.is_file() {
+        return Err(refuse(format!(
+            "it is {}, not a regular file; give the path of a saved {what}",
+            file_kind(&meta.file_type())
+        )));
+    }
+    if meta.len() > limit {
+        return Err(too_large(&byte_size(meta.len())));
+    }
+    let file = std::fs::File::open(path)?;
+    let mut bytes = Vec::with_capacity(meta.len() as usize);
+    file.take(limit + 1).read_to_end(&mut bytes)?;
+    if bytes.len() as u64 > limit {
+        return Err(too_large(&format!("growing past {}", byte_size(limit))));
+    }
+    Ok(bytes)
+}
+
+/// A file size in words: bytes below 1 KiB, then KiB, MiB or GiB with one decimal at most.
+fn byte_size(n: u64) -> String {
+    const KIB: f64 = 1024.0;
+    let x = n as f64;
+    if n < 1024 {
+        return format!("{n} {}", if n == 1 { "byte" } else { "bytes" });
+    }
+    let (v, unit) = if x < KIB * KIB {
+        (x / KIB, "KiB")
+    } else if x < KIB * KIB * KIB {
+        (x / KIB / KIB, "MiB")
+    } else {
+        (x / KIB / KIB / KIB, "GiB")
+    };
+    format!("{} {unit}", crate::num::Num((v * 10.0).round() / 10.0))
+}
+
+/// What a path that is not a regular file is, in words.
+fn file_kind(t: &std::fs::FileType) -> &'static str {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::FileTypeExt;
+        if t.is_fifo() {
+            return "a named pipe (FIFO)";
+        }
+        if t.is_char_device() {
+            return "a character device (such as /dev/zero)";
+        }
+        if t.is_block_device() {
+            return "a block device";
+        }
+        if t.is_socket() {
+            return "a socket";
+        }
+    }
+    if t.is_dir() {
+        "a folder"
+    } else {
+        "not a regular file"
+    }
+}
+
+/// Reads a weather-tool input (monthly means or a weather file) as text, with the weather
+/// file's size limit.
 ///
 /// # Errors
 /// [`crate::error::WeatherError::Read`] naming the file.
 pub fn read_weather_text(path: &std::path::Path) -> Result<String, crate::error::Error> {
-    std::fs::read_to_string(path).map_err(|source| {
+    read_input_text(path, WEATHER_MAX_BYTES, "weather file").map_err(|source| {
         crate::error::Error::Weather(crate::error::WeatherError::Read {
-            file: path.display().to_string(),
+            file: crate::text::escape_line(&path.display().to_string()).into_owned(),
             source,
         })
     })

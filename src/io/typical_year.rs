@@ -89,11 +89,12 @@ pub fn looks_like_typical_year(text: &str) -> bool {
 /// [`WeatherError::Read`] when the file cannot be read, otherwise as
 /// [`parse_typical_year`] or [`parse_weather_csv`].
 pub fn read_any_weather(path: &Path) -> Result<Weather, WeatherError> {
-    let name = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|source| WeatherError::Read {
-        file: name.clone(),
-        source,
-    })?;
+    let name = crate::text::escape_line(&path.display().to_string()).into_owned();
+    let text = crate::io::read_input_text(path, crate::io::WEATHER_MAX_BYTES, "weather file")
+        .map_err(|source| WeatherError::Read {
+            file: name.clone(),
+            source,
+        })?;
     if looks_like_typical_year(&text) {
         parse_typical_year(&text, &name).map(|i| i.weather)
     } else {
@@ -106,11 +107,12 @@ pub fn read_any_weather(path: &Path) -> Result<Weather, WeatherError> {
 /// # Errors
 /// [`WeatherError::Read`] when the file cannot be read, otherwise as [`parse_typical_year`].
 pub fn read_typical_year(path: &Path) -> Result<Imported, WeatherError> {
-    let name = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|source| WeatherError::Read {
-        file: name.clone(),
-        source,
-    })?;
+    let name = crate::text::escape_line(&path.display().to_string()).into_owned();
+    let text = crate::io::read_input_text(path, crate::io::WEATHER_MAX_BYTES, "weather file")
+        .map_err(|source| WeatherError::Read {
+            file: name.clone(),
+            source,
+        })?;
     parse_typical_year(&text, &name)
 }
 
@@ -184,6 +186,7 @@ pub fn parse_typical_year(text: &str, source_name: &str) -> Result<Imported, Wea
     if text.trim().is_empty() {
         return Err(WeatherError::Empty { file });
     }
+    crate::io::weather_csv::refuse_control_characters(text, &file)?;
     let lines: Vec<&str> = text.lines().collect();
     for (i, record) in HEADER_RECORDS.iter().enumerate() {
         let line = lines.get(i).copied().unwrap_or("");
@@ -200,6 +203,7 @@ pub fn parse_typical_year(text: &str, source_name: &str) -> Result<Imported, Wea
             continue;
         }
         rows.push(parse_row(&file, line, trimmed)?);
+        crate::input::weather::check_interval_count(&file, rows.len())?;
     }
     if rows.is_empty() {
         return Err(WeatherError::NoData { file });

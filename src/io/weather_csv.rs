@@ -65,11 +65,12 @@ const REQUIRED_COLUMNS: [&str; 3] = ["time_local", "ghi_w_m2", "air_temp_c"];
 /// [`WeatherError::Read`] when the file cannot be read (or is not UTF-8), otherwise as
 /// [`parse_weather_csv`].
 pub fn read_weather_csv(path: &Path) -> Result<Weather, WeatherError> {
-    let name = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|source| WeatherError::Read {
-        file: name.clone(),
-        source,
-    })?;
+    let name = crate::text::escape_line(&path.display().to_string()).into_owned();
+    let text = crate::io::read_input_text(path, crate::io::WEATHER_MAX_BYTES, "weather file")
+        .map_err(|source| WeatherError::Read {
+            file: name.clone(),
+            source,
+        })?;
     parse_weather_csv(&text, &name)
 }
 
@@ -86,10 +87,28 @@ pub fn parse_weather_csv(text: &str, source_name: &str) -> Result<Weather, Weath
     if text.trim().is_empty() {
         return Err(WeatherError::Empty { file });
     }
+    refuse_control_characters(text, &file)?;
     let layout = scan_lines(text, &file)?;
     let frame = read_cells_with_polars(&layout, &file)?;
     let unchecked = parse_cells(&frame, &layout, &file)?;
     unchecked.validate()
+}
+
+/// Refuses a control character (other than tab) anywhere in a weather file, naming its
+/// line and column, so that no raw control character reaches a message.
+///
+/// # Errors
+/// [`WeatherError::ControlCharacter`].
+pub(crate) fn refuse_control_characters(text: &str, file: &str) -> Result<(), WeatherError> {
+    match crate::input::weather::first_control_character(text) {
+        Some((line, column, code)) => Err(WeatherError::ControlCharacter {
+            file: file.to_string(),
+            line,
+            column,
+            code,
+        }),
+        None => Ok(()),
+    }
 }
 
 /// What the line scan found: header values, the column names and the data lines.
@@ -198,6 +217,7 @@ fn scan_lines(text: &str, file: &str) -> Result<Layout, WeatherError> {
             });
         }
         data_lines.push(no);
+        crate::input::weather::check_interval_count(file, data_lines.len())?;
         body.push_str(line);
         body.push('\n');
     }

@@ -66,6 +66,11 @@ impl LayoutSummary {
     ) -> Self {
         let kwh = |wh: f64| wh / 1000.0;
         let offered_kwh: [f64; 12] = std::array::from_fn(|m| kwh(e.offered_wh(m)));
+        debug_assert!(
+            offered_kwh.iter().all(|x| x.is_finite()) && e.all_finite(),
+            "layout {}: a figure of its summary is not finite",
+            layout.id
+        );
         let worst_month = (0..12)
             .filter(|&m| months_present[m])
             .min_by(|&a, &b| offered_kwh[a].total_cmp(&offered_kwh[b]).then(a.cmp(&b)));

@@ -25,15 +25,56 @@ pub(crate) struct SubCurve {
 }
 
 /// Per-interval shared state: the current grid and every distinct substring curve.
+///
+/// The per-substring data of the wired modules are stored flat (one allocation each per
+/// interval, none per module) and sliced by the run's [`ModuleSlots`]; a module no layout
+/// wires has an empty slice and costs nothing per interval.
 pub struct IntervalCurves {
     pub(crate) grid: CurrentGrid,
     pub(crate) curves: Vec<SubCurve>,
-    /// For each module, for each substring: index into `curves`.
-    pub(crate) module_subs: Vec<Vec<u16>>,
-    /// For each module, for each substring: shaded (blocked) fraction of direct light.
-    pub(crate) blocked: Vec<Vec<f64>>,
+    /// For each wired module, for each substring: index into `curves`.
+    subs: Vec<u16>,
+    /// For each wired module, for each substring: shaded (blocked) fraction of direct light.
+    blocked: Vec<f64>,
+    /// Where each module's substrings sit in `subs` and `blocked`, and the diffuse factors.
+    slots: std::sync::Arc<ModuleSlots>,
+}
+
+/// Fixed for a run: each module's range in the flat per-interval arrays (empty for a module
+/// that is not wired) and its diffuse factor.
+pub(crate) struct ModuleSlots {
+    /// `offsets[m]..offsets[m + 1]` is module `m`'s range.
+    offsets: Vec<u32>,
     /// For each module: factor on its isotropic sky and horizon-band light.
-    pub(crate) diffuse_factor: Vec<f64>,
+    diffuse_factor: Vec<f64>,
+}
+
+impl IntervalCurves {
+    fn range(&self, mi: usize) -> std::ops::Range<usize> {
+        self.slots.offsets[mi] as usize..self.slots.offsets[mi + 1] as usize
+    }
+
+    /// True when module `mi` is wired in this run (its data are kept).
+    pub(crate) fn is_wired(&self, mi: usize) -> bool {
+        !self.range(mi).is_empty()
+    }
+
+    /// Module `mi`'s substring curves, as indices into `curves`.
+    pub(crate) fn module_subs(&self, mi: usize) -> &[u16] {
+        debug_assert!(self.is_wired(mi), "module {mi} is not wired in this run");
+        &self.subs[self.range(mi)]
+    }
+
+    /// Module `mi`'s blocked fraction of direct light, per substring.
+    pub(crate) fn blocked(&self, mi: usize) -> &[f64] {
+        debug_assert!(self.is_wired(mi), "module {mi} is not wired in this run");
+        &self.blocked[self.range(mi)]
+    }
+
+    /// Module `mi`'s factor on its isotropic sky and horizon-band light.
+    pub(crate) fn diffuse_factor(&self, mi: usize) -> f64 {
+        self.slots.diffuse_factor[mi]
+    }
 }
 
 /// Relative width of the light classes that decide which substrings share a curve: the
@@ -132,10 +173,14 @@ pub fn interval_curves(
     // (notebooks-free-docs/method-shade.md, "Which substrings share a curve").
     let mut keys: Vec<(usize, i64, i64)> = Vec::new();
     let mut lights: Vec<LightClass> = Vec::new();
-    let mut module_subs = Vec::with_capacity(plan.modules.len());
-    let mut blocked_all = Vec::with_capacity(plan.modules.len());
+    let total = *scene.slots.offsets.last().unwrap_or(&0) as usize;
+    let mut module_subs = Vec::with_capacity(total);
+    let mut blocked_all = Vec::with_capacity(total);
     let mut near = [0.0; crate::physics::shade::MAX_SUBSTRINGS as usize];
     for (m, module) in plan.modules.iter().enumerate() {
+        if scene.slots.offsets[m] == scene.slots.offsets[m + 1] {
+            continue; // not wired by any layout of this run
+        }
         let t = &plan.module_types[module.module_type];
         let g = &cond.groups[module.group];
         let ms = &scene.modules[m];
@@ -155,8 +200,6 @@ pub fn interval_curves(
                 shaded_fractions_prepared(pm, &scene.obstacles, &sun_dir, &mut near[..b]);
             }
         }
-        let mut subs = Vec::with_capacity(b);
-        let mut blocked = Vec::with_capacity(b);
         for (j, near_j) in near[..b].iter().enumerate() {
             let sched = schedule_blocked(plan, m, j, info.month, info.hour);
             let f = if far {
@@ -181,12 +224,11 @@ pub fn interval_curves(
                     keys.len() - 1
                 }
             };
-            subs.push(idx as u16);
-            blocked.push(f);
+            module_subs.push(idx as u16);
+            blocked_all.push(f);
         }
-        module_subs.push(subs);
-        blocked_all.push(blocked);
     }
+    debug_assert_eq!(module_subs.len(), total);
     let params: Vec<OperatingParams> = keys
         .iter()
         .zip(&lights)
@@ -214,18 +256,20 @@ pub fn interval_curves(
         .zip(&keys)
         .map(|(p, (group, _, _))| {
             let drop = plan.module_types[plan.groups[*group].module_type].bypass_drop_v;
+            let mpp_w = p.max_power_point().p;
+            debug_assert!(mpp_w.is_finite(), "substring maximum power {mpp_w}");
             SubCurve {
                 curve: substring_curve(&p, drop, &grid),
-                mpp_w: p.max_power_point().p,
+                mpp_w,
             }
         })
         .collect();
     Some(IntervalCurves {
         grid,
         curves,
-        module_subs,
+        subs: module_subs,
         blocked: blocked_all,
-        diffuse_factor: scene.modules.iter().map(|m| m.diffuse_factor).collect(),
+        slots: scene.slots.clone(),
     })
 }
 
@@ -246,18 +290,31 @@ pub struct ShadeScene {
     obstacles: Vec<PreparedObstacle>,
     /// Width of the light classes ([`LIGHT_STEP_FRAC`] unless a check asks for another).
     light_step_frac: f64,
+    /// Each module's range in the flat per-interval arrays (empty when not wired).
+    slots: std::sync::Arc<ModuleSlots>,
 }
 
 impl ShadeScene {
-    /// Prepares the plan's geometry: horizon per module, placements, diffuse factors
-    /// (numerical sky-dome integrals, once per module).
+    /// The scene for the modules some layout of the plan may wire ([`Plan::wired_modules`]).
     pub fn new(plan: &Plan) -> ShadeScene {
-        Self::with_light_step(plan, LIGHT_STEP_FRAC)
+        Self::for_modules(plan, &plan.wired_modules(), LIGHT_STEP_FRAC)
     }
 
     /// As [`Self::new`], with light classes of another relative width (the check of the
     /// classes' effect against near-exact ones).
     pub fn with_light_step(plan: &Plan, light_step_frac: f64) -> ShadeScene {
+        Self::for_modules(plan, &plan.wired_modules(), light_step_frac)
+    }
+
+    /// The scene for every module of the plan, wired or not (the shade command's view).
+    pub fn every_module(plan: &Plan) -> ShadeScene {
+        Self::for_modules(plan, &vec![true; plan.modules.len()], LIGHT_STEP_FRAC)
+    }
+
+    /// Prepares the plan's geometry: horizon per module, placements, diffuse factors
+    /// (numerical sky-dome integrals, once per module); per-interval data are kept for the
+    /// modules marked in `wired`.
+    fn for_modules(plan: &Plan, wired: &[bool], light_step_frac: f64) -> ShadeScene {
         let geo = &plan.geometry;
         let obstacles_raw: Vec<_> = geo.obstacles.iter().map(|(_, o)| *o).collect();
         let obstacles = obstacles_raw.iter().map(|o| o.prepare()).collect();
@@ -286,11 +343,25 @@ impl ShadeScene {
                     diffuse_factor,
                 }
             })
-            .collect();
+            .collect::<Vec<ModuleShade>>();
+        let mut offsets = Vec::with_capacity(plan.modules.len() + 1);
+        let mut next = 0u32;
+        offsets.push(next);
+        for (m, module) in plan.modules.iter().enumerate() {
+            if wired[m] {
+                next += plan.module_types[module.module_type].bypass_diodes;
+            }
+            offsets.push(next);
+        }
+        let slots = std::sync::Arc::new(ModuleSlots {
+            offsets,
+            diffuse_factor: modules.iter().map(|m| m.diffuse_factor).collect(),
+        });
         ShadeScene {
             modules,
             obstacles,
             light_step_frac,
+            slots,
         }
     }
 }
@@ -309,8 +380,11 @@ pub fn direct_light_lost(
         for (mi, module) in plan.modules.iter().enumerate() {
             let parts = &cond.groups[module.group].effective[k];
             let direct = (parts.beam_w_m2 + parts.circumsolar_w_m2) * info.hours;
-            let b = ic.blocked[mi].len().max(1) as f64;
-            let lost: f64 = ic.blocked[mi].iter().map(|f| f * direct / b).sum();
+            if !ic.is_wired(mi) {
+                continue;
+            }
+            let b = ic.blocked(mi).len().max(1) as f64;
+            let lost: f64 = ic.blocked(mi).iter().map(|f| f * direct / b).sum();
             out[mi][m].0 += direct;
             out[mi][m].1 += lost;
         }
@@ -318,17 +392,19 @@ pub fn direct_light_lost(
     out
 }
 
-/// Every interval's distinct substring curves (the curve-solving half of phase 2).
+/// Every interval's distinct substring curves (the curve-solving half of phase 2), for the
+/// modules some layout may wire.
 pub fn all_interval_curves(
     plan: &Plan,
     cond: &Conditions,
     parallel: bool,
 ) -> Vec<Option<IntervalCurves>> {
-    curves_in_scene(plan, cond, &ShadeScene::new(plan), parallel)
+    all_interval_curves_in(plan, cond, &ShadeScene::new(plan), parallel)
 }
 
-/// [`all_interval_curves`] in a prepared scene.
-pub fn curves_in_scene(
+/// As [`all_interval_curves`], for the modules of a given scene (such as
+/// [`ShadeScene::every_module`] or [`ShadeScene::with_light_step`]).
+pub fn all_interval_curves_in(
     plan: &Plan,
     cond: &Conditions,
     scene: &ShadeScene,
@@ -397,9 +473,10 @@ pub fn shade_profiles(
         .collect();
     for (k, info) in cond.intervals.iter().enumerate() {
         let Some(ic) = &curves[k] else { continue };
-        for mi in 0..n {
-            sequences[mi].extend_from_slice(&ic.module_subs[mi]);
-            mpp[mi] = ic.module_subs[mi]
+        for mi in (0..n).filter(|&mi| ic.is_wired(mi)) {
+            sequences[mi].extend_from_slice(ic.module_subs(mi));
+            mpp[mi] = ic
+                .module_subs(mi)
                 .iter()
                 .map(|&s| ic.curves[s as usize].mpp_w)
                 .sum();

@@ -218,6 +218,48 @@ impl LayoutEnergy {
 }
 
 impl LayoutEnergy {
+    /// True when every figure is a finite number (`min_soc_frac` may also be NaN, its mark
+    /// for "no battery model" or a month without intervals). Validated inputs have finite
+    /// ranges, so any other value that is not finite is a bug; the simulation checks this in
+    /// debug builds.
+    pub fn all_finite(&self) -> bool {
+        let months = [
+            &self.potential_wh,
+            &self.delivered_wh,
+            &self.load_served_wh,
+            &self.load_from_harvest_wh,
+            &self.unmet_wh,
+            &self.unmet_days_mean,
+            &self.low_sun_offered_wh,
+            &self.low_sun_delivered_wh,
+            &self.pwm_clamp_wh,
+            &self.awake_h,
+            &self.other_tracking_wh,
+        ];
+        months.iter().all(|m| m.iter().all(|x| x.is_finite()))
+            && self
+                .min_soc_frac
+                .iter()
+                .all(|x| x.is_finite() || x.is_nan())
+            && self.losses_wh.0.iter().flatten().all(|x| x.is_finite())
+            && self.daily_soc_frac.iter().all(|x| x.is_finite())
+            && self.hourly.iter().all(|h| {
+                [
+                    h.potential_w,
+                    h.available_w,
+                    h.delivered_w,
+                    h.harvest_w,
+                    h.clipped_w,
+                ]
+                .iter()
+                .all(|x| x.is_finite())
+            })
+            && self
+                .yearly
+                .iter()
+                .all(|(_, a, b)| a.is_finite() && b.is_finite())
+    }
+
     /// Annual totals of the calendar years the weather file covers completely, kWh.
     pub fn complete_year_totals_kwh(&self) -> Vec<f64> {
         self.yearly

@@ -385,14 +385,15 @@ fn book_light(
         let direct = g.effective[k].beam_w_m2 + g.effective[k].circumsolar_w_m2;
         let b = t.bypass_diodes as f64;
         let sky = g.effective[k].isotropic_w_m2 + g.effective[k].horizon_w_m2;
-        let shaded: f64 = ic.blocked[mi].iter().map(|f| f * direct / b).sum::<f64>()
-            + (1.0 - ic.diffuse_factor[mi]) * sky;
+        let shaded: f64 = ic.blocked(mi).iter().map(|f| f * direct / b).sum::<f64>()
+            + (1.0 - ic.diffuse_factor(mi)) * sky;
         e.potential_wh[m] += poa * scale;
         e.losses_wh[Step::Incidence][m] += (poa - after_iam) * scale;
         e.losses_wh[Step::Soiling][m] += (after_iam - eff) * scale;
         e.losses_wh[Step::Shading][m] += shaded * scale;
         let light_after_shade = (eff - shaded) * scale;
-        let mpp: f64 = ic.module_subs[mi]
+        let mpp: f64 = ic
+            .module_subs(mi)
             .iter()
             .map(|&s| ic.curves[s as usize].mpp_w)
             .sum();
@@ -513,7 +514,7 @@ fn build_input_curves(
         }
         let key = &mut s.keys[distinct];
         key.clear();
-        key.extend(st.iter().flat_map(|&mi| ic.module_subs[mi].iter().copied()));
+        key.extend(st.iter().flat_map(|&mi| ic.module_subs(mi).iter().copied()));
         key.sort_unstable();
         let (seen, rest) = s.keys.split_at(distinct);
         let slot = match seen.iter().position(|k| *k == rest[0]) {
@@ -748,6 +749,11 @@ fn simulate_shared(
     let compose = |(l, slot): (&&Layout, &Vec<usize>)| {
         let mine: Vec<&InputRun> = slot.iter().map(|&j| &runs[j]).collect();
         let e = compose_layout(plan, cond, curves, l, &mine, opts.hourly);
+        debug_assert!(
+            e.all_finite(),
+            "layout {}: a simulated figure is not finite",
+            l.id
+        );
         if let Some(done) = opts.on_layout_done {
             done(layouts.len());
         }
@@ -828,6 +834,11 @@ pub fn simulate_layouts(
     }
     let one = |l: &&Layout| {
         let e = simulate_layout(plan, cond, curves, l, opts.hourly);
+        debug_assert!(
+            e.all_finite(),
+            "layout {}: a simulated figure is not finite",
+            l.id
+        );
         if let Some(done) = opts.on_layout_done {
             done(layouts.len());
         }
@@ -887,14 +898,15 @@ mod tests {
     fn light_classes_change_no_month_by_more_than_half_a_permille() {
         use crate::design::candidates::candidate_layouts;
         use crate::design::rules::design_temperatures;
-        use crate::sim::curves::curves_in_scene;
+        use crate::sim::curves::all_interval_curves_in;
         let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
             .join("tests/fixtures/plan_assign_shaded.toml");
         let loaded = load(&PlanSource::File(path)).expect("fixture loads");
         let plan = &loaded.plan;
         let cond = conditions::phase1(plan, &loaded.weather, &loaded.site);
-        let coarse = curves_in_scene(plan, &cond, &ShadeScene::new(plan), true);
-        let fine = curves_in_scene(plan, &cond, &ShadeScene::with_light_step(plan, 1e-6), true);
+        let coarse = all_interval_curves_in(plan, &cond, &ShadeScene::new(plan), true);
+        let fine =
+            all_interval_curves_in(plan, &cond, &ShadeScene::with_light_step(plan, 1e-6), true);
         let count = |c: &[Option<IntervalCurves>]| -> usize {
             c.iter().flatten().map(|x| x.curves.len()).sum()
         };

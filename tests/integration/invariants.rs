@@ -64,8 +64,9 @@ fn top_module(rel: &str) -> String {
 }
 
 /// Each top-level module's layer: a module may use its own layer and those below it only.
-const LAYERS: [(&str, u32); 15] = [
+const LAYERS: [(&str, u32); 16] = [
     ("num", 0),
+    ("text", 0),
     ("time", 0),
     ("error", 1),
     ("physics", 2),

@@ -6,6 +6,7 @@
 
 use crate::error::PlanError;
 use crate::input::plan::{Battery, Consumption, DEFAULT_AUTONOMY_DAYS};
+use crate::num::Num;
 
 use super::ctx::Ctx;
 use super::raw::{RawBattery, RawLoad, S};
@@ -141,6 +142,10 @@ fn validate_battery(ctx: &Ctx, b: &RawBattery) -> Result<Battery, PlanError> {
     })
 }
 
+/// Largest load in one hour of the day, Wh: 100 kWh in an hour is a hundred times what a
+/// battery system of this size serves; the bound keeps every sum finite.
+pub(super) const MAX_HOURLY_LOAD_WH: f64 = 100_000.0;
+
 fn hours24(ctx: &Ctx, v: &S<Vec<f64>>, key: &str) -> Result<[f64; 24], PlanError> {
     let x = v.get_ref();
     if x.len() != 24 {
@@ -155,11 +160,15 @@ fn hours24(ctx: &Ctx, v: &S<Vec<f64>>, key: &str) -> Result<[f64; 24], PlanError
     }
     let mut out = [0.0; 24];
     for (h, w) in x.iter().enumerate() {
-        if !w.is_finite() || *w < 0.0 {
+        if !w.is_finite() || *w < 0.0 || *w > MAX_HOURLY_LOAD_WH {
             return Err(ctx.err(
                 v.span(),
                 key,
-                format!("{key}: hour {h} = {w} must be a finite number ≥ 0 (Wh)"),
+                format!(
+                    "{key}: hour {h} = {} is outside 0 to {} Wh (the energy the load takes in that hour)",
+                    crate::num::Typed(*w),
+                    Num(MAX_HOURLY_LOAD_WH)
+                ),
             ));
         }
         out[h] = *w;

@@ -4,7 +4,7 @@
 //! Section rules (what range applies to which key) live in the section files, not here.
 
 use crate::error::PlanError;
-use crate::num::Num;
+use crate::num::{Num, Typed};
 
 use super::raw::{OneOrMonthly, S};
 
@@ -29,9 +29,11 @@ impl Ctx<'_> {
     /// the errors); the plan keeps them for stderr.
     pub(super) fn warn(&self, span: std::ops::Range<usize>, message: String) {
         let (line, column) = self.line_col(span.start);
-        self.warnings
-            .borrow_mut()
-            .push(format!("{}:{line}:{column} {message}", self.file));
+        self.warnings.borrow_mut().push(format!(
+            "{}:{line}:{column} {}",
+            self.file,
+            crate::text::escape_line(&message)
+        ));
     }
 
     pub(super) fn err(
@@ -45,8 +47,8 @@ impl Ctx<'_> {
             file: self.file.clone(),
             line,
             column,
-            key: key.to_string(),
-            message,
+            key: crate::text::escape_line(key).into_owned(),
+            message: crate::text::escape_line(&message).into_owned(),
         }
     }
 
@@ -57,7 +59,7 @@ impl Ctx<'_> {
             return Err(self.err(
                 v.span(),
                 key,
-                format!("{key} = {x} is outside {} to {}", Num(lo), Num(hi)),
+                format!("{key} = {} is outside {} to {}", Typed(x), Num(lo), Num(hi)),
             ));
         }
         Ok(x)
@@ -71,7 +73,8 @@ impl Ctx<'_> {
                 v.span(),
                 key,
                 format!(
-                    "{key} = {x} must be above {} and at most {}",
+                    "{key} = {} must be above {} and at most {}",
+                    Typed(x),
                     Num(lo),
                     Num(hi)
                 ),
@@ -142,7 +145,11 @@ impl Ctx<'_> {
                 return Err(self.err(
                     v.span(),
                     key,
-                    format!("{key}: month {} = {x} is outside {lo} to {hi}", k + 1),
+                    format!(
+                        "{key}: month {} = {} is outside {lo} to {hi}",
+                        k + 1,
+                        Typed(*x)
+                    ),
                 ));
             }
             out[k] = x * scale;

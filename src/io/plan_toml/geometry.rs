@@ -8,8 +8,21 @@ use crate::error::PlanError;
 use crate::input::plan::{Geometry, Group, Module, ModuleType};
 use crate::physics::shade::{HorizonProfile, ModulePlacement, Obstacle};
 
+use crate::num::{Num, Typed};
+
 use super::ctx::Ctx;
 use super::raw::{RawGroup, RawModuleHorizon, RawObstacle, RawPlan, S};
+
+/// East and north positions (group centres, obstacle bases and corners) lie within this
+/// distance of the plan's origin, m: a small array and what shades it fit in a square
+/// kilometre; a larger number is a typing slip.
+pub(super) const SCENE_EXTENT_M: f64 = 1000.0;
+/// Heights above the plan's origin (a group centre's up_m, an obstacle's base_m), m.
+pub(super) const SCENE_UP_RANGE_M: (f64, f64) = (-100.0, 500.0);
+/// Tallest obstacle, m (above its base).
+pub(super) const OBSTACLE_MAX_HEIGHT_M: f64 = 500.0;
+/// Widest pole radius, m.
+pub(super) const POLE_MAX_RADIUS_M: f64 = 50.0;
 
 fn horizon(ctx: &Ctx, v: &S<Vec<Vec<f64>>>, key: &str) -> Result<HorizonProfile, PlanError> {
     let mut pts = Vec::new();
@@ -144,6 +157,26 @@ fn group_grid(
             ),
         ));
     }
+    let (up_lo, up_hi) = SCENE_UP_RANGE_M;
+    for (x, what, lo, hi) in [
+        (c[0], "east_m", -SCENE_EXTENT_M, SCENE_EXTENT_M),
+        (c[1], "north_m", -SCENE_EXTENT_M, SCENE_EXTENT_M),
+        (c[2], "up_m", up_lo, up_hi),
+    ] {
+        if !(lo..=hi).contains(&x) {
+            return Err(ctx.err(
+                centre.span(),
+                &k("centre_m"),
+                format!(
+                    "{}: {what} = {} is outside {} to {} m",
+                    k("centre_m"),
+                    Typed(x),
+                    Num(lo),
+                    Num(hi)
+                ),
+            ));
+        }
+    }
     let (rows, columns) = grid_size(ctx, id, r, group, centre)?;
     let (length_m, width_m) = if r.landscape.unwrap_or(false) {
         (t.width_m.min(t.length_m), t.width_m.max(t.length_m))
@@ -255,14 +288,10 @@ fn validate_obstacle(
 ) -> Result<(String, Obstacle), PlanError> {
     let r = o.get_ref();
     let key = |name: &str| format!("obstacle[{}].{name}", k + 1);
-    let need = |v: &Option<S<f64>>, name: &str| -> Result<f64, PlanError> {
+    let need = |v: &Option<S<f64>>, name: &str, lo: f64, hi: f64| -> Result<f64, PlanError> {
         match v {
-            Some(v) if v.get_ref().is_finite() => Ok(*v.get_ref()),
-            Some(v) => Err(ctx.err(
-                v.span(),
-                &key(name),
-                format!("{} = {} is not a finite number", key(name), v.get_ref()),
-            )),
+            Some(v) if name == "radius_m" => ctx.above(v, &key(name), lo, hi),
+            Some(v) => ctx.range(v, &key(name), lo, hi),
             None => Err(ctx.err(
                 o.span(),
                 &key(name),
@@ -270,14 +299,43 @@ fn validate_obstacle(
             )),
         }
     };
+    // A key of the other kind is refused: it would be silently ignored otherwise.
+    let not_for = |v: Option<std::ops::Range<usize>>, name: &str, kind: &str, hint: &str| {
+        v.map_or(Ok(()), |span| {
+            Err(ctx.err(
+                span,
+                &key(name),
+                format!(
+                    "{} is not a key of kind = \"{kind}\" obstacles ({hint}); remove it or change the kind",
+                    key(name)
+                ),
+            ))
+        })
+    };
     let obstacle = match r.kind.get_ref().as_str() {
-        "pole" => Obstacle::Pole {
-            base_e_m: need(&r.east_m, "east_m")?,
-            base_n_m: need(&r.north_m, "north_m")?,
-            radius_m: need(&r.radius_m, "radius_m")?,
-            height_m: *r.height_m.get_ref(),
-        },
-        "box" => box_obstacle(ctx, k, o)?,
+        "pole" => {
+            let hint = "a pole takes east_m, north_m, radius_m and height_m";
+            not_for(
+                r.footprint_m.as_ref().map(S::span),
+                "footprint_m",
+                "pole",
+                hint,
+            )?;
+            not_for(r.base_m.as_ref().map(S::span), "base_m", "pole", hint)?;
+            Obstacle::Pole {
+                base_e_m: need(&r.east_m, "east_m", -SCENE_EXTENT_M, SCENE_EXTENT_M)?,
+                base_n_m: need(&r.north_m, "north_m", -SCENE_EXTENT_M, SCENE_EXTENT_M)?,
+                radius_m: need(&r.radius_m, "radius_m", 0.0, POLE_MAX_RADIUS_M)?,
+                height_m: ctx.above(&r.height_m, &key("height_m"), 0.0, OBSTACLE_MAX_HEIGHT_M)?,
+            }
+        }
+        "box" => {
+            let hint = "a box takes footprint_m, base_m and height_m";
+            not_for(r.east_m.as_ref().map(S::span), "east_m", "box", hint)?;
+            not_for(r.north_m.as_ref().map(S::span), "north_m", "box", hint)?;
+            not_for(r.radius_m.as_ref().map(S::span), "radius_m", "box", hint)?;
+            box_obstacle(ctx, k, o)?
+        }
         other => {
             return Err(ctx.err(
                 r.kind.span(),
@@ -328,6 +386,25 @@ fn box_obstacle(ctx: &Ctx, k: usize, o: &S<RawObstacle>) -> Result<Obstacle, Pla
             ),
         ));
     }
+    for (i, p) in pts.iter().enumerate() {
+        if p.iter()
+            .any(|x| !(-SCENE_EXTENT_M..=SCENE_EXTENT_M).contains(x))
+        {
+            return Err(ctx.err(
+                fp.span(),
+                &key("footprint_m"),
+                format!(
+                    "{} corner {} = [{}, {}] is outside -{e} to {e} m east and north",
+                    key("footprint_m"),
+                    i + 1,
+                    Typed(p[0]),
+                    Typed(p[1]),
+                    e = Num(SCENE_EXTENT_M)
+                ),
+            ));
+        }
+    }
+    let (up_lo, up_hi) = SCENE_UP_RANGE_M;
     Ok(Obstacle::Box {
         footprint: [
             (pts[0][0], pts[0][1]),
@@ -335,8 +412,8 @@ fn box_obstacle(ctx: &Ctx, k: usize, o: &S<RawObstacle>) -> Result<Obstacle, Pla
             (pts[2][0], pts[2][1]),
             (pts[3][0], pts[3][1]),
         ],
-        base_m: r.base_m.as_ref().map_or(0.0, |v| *v.get_ref()),
-        height_m: *r.height_m.get_ref(),
+        base_m: ctx.opt_range(&r.base_m, &key("base_m"), up_lo, up_hi, 0.0)?,
+        height_m: ctx.above(&r.height_m, &key("height_m"), 0.0, OBSTACLE_MAX_HEIGHT_M)?,
     })
 }
 

@@ -13,9 +13,23 @@ use super::raw::{RawEnumerate, RawLayout, S};
 
 /// `layouts`: "all" enumerates every regular wiring, "listed" (the default) compares only
 /// the `[[layout]]` tables.
-pub(super) fn enumerate_all(ctx: &Ctx, raw: Option<&S<String>>) -> Result<bool, PlanError> {
+pub(super) fn enumerate_all(
+    ctx: &Ctx,
+    raw: Option<&S<String>>,
+    modules: &[Module],
+) -> Result<bool, PlanError> {
     match raw {
         None => Ok(false),
+        Some(v) if v.get_ref() == "all" && modules.len() > MAX_ENUMERATED_MODULES => {
+            Err(ctx.err(
+                v.span(),
+                "layouts",
+                format!(
+                    "layouts = \"all\" enumerates the wirings of at most {MAX_ENUMERATED_MODULES} modules and the plan has {}; list the layouts to compare as [[layout]] tables (layouts = \"listed\")",
+                    modules.len()
+                ),
+            ))
+        }
         Some(v) if v.get_ref() == "all" => Ok(true),
         Some(v) if v.get_ref() == "listed" => Ok(false),
         Some(v) => Err(ctx.err(
@@ -29,6 +43,16 @@ pub(super) fn enumerate_all(ctx: &Ctx, raw: Option<&S<String>>) -> Result<bool, 
     }
 }
 
+/// Most modules `layouts = "all"` enumerates: a plan of 500 modules in three groups ran
+/// more than two minutes and 2 GB before any candidate was simulated, while 100 modules are
+/// enumerated or refused by the search's own limits in seconds
+/// (notebooks-free-docs/limits-and-file-safety.md).
+pub const MAX_ENUMERATED_MODULES: usize = 100;
+
+/// Most `[[layout]]` tables in one plan (enumeration has its own limit,
+/// `design::candidates::MAX_CANDIDATES`).
+pub const MAX_LISTED_LAYOUTS: usize = 1000;
+
 /// Every `[[layout]]`, in file order; at least one unless `layouts = "all"`.
 pub(super) fn validate_layouts(
     ctx: &Ctx,
@@ -37,6 +61,18 @@ pub(super) fn validate_layouts(
     modules: &[Module],
     controllers: &[ControllerInput],
 ) -> Result<Vec<LayoutSpec>, PlanError> {
+    if let Some(l) = raw.get(MAX_LISTED_LAYOUTS) {
+        return Err(ctx.err(
+            l.span(),
+            "layout",
+            format!(
+                "the plan lists {} [[layout]] tables, above the limit of {MAX_LISTED_LAYOUTS}; \
+                 keep the wirings you want to compare, or use layouts = \"all\" to try every \
+                 regular wiring",
+                raw.len()
+            ),
+        ));
+    }
     let mut layouts = Vec::new();
     for (k, l) in raw.iter().enumerate() {
         layouts.push(validate_layout(ctx, k, l, modules, controllers)?);

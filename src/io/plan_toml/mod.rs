@@ -32,12 +32,16 @@ use raw::RawPlan;
 /// # Errors
 /// The file cannot be read, is not valid TOML, has unknown keys, or a value is out of range.
 pub fn read_plan(path: &Path) -> Result<Plan, PlanError> {
-    let text = std::fs::read_to_string(path).map_err(|e| PlanError::Read {
-        path: path.display().to_string(),
-        source: e,
-    })?;
+    let name = crate::text::escape_line(&path.display().to_string()).into_owned();
+    let text =
+        crate::io::read_input_text(path, crate::io::PLAN_MAX_BYTES, "plan").map_err(|e| {
+            PlanError::Read {
+                path: name.clone(),
+                source: e,
+            }
+        })?;
     let base = path.parent().unwrap_or_else(|| Path::new(""));
-    parse_plan(&text, &path.display().to_string(), base)
+    parse_plan(&text, &name, base)
 }
 
 /// Parses and validates plan text; `file_name` appears in messages, `base_dir` resolves the
@@ -47,7 +51,7 @@ pub fn read_plan(path: &Path) -> Result<Plan, PlanError> {
 /// As [`read_plan`], less the reading.
 pub fn parse_plan(text: &str, file_name: &str, base_dir: &Path) -> Result<Plan, PlanError> {
     let ctx = Ctx {
-        file: file_name.to_string(),
+        file: crate::text::escape_line(file_name).into_owned(),
         text,
         warnings: Default::default(),
     };
@@ -57,7 +61,8 @@ pub fn parse_plan(text: &str, file_name: &str, base_dir: &Path) -> Result<Plan, 
             file: ctx.file.clone(),
             line,
             column,
-            message: crate::io::plain_toml_message(e.message()),
+            message: crate::text::escape_line(&crate::io::plain_toml_message(e.message()))
+                .into_owned(),
         }
     })?;
     validate(&ctx, raw, base_dir)
@@ -78,7 +83,7 @@ fn validate(ctx: &Ctx, raw: RawPlan, base_dir: &Path) -> Result<Plan, PlanError>
     let controllers = controllers::validate_controllers(ctx, raw.controller.as_ref(), &battery)?;
     let cables = cables::require_cables(ctx, raw.cables.as_ref())?;
     let shade = shade::validate_shades(ctx, &raw.shade, &modules, &module_types)?;
-    let enumerate_all = layouts::enumerate_all(ctx, raw.layouts.as_ref())?;
+    let enumerate_all = layouts::enumerate_all(ctx, raw.layouts.as_ref(), &modules)?;
     let layouts =
         layouts::validate_layouts(ctx, &raw.layout, enumerate_all, &modules, &controllers)?;
     let geometry = geometry::validate_geometry(ctx, &raw, &groups, &modules, &module_types)?;

@@ -35,6 +35,10 @@ pub(super) fn validate_module_types(
     Ok(module_types)
 }
 
+/// Most modules in one plan (all groups together). Memory and time grow with the modules
+/// wired in some layout (notebooks-free-docs/limits-and-file-safety.md).
+pub const MAX_MODULES: usize = 500;
+
 /// Every `[group.NAME]` (at least one) and its modules, numbered `<group>-1`, `<group>-2`, …
 pub(super) fn validate_groups(
     ctx: &Ctx,
@@ -45,6 +49,18 @@ pub(super) fn validate_groups(
     let mut modules = Vec::new();
     for (id, g) in raw {
         let group = validate_group(ctx, id, g, module_types)?;
+        if modules.len() + group.count > MAX_MODULES {
+            return Err(ctx.err(
+                g.span(),
+                &format!("group.{id}.count"),
+                format!(
+                    "group.{id} brings the plan to {} modules, above the limit of {MAX_MODULES}; \
+                     wirerank compares wirings of small arrays (a few dozen modules on a few \
+                     controllers): split a larger array into several plans, one per battery",
+                    modules.len() + group.count
+                ),
+            ));
+        }
         for n in 1..=group.count {
             modules.push(Module {
                 id: format!("{id}-{n}"),

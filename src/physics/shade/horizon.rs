@@ -23,7 +23,7 @@ impl HorizonProfile {
     ///
     /// # Errors
     /// No points; an azimuth outside 0..360 or not strictly increasing; an elevation outside
-    /// −5..=90 or not finite. The message names the point by its index.
+    /// −5..=90 or not finite. The message names the point by its number, the first being 1.
     pub fn new(points: &[(f64, f64)]) -> Result<Self, String> {
         if points.is_empty() {
             return Err(
@@ -36,18 +36,21 @@ impl HorizonProfile {
         for (i, &(az, el)) in points.iter().enumerate() {
             if !(0.0..360.0).contains(&az) {
                 return Err(format!(
-                    "horizon point {i}: azimuth_deg = {az} is outside 0 to 360 (degrees clockwise from north)"
+                    "horizon point {}: azimuth_deg = {az} is outside 0 to 360 (degrees clockwise from north)",
+                    i + 1
                 ));
             }
             if !(HORIZON_MIN_ELEVATION_DEG..=90.0).contains(&el) {
                 return Err(format!(
-                    "horizon point {i}: elevation_deg = {el} is outside -5 to 90"
+                    "horizon point {}: elevation_deg = {el} is outside -5 to 90",
+                    i + 1
                 ));
             }
             if az <= prev {
                 return Err(format!(
-                    "horizon point {i}: azimuth_deg = {az} does not increase (previous point has {prev}); \
-                     list the points in increasing azimuth"
+                    "horizon point {}: azimuth_deg = {az} does not increase (previous point has {prev}); \
+                     list the points in increasing azimuth",
+                    i + 1
                 ));
             }
             prev = az;
@@ -185,11 +188,11 @@ mod tests {
     fn horizon_rejects_bad_points() {
         let bad: [(&[(f64, f64)], &str); 8] = [
             (&[], "at least one"),
-            (&[(360.0, 1.0)], "point 0: azimuth_deg = 360"),
+            (&[(360.0, 1.0)], "point 1: azimuth_deg = 360"),
             (&[(-1.0, 1.0)], "azimuth_deg = -1"),
             (
                 &[(10.0, 1.0), (10.0, 2.0)],
-                "point 1: azimuth_deg = 10 does not increase",
+                "point 2: azimuth_deg = 10 does not increase",
             ),
             (&[(20.0, 1.0), (10.0, 2.0)], "does not increase"),
             (&[(10.0, -6.0)], "elevation_deg = -6"),

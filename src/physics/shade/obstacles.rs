@@ -82,7 +82,8 @@ impl Obstacle {
                 for (i, &(e, n)) in footprint.iter().enumerate() {
                     if !e.is_finite() || !n.is_finite() {
                         return Err(format!(
-                            "footprint[{i}] = ({e}, {n}) is not a finite (east_m, north_m) point"
+                            "footprint corner {} = ({e}, {n}) is not a finite (east_m, north_m) point",
+                            i + 1
                         ));
                     }
                 }
@@ -336,7 +337,7 @@ mod tests {
                     0.0,
                     2.0,
                 ),
-                "footprint[1]",
+                "footprint corner 2",
             ),
         ];
         for (o, field) in cases {
