@@ -1,6 +1,7 @@
 //! Scale figures (criterion), the whole `rank` pipeline on both cores (issue targets in
 //! brackets; measured figures are in DEVELOPERS.md):
-//! - the 20-module plan in 3 groups with every layout enumerated (≤ 5 s);
+//! - the 20-module plan in 3 groups with every layout enumerated, on 2 inputs and on 3
+//!   (≤ 5 s and ≤ 200 MB on 3 inputs);
 //! - the shaded 8-module plan whose enumerated layouts choose their modules;
 //! - 48 modules on 3 inputs, every layout (≤ 20 s);
 //! - 24 modules with a mast and a shed against the same plan without them (≤ 2×);
@@ -161,6 +162,10 @@ fn scale(c: &mut Criterion) {
     g.bench_function("24 modules, six layouts, mast and shed", |b| {
         b.iter(|| rank_bench_plan("plan_24_obstacles.toml"))
     });
+    g.bench_function(
+        "20 modules, 3 groups on 3 inputs, every layout (5,622)",
+        |b| b.iter(|| rank_bench_plan("plan_20_modules_3_inputs.toml")),
+    );
     g.bench_function("48 modules on 3 inputs, every layout (1,715)", |b| {
         b.iter(|| rank_bench_plan("plan_48_modules_3_inputs.toml"))
     });

@@ -44,8 +44,8 @@ pub fn file_sha256(path: &std::path::Path) -> Option<String> {
 pub const PLAN_MAX_BYTES: u64 = 1 << 20;
 
 /// Largest weather file read (either format) and largest monthly-means file: 64 MiB. The
-/// longest series accepted ([`crate::input::weather::MAX_INTERVALS`] rows of about 60 bytes)
-/// is about 7 MB; typical-year rows are longer (about 200 bytes, 8,760 rows: 2 MB).
+/// longest series accepted ([`crate::input::weather::MAX_INTERVALS`] rows of about 30–60
+/// bytes) is about 16–32 MB; typical-year rows are longer (about 200 bytes, 8,760 rows: 2 MB).
 pub const WEATHER_MAX_BYTES: u64 = 64 << 20;
 
 /// Reads an input file of at most `limit` bytes as UTF-8 text. `what` names the kind of file
