@@ -11,7 +11,7 @@ use rayon::prelude::*;
 use crate::input::layout::Layout;
 use crate::input::plan::Plan;
 use crate::physics::battery::{BatterySpec, BatteryState, LoadProfile, WARM_UP_MAX_H};
-use crate::physics::controller::ControllerPowers;
+use crate::physics::controller::{ControllerModel, ControllerPowers};
 use crate::physics::wiring::{
     array_curve, cable_resistance_ohm, string_curve, ArrayCurve, CurrentGrid, SubstringCurve,
 };
@@ -122,7 +122,7 @@ fn simulate_layout_with(
         .collect();
     // The tracker comparison is for plans with partial shade (notebooks-free-docs/method-controller.md, issue on shading):
     // without shade the array has one maximum and both trackers agree.
-    let compare_trackers = !plan.shade.is_empty() || !plan.geometry.is_empty();
+    let compare_trackers = compares_trackers(plan);
     let mut scratch = Scratch::default();
     let used: Vec<usize> = layout
         .inputs
@@ -207,28 +207,17 @@ fn simulate_layout_with(
                 } else {
                     &scratch.array
                 };
-                let was_awake = awake[wi];
-                let p = c
-                    .model
-                    .operate(array, battery_v, info.air_temp_c, &mut awake[wi]);
+                let (p, alt) = operate_both(
+                    &c.model,
+                    compare_trackers.then_some(&other_models[wi]),
+                    array,
+                    battery_v,
+                    info.air_temp_c,
+                    (&mut awake[wi], &mut other_awake[wi]),
+                );
                 if c.model.is_pwm() {
                     e.pwm_clamp_wh[m] += (p.available_w - p.after_window_w) * wh;
                 }
-                // The other tracker can only differ where the curve has several maxima (or its
-                // wake state has already drifted); otherwise it settles on the same point.
-                let alt = if !compare_trackers
-                    || (other_awake[wi] == was_awake && maxima_count(array) <= 1)
-                {
-                    other_awake[wi] = awake[wi];
-                    p
-                } else {
-                    other_models[wi].operate(
-                        array,
-                        battery_v,
-                        info.air_temp_c,
-                        &mut other_awake[wi],
-                    )
-                };
                 e.other_tracking_wh[m] += alt.output_w * wh;
                 let joule_w = if reuse {
                     kept_cable_w[slot]
@@ -282,6 +271,53 @@ fn warm_up_start(cond: &Conditions) -> usize {
         }
     }
     0
+}
+
+/// True when the plan has shade that can give an array curve several maxima, so that the
+/// other tracking behaviour is simulated beside the planned one
+/// (notebooks-free-docs/method-controller.md); without shade both settle on one point.
+fn compares_trackers(plan: &Plan) -> bool {
+    !plan.shade.is_empty() || !plan.geometry.is_empty()
+}
+
+/// One input's controller on its array curve, and the same controller with the other
+/// tracking behaviour (`other`, `None` when the plan has no shade to make them differ), each
+/// with its own wake state. The other tracker can only differ where the curve has several
+/// maxima (or its wake state has already drifted); otherwise it settles on the same point.
+fn operate_both(
+    model: &ControllerModel,
+    other: Option<&ControllerModel>,
+    array: &ArrayCurve,
+    battery_v: f64,
+    air_c: f64,
+    (awake, other_awake): (&mut bool, &mut bool),
+) -> (ControllerPowers, ControllerPowers) {
+    let was_awake = *awake;
+    let p = model.operate(array, battery_v, air_c, awake);
+    let alt = match other {
+        Some(o) if *other_awake != was_awake || maxima_count(array) > 1 => {
+            o.operate(array, battery_v, air_c, other_awake)
+        }
+        _ => {
+            *other_awake = *awake;
+            p
+        }
+    };
+    (p, alt)
+}
+
+/// Hands a finished layout's year on: checks that every figure is finite (debug builds)
+/// and reports progress.
+fn finished(e: LayoutEnergy, l: &Layout, opts: &RunOptions, layouts: usize) -> LayoutEnergy {
+    debug_assert!(
+        e.all_finite(),
+        "layout {}: a simulated figure is not finite",
+        l.id
+    );
+    if let Some(done) = opts.on_layout_done {
+        done(layouts);
+    }
+    e
 }
 
 /// How many local maxima an array curve has over its whole voltage range (no allocation).
@@ -588,7 +624,7 @@ fn run_input(
 ) -> InputRun {
     let c = &plan.controllers[w.controller];
     let other = c.model.with_other_tracking();
-    let compare_trackers = !plan.shade.is_empty() || !plan.geometry.is_empty();
+    let compare_trackers = compares_trackers(plan);
     let battery_v = plan.battery.charge_v;
     let (mut awake, mut other_awake) = (false, false);
     let mut scratch = Scratch::default();
@@ -606,16 +642,14 @@ fn run_input(
         );
         build_input_curves(plan, ic, w, r_lead, r_main, &mut scratch);
         let array = &scratch.array;
-        let was_awake = awake;
-        let p = c
-            .model
-            .operate(array, battery_v, info.air_temp_c, &mut awake);
-        let alt = if !compare_trackers || (other_awake == was_awake && maxima_count(array) <= 1) {
-            other_awake = awake;
-            p
-        } else {
-            other.operate(array, battery_v, info.air_temp_c, &mut other_awake)
-        };
+        let (p, alt) = operate_both(
+            &c.model,
+            compare_trackers.then_some(&other),
+            array,
+            battery_v,
+            info.air_temp_c,
+            (&mut awake, &mut other_awake),
+        );
         let joule_w = joule_loss_w(&scratch, &ic.grid, p.available_v, r_lead, r_main);
         tally.book_input(0, &p, joule_w, info.hours);
         steps.push(InputStep {
@@ -749,15 +783,7 @@ fn simulate_shared(
     let compose = |(l, slot): (&&Layout, &Vec<usize>)| {
         let mine: Vec<&InputRun> = slot.iter().map(|&j| &runs[j]).collect();
         let e = compose_layout(plan, cond, curves, l, &mine, opts.hourly);
-        debug_assert!(
-            e.all_finite(),
-            "layout {}: a simulated figure is not finite",
-            l.id
-        );
-        if let Some(done) = opts.on_layout_done {
-            done(layouts.len());
-        }
-        e
+        finished(e, l, &opts, layouts.len())
     };
     if opts.parallel {
         layouts
@@ -834,15 +860,7 @@ pub fn simulate_layouts(
     }
     let one = |l: &&Layout| {
         let e = simulate_layout(plan, cond, curves, l, opts.hourly);
-        debug_assert!(
-            e.all_finite(),
-            "layout {}: a simulated figure is not finite",
-            l.id
-        );
-        if let Some(done) = opts.on_layout_done {
-            done(layouts.len());
-        }
-        e
+        finished(e, l, &opts, layouts.len())
     };
     if opts.parallel {
         layouts.par_iter().map(one).collect()

@@ -372,19 +372,21 @@ fn check_lists_every_layout_and_exits_1_when_none_passes() {
 
 #[test]
 fn shade_report_lists_every_module_and_writes_shade_csv() {
-    let dir = tempfile::tempdir().expect("temp dir");
+    let tmp = tempfile::tempdir().expect("temp dir");
+    // A folder inside the temporary one, so that the lock file beside it goes with it.
+    let dir = tmp.path().join("out");
     let out = wirerank(&[
         "shade",
         "demo",
         "--out",
-        dir.path().to_str().expect("utf-8"),
+        dir.as_path().to_str().expect("utf-8"),
     ]);
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
     let s = text(&out.stdout);
     for id in ["roof-1", "roof-6", "shed-1", "shed-2"] {
         assert!(s.contains(id), "{id} in {s}");
     }
-    let csv = std::fs::read_to_string(dir.path().join("shade.csv")).expect("shade.csv");
+    let csv = std::fs::read_to_string(dir.as_path().join("shade.csv")).expect("shade.csv");
     assert!(csv.starts_with("module,month,direct_kwh_m2,direct_lost_kwh_m2,direct_lost_pct\n"));
     // 8 modules × 12 months + the header.
     assert_eq!(csv.lines().count(), 8 * 12 + 1);
@@ -401,16 +403,18 @@ fn shade_report_lists_every_module_and_writes_shade_csv() {
 
 #[test]
 fn without_battery_model_or_load_the_battery_columns_are_empty_and_the_charts_skipped() {
-    let dir = tempfile::tempdir().expect("temp dir");
+    let tmp = tempfile::tempdir().expect("temp dir");
+    // A folder inside the temporary one, so that the lock file beside it goes with it.
+    let dir = tmp.path().join("out");
     let out = wirerank(&[
         "rank",
         fixture("plan_pwm_vs_mppt.toml").to_str().expect("utf-8"),
         "--quiet",
         "--out",
-        dir.path().to_str().expect("utf-8"),
+        dir.as_path().to_str().expect("utf-8"),
     ]);
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
-    let monthly = std::fs::read_to_string(dir.path().join("monthly.csv")).expect("monthly.csv");
+    let monthly = std::fs::read_to_string(dir.as_path().join("monthly.csv")).expect("monthly.csv");
     let header: Vec<&str> = monthly.lines().next().expect("header").split(',').collect();
     let row: Vec<&str> = monthly.lines().nth(1).expect("a row").split(',').collect();
     let cell = |name: &str| row[header.iter().position(|h| *h == name).expect(name)];
@@ -421,14 +425,14 @@ fn without_battery_model_or_load_the_battery_columns_are_empty_and_the_charts_sk
     }
     assert_eq!(cell("curtailed_kwh"), "0.000");
     assert_eq!(cell("harvested_kwh"), cell("energy_kwh"));
-    let names: Vec<String> = std::fs::read_dir(dir.path())
+    let names: Vec<String> = std::fs::read_dir(dir.as_path())
         .expect("listing")
         .map(|e| e.expect("entry").file_name().to_string_lossy().into_owned())
         .collect();
     assert!(!names
         .iter()
         .any(|n| n.starts_with("daily_soc") || n.starts_with("monthly_unmet")));
-    let prov = std::fs::read_to_string(dir.path().join("provenance.txt")).expect("provenance");
+    let prov = std::fs::read_to_string(dir.as_path().join("provenance.txt")).expect("provenance");
     assert!(
         prov.contains("daily_soc: not drawn, the plan has no battery model"),
         "{prov}"

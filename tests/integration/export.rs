@@ -578,10 +578,12 @@ fn provenance_names_version_inputs_models_criterion_and_cautions() {
 
 #[test]
 fn the_same_run_gives_the_same_bytes() {
-    let dir = tempfile::tempdir().expect("temporary folder");
+    let tmp = tempfile::tempdir().expect("temporary folder");
+    // A folder inside the temporary one, so that the lock file beside it goes with it.
+    let dir = tmp.path().join("out");
     write_outputs(
         demo(),
-        dir.path(),
+        dir.as_path(),
         &ExportOptions {
             hourly: true,
             ..ExportOptions::default()
@@ -590,7 +592,7 @@ fn the_same_run_gives_the_same_bytes() {
     .expect("written");
     for name in listing(&out_dir()) {
         let a = fs::read(out_dir().join(&name)).expect("first");
-        let b = fs::read(dir.path().join(&name)).expect("second");
+        let b = fs::read(dir.as_path().join(&name)).expect("second");
         assert!(a == b, "{name} differs between two writes of the same run");
     }
 }
