@@ -1,8 +1,7 @@
 //! Module assignment (which modules share a string) against an exhaustive search on shaded
 //! plans of eight modules, and the end-to-end report of what it gained.
 
-use std::path::{Path, PathBuf};
-
+use crate::support::fixture;
 use wirerank::commands::load::load;
 use wirerank::commands::rank::{simulate_and_rank, SWAP_EVALUATIONS};
 use wirerank::commands::PlanSource;
@@ -13,12 +12,6 @@ use wirerank::input::layout::Layout;
 use wirerank::results::rank::{sort_key, Criterion};
 use wirerank::results::summary::LayoutSummary;
 use wirerank::sim::{conditions, curves, year};
-
-fn fixture(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("tests/fixtures")
-        .join(name)
-}
 
 /// For every passing enumerated shape of `name` with at most `limit` distinct assignments: the method (seed, then swaps with the command's budget) against the best
 /// of every assignment. Returns (shapes checked, shapes where the seed alone was not best,

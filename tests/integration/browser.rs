@@ -9,23 +9,10 @@
 //! escaping) run always.
 
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Command;
 
+use crate::support::{fixture, wirerank};
 use wirerank::io::report_pdf::{file_url, find_chromium, HEADLESS_FLAGS};
-
-fn wirerank(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_wirerank"))
-        .args(args)
-        .env_remove("RUST_BACKTRACE")
-        .output()
-        .expect("the wirerank binary runs")
-}
-
-fn fixture(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("tests/fixtures")
-        .join(name)
-}
 
 /// Runs `rank PLAN --out DIR` into a fresh folder and returns it with report.html's text.
 fn report(plan: &str) -> (tempfile::TempDir, PathBuf, String) {

@@ -1,21 +1,8 @@
 //! The binary end to end: the demo, JSON, templates, exit codes and error messages.
 
+use crate::support::{fixture, wirerank};
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
-
-fn wirerank(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_wirerank"))
-        .args(args)
-        .env_remove("RUST_BACKTRACE")
-        .output()
-        .expect("the wirerank binary runs")
-}
-
-fn fixture(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("tests/fixtures")
-        .join(name)
-}
+use std::process::Output;
 
 fn text(b: &[u8]) -> String {
     String::from_utf8_lossy(b).into_owned()

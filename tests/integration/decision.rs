@@ -1,21 +1,16 @@
 //! The decision: the recommendation, offered versus delivered energy, per-year figures and
 //! the explanation of differences by cause.
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::process::Command;
 use std::sync::OnceLock;
 
+use crate::support::fixture;
 use wirerank::commands::rank::simulate_and_rank;
 use wirerank::commands::PlanSource;
 use wirerank::results::explain::Cause;
 use wirerank::results::RankResult;
 use wirerank::sim::year::RunOptions;
-
-fn fixture(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("tests/fixtures")
-        .join(name)
-}
 
 fn run(source: PlanSource) -> RankResult {
     simulate_and_rank(&source, None, RunOptions::default()).expect("the plan runs")

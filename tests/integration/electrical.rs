@@ -1,20 +1,15 @@
 //! The electrical core on real plans: PWM against MPPT, clipping, limits against code tables,
 //! determinism, and the light totals against the weather file.
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
+use crate::support::fixture;
 use wirerank::commands::rank::simulate_and_rank;
 use wirerank::commands::PlanSource;
 use wirerank::design::rules::voc_at_v;
 use wirerank::physics::diode::ReferenceParams;
 use wirerank::results::rank::Criterion;
 use wirerank::results::RankResult;
-
-fn fixture(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("tests/fixtures")
-        .join(name)
-}
 
 fn run(name: &str, parallel: bool) -> RankResult {
     simulate_and_rank(

@@ -4,6 +4,7 @@
 
 use std::path::{Path, PathBuf};
 
+use crate::support::fixture;
 use wirerank::commands::rank::simulate_and_rank;
 use wirerank::commands::PlanSource;
 use wirerank::design::rules::{Finding, Rule, Severity};
@@ -12,12 +13,6 @@ use wirerank::results::rank::{Criterion, LayoutOutcome};
 use wirerank::results::RankResult;
 use wirerank::sim::energy::Step;
 use wirerank::sim::year::RunOptions;
-
-fn fixture(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("tests/fixtures")
-        .join(name)
-}
 
 /// A fixture plan with text edits, written to a temporary folder with its weather path made
 /// absolute. The folder lives as long as the returned guard.

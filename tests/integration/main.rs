@@ -12,5 +12,6 @@ mod invariants;
 mod limits;
 mod limits_input;
 mod output_safety;
+mod support;
 mod synth;
 mod weather;

@@ -7,6 +7,7 @@
 
 use std::path::{Path, PathBuf};
 
+use crate::support::fixture;
 use wirerank::commands::weather::{import, inspect, synth_from_file};
 use wirerank::input::weather::Weather;
 use wirerank::io::monthly_toml::parse_monthly_climate;
@@ -26,12 +27,6 @@ const SAMPLE_SITES: [(&str, u64); 4] = [
 
 fn samples() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples")
-}
-
-fn fixture(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("tests/fixtures")
-        .join(name)
 }
 
 /// Monthly mean daily GHI (kWh/m²), mean temperature and mean daily min/max (°C).

@@ -8,15 +8,10 @@ use std::path::{Path, PathBuf};
 
 use chrono::Datelike;
 
+use crate::support::fixture;
 use wirerank::input::weather::{StampConvention, WeatherWarning};
 use wirerank::io::weather_csv::{parse_weather_csv, read_weather_csv, weather_csv_text};
 use wirerank::weather_gen::sample::{generate, larchwood_2025, LARCHWOOD_2025_CSV, LARCHWOOD_SEED};
-
-fn fixture(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("tests/fixtures")
-        .join(name)
-}
 
 fn demo_path() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples/larchwood-2025.csv")
