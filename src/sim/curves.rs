@@ -456,6 +456,37 @@ impl ShadeProfiles {
     }
 }
 
+/// Each module's class: modules of one class belong to the same orientation group and have
+/// the same substring curves in every interval, so they are interchangeable in every
+/// result. Classes are numbered from 0 in order of their first module. The partition is
+/// refined interval by interval (memory does not grow with the weather file).
+pub fn module_classes(plan: &Plan, curves: &[Option<IntervalCurves>]) -> Vec<usize> {
+    let mut class: Vec<usize> = plan.modules.iter().map(|m| m.group).collect();
+    let mut next: std::collections::HashMap<(usize, &[u16]), usize> =
+        std::collections::HashMap::new();
+    for ic in curves.iter().flatten() {
+        next.clear();
+        for (mi, c) in class.iter_mut().enumerate() {
+            let subs = if ic.is_wired(mi) {
+                ic.module_subs(mi)
+            } else {
+                &[]
+            };
+            let fresh = next.len();
+            *c = *next.entry((*c, subs)).or_insert(fresh);
+        }
+    }
+    // Number by first module (also when there was no sunlit interval).
+    let mut first: std::collections::HashMap<usize, usize> = std::collections::HashMap::new();
+    class
+        .iter()
+        .map(|&c| {
+            let fresh = first.len();
+            *first.entry(c).or_insert(fresh)
+        })
+        .collect()
+}
+
 /// Computes every module's [`ShadeProfiles`] entry from the shared curves.
 pub fn shade_profiles(
     plan: &Plan,
@@ -463,7 +494,6 @@ pub fn shade_profiles(
     curves: &[Option<IntervalCurves>],
 ) -> ShadeProfiles {
     let n = plan.modules.len();
-    let mut sequences: Vec<Vec<u16>> = vec![Vec::new(); n];
     let mut energy_wh = vec![0.0; n];
     let mut lost = vec![[0.0; 24]; n];
     let mut best_by_hour = vec![[0.0; 24]; n];
@@ -474,7 +504,6 @@ pub fn shade_profiles(
     for (k, info) in cond.intervals.iter().enumerate() {
         let Some(ic) = &curves[k] else { continue };
         for mi in (0..n).filter(|&mi| ic.is_wired(mi)) {
-            sequences[mi].extend_from_slice(ic.module_subs(mi));
             mpp[mi] = ic
                 .module_subs(mi)
                 .iter()
@@ -491,16 +520,7 @@ pub fn shade_profiles(
             }
         }
     }
-    let mut keys: std::collections::HashMap<(usize, &[u16]), usize> =
-        std::collections::HashMap::new();
-    let class = (0..n)
-        .map(|mi| {
-            let next = keys.len();
-            *keys
-                .entry((plan.modules[mi].group, sequences[mi].as_slice()))
-                .or_insert(next)
-        })
-        .collect();
+    let class = module_classes(plan, curves);
     let lost_by_hour = lost
         .iter()
         .zip(&best_by_hour)

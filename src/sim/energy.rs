@@ -193,6 +193,25 @@ pub struct InputLosses {
     pub highest_tracked_a: f64,
 }
 
+impl InputLosses {
+    /// Books one interval (`wh` hours long) of this input: its controller's powers and its
+    /// cables' Joule loss, W.
+    pub fn book(
+        &mut self,
+        p: &crate::physics::controller::ControllerPowers,
+        cables_w: f64,
+        wh: f64,
+    ) {
+        self.below_window_wh += p.below_window_w * wh;
+        self.above_window_wh += p.above_window_w * wh;
+        self.pwm_clamp_wh += p.clamp_w * wh;
+        self.input_limit_wh += (p.after_window_w - p.after_input_limit_w) * wh;
+        self.derating_wh += p.derated_w * wh;
+        self.cables_wh += cables_w * wh;
+        self.highest_tracked_a = self.highest_tracked_a.max(p.tracked_a);
+    }
+}
+
 impl LayoutEnergy {
     /// Books one controller input's interval (`wh` hours long): its controller's powers and
     /// its cables' Joule loss, W.
@@ -206,14 +225,7 @@ impl LayoutEnergy {
         if self.inputs.len() <= input {
             self.inputs.resize(input + 1, InputLosses::default());
         }
-        let x = &mut self.inputs[input];
-        x.below_window_wh += p.below_window_w * wh;
-        x.above_window_wh += p.above_window_w * wh;
-        x.pwm_clamp_wh += p.clamp_w * wh;
-        x.input_limit_wh += (p.after_window_w - p.after_input_limit_w) * wh;
-        x.derating_wh += p.derated_w * wh;
-        x.cables_wh += cables_w * wh;
-        x.highest_tracked_a = x.highest_tracked_a.max(p.tracked_a);
+        self.inputs[input].book(p, cables_w, wh);
     }
 }
 

@@ -17,7 +17,7 @@ use crate::physics::wiring::{
 };
 use crate::sim::conditions::Conditions;
 use crate::sim::curves::{all_interval_curves, interval_curves, IntervalCurves, ShadeScene};
-use crate::sim::energy::{HourRow, LayoutEnergy, Step};
+use crate::sim::energy::{HourRow, InputLosses, LayoutEnergy, Step};
 
 /// Conductor resistances of one layout at an air temperature, ohm: the string lead's,
 /// returned, and each input's main run, written into `r_main` (reused between intervals).
@@ -46,9 +46,20 @@ fn lead_ohm(plan: &Plan, air_c: f64) -> f64 {
     cable_resistance_ohm(lead.conductor, lead.length_m, lead.cross_section_mm2, t)
 }
 
+/// The modules a layout wires, ascending.
+fn wired_modules(layout: &Layout) -> Vec<usize> {
+    let mut used: Vec<usize> = layout
+        .inputs
+        .iter()
+        .flat_map(|w| w.strings.iter().flatten().copied())
+        .collect();
+    used.sort_unstable();
+    used
+}
+
 /// Joule loss in the cables of one input at a terminal voltage, W: each string's current
 /// (read off its curve at the combiner voltage) through its lead, and the array current
-/// through the main run.
+/// through the main run. The input's strings are the scratch's last built ones.
 fn joule_loss_w(s: &Scratch, grid: &CurrentGrid, v_terminal: f64, r_lead: f64, r_main: f64) -> f64 {
     if v_terminal <= 0.0 {
         return 0.0;
@@ -74,15 +85,34 @@ fn joule_loss_w(s: &Scratch, grid: &CurrentGrid, v_terminal: f64, r_lead: f64, r
     leads + i * i * r_main
 }
 
-/// Scratch buffers reused across intervals for one layout.
+/// A hash map with a fast fixed hash, for the interval loop's small keys.
+type FastMap<K, V> = std::collections::HashMap<K, V, foldhash::fast::FixedState>;
+
+/// Scratch buffers reused across intervals: the string curves built in the current
+/// interval, each distinct string once whichever input (or layout) asks for it, and the
+/// array curve of the input built last.
 #[derive(Default)]
 struct Scratch {
-    /// Per distinct string: its sorted substring-curve indices.
-    keys: Vec<Vec<u16>>,
-    /// Per string of the input: which distinct string it is.
+    /// Built strings of this interval by their sorted substring-curve indices.
+    index: FastMap<Vec<u16>, usize>,
+    /// How many of `strings` (and `keys`) hold this interval's curves.
+    built: usize,
+    /// The key being looked up (no allocation once grown).
+    key: Vec<u16>,
+    /// Per string of the input built last: which of `strings` it is, in canonical order.
     slot: Vec<usize>,
+    /// Each built string's key.
+    keys: Vec<Vec<u16>>,
     strings: Vec<Vec<f64>>,
     array: ArrayCurve,
+}
+
+impl Scratch {
+    /// Forgets the strings built so far: a new interval (new curves, new lead resistance).
+    fn begin_interval(&mut self) {
+        self.index.clear();
+        self.built = 0;
+    }
 }
 
 /// Simulates one layout over all intervals given the shared curves.
@@ -124,11 +154,7 @@ fn simulate_layout_with(
     // without shade the array has one maximum and both trackers agree.
     let compare_trackers = compares_trackers(plan);
     let mut scratch = Scratch::default();
-    let used: Vec<usize> = layout
-        .inputs
-        .iter()
-        .flat_map(|w| w.strings.iter().flatten().copied())
-        .collect();
+    let used = wired_modules(layout);
     let low_sun = plan.model.low_sun_elevation_deg;
     // With a battery model the year runs twice and the second pass is reported, so that the
     // result does not depend on the starting state of charge (notebooks-free-docs/method-battery.md).
@@ -184,7 +210,7 @@ fn simulate_layout_with(
                 continue;
             };
             let potential_before = e.potential_wh[m];
-            let sub_mpp_sum = book_light(plan, cond, ic, &used, k, &mut e);
+            let sub_mpp_sum = book_light(&mut e, m, &light_sums(plan, cond, ic, &used, k));
             // The second pass reuses curves and cable losses that already include the cables.
             let r_lead = if reuse {
                 0.0
@@ -196,6 +222,7 @@ fn simulate_layout_with(
             let mut cable_w = 0.0;
             let mut powers = ControllerPowers::default();
             let mut any_awake = false;
+            scratch.begin_interval();
             for (wi, w) in layout.inputs.iter().enumerate() {
                 let c = &plan.controllers[w.controller];
                 let slot = sunlit * n_inputs + wi;
@@ -395,21 +422,30 @@ fn book_low_sun(
     }
 }
 
-/// Books the light on the wired modules in interval `k` (STC-efficiency DC equivalents): the
-/// potential and the incidence, soiling, shading and temperature/low-light steps. Returns
-/// the sum of the wired substrings' maximum powers, W.
-fn book_light(
+/// The light on a set of wired modules in one interval (STC-efficiency DC equivalents, Wh):
+/// the potential and the incidence, soiling, shading and temperature/low-light steps, and
+/// the sum of the modules' substring maximum powers, W.
+#[derive(Clone, Copy, Default)]
+struct LightSums {
+    potential_wh: f64,
+    incidence_wh: f64,
+    soiling_wh: f64,
+    shading_wh: f64,
+    temperature_low_light_wh: f64,
+    sub_mpp_w: f64,
+}
+
+/// The light on the modules `used` (in ascending order, so that a set of modules sums the
+/// same bits in every layout) in sunlit interval `k`.
+fn light_sums(
     plan: &Plan,
     cond: &Conditions,
     ic: &IntervalCurves,
     used: &[usize],
     k: usize,
-    e: &mut LayoutEnergy,
-) -> f64 {
-    let info = &cond.intervals[k];
-    let m = (info.month - 1) as usize;
-    let wh = info.hours;
-    let mut sub_mpp_sum = 0.0;
+) -> LightSums {
+    let wh = cond.intervals[k].hours;
+    let mut x = LightSums::default();
     for &mi in used {
         let module = &plan.modules[mi];
         let t = &plan.module_types[module.module_type];
@@ -423,20 +459,31 @@ fn book_light(
         let sky = g.effective[k].isotropic_w_m2 + g.effective[k].horizon_w_m2;
         let shaded: f64 = ic.blocked(mi).iter().map(|f| f * direct / b).sum::<f64>()
             + (1.0 - ic.diffuse_factor(mi)) * sky;
-        e.potential_wh[m] += poa * scale;
-        e.losses_wh[Step::Incidence][m] += (poa - after_iam) * scale;
-        e.losses_wh[Step::Soiling][m] += (after_iam - eff) * scale;
-        e.losses_wh[Step::Shading][m] += shaded * scale;
+        x.potential_wh += poa * scale;
+        x.incidence_wh += (poa - after_iam) * scale;
+        x.soiling_wh += (after_iam - eff) * scale;
+        x.shading_wh += shaded * scale;
         let light_after_shade = (eff - shaded) * scale;
         let mpp: f64 = ic
             .module_subs(mi)
             .iter()
             .map(|&s| ic.curves[s as usize].mpp_w)
             .sum();
-        e.losses_wh[Step::TemperatureLowLight][m] += light_after_shade - mpp * wh;
-        sub_mpp_sum += mpp;
+        x.temperature_low_light_wh += light_after_shade - mpp * wh;
+        x.sub_mpp_w += mpp;
     }
-    sub_mpp_sum
+    x
+}
+
+/// Books an interval's light ([`light_sums`]) in month `m`; returns the substrings' summed
+/// maximum power, W.
+fn book_light(e: &mut LayoutEnergy, m: usize, x: &LightSums) -> f64 {
+    e.potential_wh[m] += x.potential_wh;
+    e.losses_wh[Step::Incidence][m] += x.incidence_wh;
+    e.losses_wh[Step::Soiling][m] += x.soiling_wh;
+    e.losses_wh[Step::Shading][m] += x.shading_wh;
+    e.losses_wh[Step::TemperatureLowLight][m] += x.temperature_low_light_wh;
+    x.sub_mpp_w
 }
 
 /// Books the electrical steps of one interval from the controllers' summed powers: mismatch
@@ -527,7 +574,7 @@ fn settle(
 }
 
 /// String curves (string leads included) and the array curve at the terminals (main run
-/// included) of one input.
+/// included) of one input, into `s` (its strings in `s.slot`, its curve in `s.array`).
 fn build_input_curves(
     plan: &Plan,
     ic: &IntervalCurves,
@@ -536,47 +583,82 @@ fn build_input_curves(
     r_main: f64,
     s: &mut Scratch,
 ) {
-    // Strings made of the same substring curves (in any order) have the same curve: build
-    // each distinct one once and pass the same slice again, which `array_curve` then
-    // interpolates once and counts with its multiplicity.
-    s.keys.clear();
+    resolve_strings(plan, ic, w, r_lead, s);
+    build_array(ic, r_main, s);
+}
+
+/// The string curves of one input (string leads included), into `s.slot`.
+///
+/// Strings made of the same substring curves (in any order) have the same curve: each
+/// distinct one is built once per interval ([`Scratch::begin_interval`]) and the same
+/// slice passed again, which `array_curve` then interpolates once and counts with its
+/// multiplicity. The input's strings are put in a canonical order (by their sorted
+/// substring-curve indices), so that the array's sums come out the same, bit for bit,
+/// whatever order the layout lists them in and whatever was built before.
+fn resolve_strings(
+    plan: &Plan,
+    ic: &IntervalCurves,
+    w: &crate::input::layout::InputWiring,
+    r_lead: f64,
+    s: &mut Scratch,
+) {
     s.slot.clear();
-    let mut distinct = 0;
+    let blocking = plan.cables.blocking_diode_v;
     for st in &w.strings {
-        // The candidate key is built in the first free buffer (no allocation once the
-        // buffers have grown) and kept only when it is new.
-        if s.keys.len() <= distinct {
-            s.keys.push(Vec::new());
-        }
-        let key = &mut s.keys[distinct];
-        key.clear();
-        key.extend(st.iter().flat_map(|&mi| ic.module_subs(mi).iter().copied()));
-        key.sort_unstable();
-        let (seen, rest) = s.keys.split_at(distinct);
-        let slot = match seen.iter().position(|k| *k == rest[0]) {
-            Some(j) => j,
+        s.key.clear();
+        s.key
+            .extend(st.iter().flat_map(|&mi| ic.module_subs(mi).iter().copied()));
+        s.key.sort_unstable();
+        let slot = match s.index.get(s.key.as_slice()) {
+            Some(&j) => j,
             None => {
-                distinct += 1;
-                distinct - 1
+                let j = s.built;
+                s.built += 1;
+                if s.strings.len() < s.built {
+                    s.strings.push(Vec::new());
+                    s.keys.push(Vec::new());
+                }
+                let subs: Vec<&SubstringCurve> = s
+                    .key
+                    .iter()
+                    .map(|&c| &ic.curves[c as usize].curve)
+                    .collect();
+                string_curve(&subs, r_lead, blocking, &ic.grid, &mut s.strings[j]);
+                s.keys[j].clone_from(&s.key);
+                s.index.insert(s.key.clone(), j);
+                j
             }
         };
         s.slot.push(slot);
     }
-    s.strings.resize_with(distinct, Vec::new);
-    let blocking = plan.cables.blocking_diode_v;
-    for j in 0..distinct {
-        let subs: Vec<&SubstringCurve> = s.keys[j]
-            .iter()
-            .map(|&c| &ic.curves[c as usize].curve)
-            .collect();
-        string_curve(&subs, r_lead, blocking, &ic.grid, &mut s.strings[j]);
-    }
-    let with: Vec<&[f64]> = s.slot.iter().map(|&j| s.strings[j].as_slice()).collect();
-    array_curve(&with, &ic.grid, r_main, &mut s.array);
+    let keys = &s.keys;
+    s.slot.sort_unstable_by(|&a, &b| keys[a].cmp(&keys[b]));
 }
 
-/// One controller input's part of one sunlit interval, kept so that every layout with this
-/// input reuses it.
+/// The array curve at the terminals (main run included) of the strings in `s.slot`.
+fn build_array(ic: &IntervalCurves, r_main: f64, s: &mut Scratch) {
+    with_slices(&s.strings, &s.slot, |with| {
+        array_curve(with, &ic.grid, r_main, &mut s.array)
+    });
+}
+
+/// Calls `f` with the listed curves as slices, on the stack for up to 16 of them.
+fn with_slices<R>(curves: &[Vec<f64>], slots: &[usize], f: impl FnOnce(&[&[f64]]) -> R) -> R {
+    const ON_STACK: usize = 16;
+    if slots.len() <= ON_STACK {
+        let mut a: [&[f64]; ON_STACK] = [&[]; ON_STACK];
+        for (x, &j) in a.iter_mut().zip(slots) {
+            *x = &curves[j];
+        }
+        f(&a[..slots.len()])
+    } else {
+        let v: Vec<&[f64]> = slots.iter().map(|&j| curves[j].as_slice()).collect();
+        f(&v)
+    }
+}
+
+/// One controller input's part of one sunlit interval, kept for one block of intervals so
+/// that every layout with this input reuses it.
 #[derive(Clone, Copy, Default)]
 struct InputStep {
     available_w: f64,
@@ -604,121 +686,197 @@ impl InputStep {
     }
 }
 
-/// One distinct controller input (controller and strings) over every interval.
-struct InputRun {
-    /// One per sunlit interval, in time order.
-    steps: Vec<InputStep>,
-    /// The input's own loss tally (`LayoutEnergy::book_input`); `None` without a sunlit
-    /// interval.
-    losses: Option<crate::sim::energy::InputLosses>,
+/// What one distinct controller input carries from one block of intervals to the next.
+#[derive(Clone, Copy, Default)]
+struct InputState {
+    awake: bool,
+    other_awake: bool,
+    /// The input's own loss tally (`InputLosses::book`).
+    losses: InputLosses,
 }
 
-/// Simulates one controller input alone over the year at the plan's fixed charging voltage
-/// (a plan without a battery model): its array curve, where its controller operates, its
-/// cable loss, exactly as [`simulate_layout_with`] does for each input of a layout.
-fn run_input(
+/// Intervals per block of the shared path: each distinct input's steps are kept for one
+/// block only, so memory does not grow with the length of the weather file.
+const SHARED_BLOCK: usize = 1024;
+
+/// Runs some distinct controller inputs over one block's sunlit intervals `sunlit` at the
+/// plan's fixed charging voltage (a plan without a battery model): each input's array
+/// curve, where its controller operates, its cable loss, exactly as
+/// [`simulate_layout_with`] does for each input of a layout. Writes input `j`'s step of
+/// the block's `s`-th sunlit interval to `out[j * SHARED_BLOCK + s]`. The string curves of
+/// an interval are built once for all these inputs.
+fn run_inputs_block(
     plan: &Plan,
     cond: &Conditions,
     curves: &[Option<IntervalCurves>],
-    w: &crate::input::layout::InputWiring,
-) -> InputRun {
-    let c = &plan.controllers[w.controller];
-    let other = c.model.with_other_tracking();
+    sunlit: &[usize],
+    inputs: &[&crate::input::layout::InputWiring],
+    states: &mut [InputState],
+    out: &mut [InputStep],
+) {
     let compare_trackers = compares_trackers(plan);
+    let others: Vec<ControllerModel> = inputs
+        .iter()
+        .map(|w| plan.controllers[w.controller].model.with_other_tracking())
+        .collect();
     let battery_v = plan.battery.charge_v;
-    let (mut awake, mut other_awake) = (false, false);
+    let class = controller_classes(plan);
     let mut scratch = Scratch::default();
-    let mut tally = LayoutEnergy::default();
-    let mut steps = Vec::new();
-    for (k, info) in cond.intervals.iter().enumerate() {
-        let Some(ic) = &curves[k] else {
-            awake = false;
-            other_awake = false;
-            continue;
-        };
-        let (r_lead, r_main) = (
-            lead_ohm(plan, info.air_temp_c),
-            main_run_ohm(plan, w.controller, info.air_temp_c),
-        );
-        build_input_curves(plan, ic, w, r_lead, r_main, &mut scratch);
-        let array = &scratch.array;
-        let (p, alt) = operate_both(
-            &c.model,
-            compare_trackers.then_some(&other),
-            array,
-            battery_v,
-            info.air_temp_c,
-            (&mut awake, &mut other_awake),
-        );
-        let joule_w = joule_loss_w(&scratch, &ic.grid, p.available_v, r_lead, r_main);
-        tally.book_input(0, &p, joule_w, info.hours);
-        steps.push(InputStep {
-            available_w: p.available_w,
-            after_window_w: p.after_window_w,
-            after_input_limit_w: p.after_input_limit_w,
-            input_w: p.input_w,
-            output_w: p.output_w,
-            joule_w,
-            alt_output_w: alt.output_w,
-            awake: p.awake,
-        });
-    }
-    InputRun {
-        steps,
-        losses: tally.inputs.first().copied(),
+    // Inputs that are the same this interval (controllers alike, the same string curves,
+    // the same wake states) give the same step: each is worked out once per interval.
+    let mut done: FastMap<Vec<u32>, usize> = FastMap::default();
+    let mut results: Vec<(InputStep, ControllerPowers, bool, bool)> = Vec::new();
+    let mut key: Vec<u32> = Vec::new();
+    for (s, &k) in sunlit.iter().enumerate() {
+        let Some(ic) = &curves[k] else { continue };
+        let info = &cond.intervals[k];
+        // A night before this interval put every controller to sleep.
+        let after_night = k == 0 || curves[k - 1].is_none();
+        let r_lead = lead_ohm(plan, info.air_temp_c);
+        scratch.begin_interval();
+        done.clear();
+        results.clear();
+        for (j, (w, st)) in inputs.iter().zip(states.iter_mut()).enumerate() {
+            if after_night {
+                st.awake = false;
+                st.other_awake = false;
+            }
+            resolve_strings(plan, ic, w, r_lead, &mut scratch);
+            key.clear();
+            key.push(class[w.controller] as u32);
+            key.push(u32::from(st.awake) | u32::from(st.other_awake) << 1);
+            key.extend(scratch.slot.iter().map(|&x| x as u32));
+            let r = match done.get(key.as_slice()) {
+                Some(&r) => r,
+                None => {
+                    let c = &plan.controllers[w.controller];
+                    let r_main = main_run_ohm(plan, w.controller, info.air_temp_c);
+                    build_array(ic, r_main, &mut scratch);
+                    let (mut awake, mut other_awake) = (st.awake, st.other_awake);
+                    let (p, alt) = operate_both(
+                        &c.model,
+                        compare_trackers.then_some(&others[j]),
+                        &scratch.array,
+                        battery_v,
+                        info.air_temp_c,
+                        (&mut awake, &mut other_awake),
+                    );
+                    let joule_w = joule_loss_w(&scratch, &ic.grid, p.available_v, r_lead, r_main);
+                    let step = InputStep {
+                        available_w: p.available_w,
+                        after_window_w: p.after_window_w,
+                        after_input_limit_w: p.after_input_limit_w,
+                        input_w: p.input_w,
+                        output_w: p.output_w,
+                        joule_w,
+                        alt_output_w: alt.output_w,
+                        awake: p.awake,
+                    };
+                    results.push((step, p, awake, other_awake));
+                    done.insert(key.clone(), results.len() - 1);
+                    results.len() - 1
+                }
+            };
+            let (step, p, awake, other_awake) = &results[r];
+            st.awake = *awake;
+            st.other_awake = *other_awake;
+            st.losses.book(p, step.joule_w, info.hours);
+            out[j * SHARED_BLOCK + s] = *step;
+        }
     }
 }
 
-/// A layout's year from the runs of its inputs (in the layout's input order): the same
+/// What makes two controller inputs alike in every interval: the controller's class, then
+/// the strings (each its modules' classes, sorted), sorted.
+fn input_signature(
+    w: &crate::input::layout::InputWiring,
+    controller_class: &[usize],
+    module_class: &[usize],
+) -> Vec<usize> {
+    let mut strings: Vec<Vec<usize>> = w
+        .strings
+        .iter()
+        .map(|st| {
+            let mut c: Vec<usize> = st.iter().map(|&mi| module_class[mi]).collect();
+            c.sort_unstable();
+            c
+        })
+        .collect();
+    strings.sort_unstable();
+    let mut key = vec![controller_class[w.controller], strings.len()];
+    for st in strings {
+        key.push(st.len());
+        key.extend(st);
+    }
+    key
+}
+
+/// Each controller's class: the index of the first controller with the same model and the
+/// same main run resistance (inputs on alike controllers with alike strings behave alike).
+fn controller_classes(plan: &Plan) -> Vec<usize> {
+    let alike = |a: &crate::input::plan::ControllerInput,
+                 b: &crate::input::plan::ControllerInput| {
+        a.model == b.model
+            && a.main_run.conductor == b.main_run.conductor
+            && a.main_run.length_m == b.main_run.length_m
+            && a.main_run.cross_section_mm2 == b.main_run.cross_section_mm2
+    };
+    (0..plan.controllers.len())
+        .map(|c| {
+            (0..=c)
+                .find(|&d| alike(&plan.controllers[d], &plan.controllers[c]))
+                .unwrap_or(c)
+        })
+        .collect()
+}
+
+/// What a layout of the shared path needs besides its energy: its distinct inputs, the
+/// modules it wires, which inputs are PWM.
+struct Composed<'a> {
+    layout: &'a Layout,
+    /// Per input: which distinct input it is.
+    inputs: Vec<usize>,
+    /// Which distinct set of wired modules the layout has.
+    used: usize,
+    pwm: Vec<bool>,
+}
+
+/// Books one block of intervals (its range and its inputs' steps) of a layout from its inputs' steps: the same
 /// bookings, in the same order, as [`simulate_layout_with`] without a battery model, so the
 /// result is identical bit for bit.
-fn compose_layout(
+fn compose_block(
     plan: &Plan,
     cond: &Conditions,
     curves: &[Option<IntervalCurves>],
-    layout: &Layout,
-    runs: &[&InputRun],
+    block: (std::ops::Range<usize>, &[InputStep], &[LightSums]),
+    l: &Composed,
+    e: &mut LayoutEnergy,
     hourly: bool,
-) -> LayoutEnergy {
-    let mut e = LayoutEnergy {
-        min_soc_frac: [f64::NAN; 12],
-        ..LayoutEnergy::default()
-    };
-    if hourly {
-        e.hourly.reserve(cond.intervals.len());
-    }
-    let used: Vec<usize> = layout
-        .inputs
-        .iter()
-        .flat_map(|w| w.strings.iter().flatten().copied())
-        .collect();
-    let pwm: Vec<bool> = layout
-        .inputs
-        .iter()
-        .map(|w| plan.controllers[w.controller].model.is_pwm())
-        .collect();
+) {
     let low_sun = plan.model.low_sun_elevation_deg;
     let battery_v = plan.battery.charge_v;
-    let mut sunlit = 0usize;
-    for (k, info) in cond.intervals.iter().enumerate() {
+    let (range, steps, light) = block;
+    let mut s = 0usize;
+    for k in range {
+        let info = &cond.intervals[k];
         let m = (info.month - 1) as usize;
         let wh = info.hours;
         year_add(&mut e.yearly, info.year, wh, 0.0);
-        let Some(ic) = &curves[k] else {
+        if curves[k].is_none() {
             if hourly {
                 e.hourly.push(HourRow::default());
             }
             continue;
-        };
+        }
         let potential_before = e.potential_wh[m];
-        let sub_mpp_sum = book_light(plan, cond, ic, &used, k, &mut e);
+        let sub_mpp_sum = book_light(e, m, &light[l.used * SHARED_BLOCK + s]);
         let mut cable_w = 0.0;
         let mut powers = ControllerPowers::default();
         let mut any_awake = false;
-        for (wi, run) in runs.iter().enumerate() {
-            let st = &run.steps[sunlit];
+        for (wi, &j) in l.inputs.iter().enumerate() {
+            let st = &steps[j * SHARED_BLOCK + s];
             let p = st.powers();
-            if pwm[wi] {
+            if l.pwm[wi] {
                 e.pwm_clamp_wh[m] += (p.available_w - p.after_window_w) * wh;
             }
             e.other_tracking_wh[m] += st.alt_output_w * wh;
@@ -726,7 +884,7 @@ fn compose_layout(
             any_awake |= st.awake;
             add_powers(&mut powers, &p);
         }
-        sunlit += 1;
+        s += 1;
         let sums = IntervalSums {
             powers: &powers,
             sub_mpp_sum,
@@ -734,20 +892,17 @@ fn compose_layout(
             any_awake,
             potential_before,
         };
-        book_interval(&mut e, info, &sums, battery_v, hourly);
-        book_low_sun(&mut e, info, low_sun, powers.output_w, 0.0);
+        book_interval(e, info, &sums, battery_v, hourly);
+        book_low_sun(e, info, low_sun, powers.output_w, 0.0);
     }
-    if sunlit > 0 {
-        e.inputs = runs.iter().map(|r| r.losses.unwrap_or_default()).collect();
-    }
-    e.unmet_days_mean = e.unmet_days.map(f64::from);
-    e
 }
 
 /// Every layout of a plan without a battery model from shared per-input work: each
 /// distinct controller input (the same controller and the same strings in the same order)
 /// is simulated once, and each layout sums its inputs' steps
-/// (notebooks-free-docs/method-controller.md, "Inputs shared between layouts").
+/// (notebooks-free-docs/method-controller.md, "Inputs shared between layouts"). The
+/// intervals stream through in blocks of [`SHARED_BLOCK`]: the inputs' steps are kept for
+/// one block, then every layout books it.
 fn simulate_shared(
     plan: &Plan,
     cond: &Conditions,
@@ -755,45 +910,152 @@ fn simulate_shared(
     layouts: &[&Layout],
     opts: RunOptions,
 ) -> Vec<LayoutEnergy> {
-    let mut index: std::collections::HashMap<(usize, &[Vec<usize>]), usize> =
-        std::collections::HashMap::new();
+    // Inputs alike in every interval (alike controllers, strings of interchangeable modules)
+    // are one distinct input, run once.
+    let module_class = crate::sim::curves::module_classes(plan, curves);
+    let controller_class = controller_classes(plan);
+    let mut index: FastMap<Vec<usize>, usize> = FastMap::default();
     let mut distinct: Vec<&crate::input::layout::InputWiring> = Vec::new();
-    let slots: Vec<Vec<usize>> = layouts
+    let mut used_index: FastMap<Vec<usize>, usize> = FastMap::default();
+    let mut used_sets: Vec<Vec<usize>> = Vec::new();
+    let composed: Vec<Composed> = layouts
         .iter()
         .map(|l| {
-            l.inputs
-                .iter()
-                .map(|w| {
-                    *index
-                        .entry((w.controller, w.strings.as_slice()))
-                        .or_insert_with(|| {
+            let used = wired_modules(l);
+            let next = used_sets.len();
+            let used = *used_index.entry(used).or_insert_with_key(|u| {
+                used_sets.push(u.clone());
+                next
+            });
+            Composed {
+                layout: l,
+                inputs: l
+                    .inputs
+                    .iter()
+                    .map(|w| {
+                        let key = input_signature(w, &controller_class, &module_class);
+                        *index.entry(key).or_insert_with(|| {
                             distinct.push(w);
                             distinct.len() - 1
                         })
-                })
-                .collect()
+                    })
+                    .collect(),
+                used,
+                pwm: l
+                    .inputs
+                    .iter()
+                    .map(|w| plan.controllers[w.controller].model.is_pwm())
+                    .collect(),
+            }
         })
         .collect();
-    let one = |w: &&crate::input::layout::InputWiring| run_input(plan, cond, curves, w);
-    let runs: Vec<InputRun> = if opts.parallel {
-        distinct.par_iter().map(one).collect()
+    let n = cond.intervals.len();
+    let mut energies: Vec<LayoutEnergy> = layouts
+        .iter()
+        .map(|_| {
+            let mut e = LayoutEnergy {
+                min_soc_frac: [f64::NAN; 12],
+                ..LayoutEnergy::default()
+            };
+            if opts.hourly {
+                e.hourly.reserve(n);
+            }
+            e
+        })
+        .collect();
+    let mut states = vec![InputState::default(); distinct.len()];
+    let mut steps = vec![InputStep::default(); distinct.len() * SHARED_BLOCK];
+    let mut light = vec![LightSums::default(); used_sets.len() * SHARED_BLOCK];
+    // Several tasks per core, so that the cores finish a block together.
+    let tasks = if opts.parallel {
+        4 * rayon::current_num_threads()
     } else {
-        distinct.iter().map(one).collect()
+        1
     };
-    let compose = |(l, slot): (&&Layout, &Vec<usize>)| {
-        let mine: Vec<&InputRun> = slot.iter().map(|&j| &runs[j]).collect();
-        let e = compose_layout(plan, cond, curves, l, &mine, opts.hourly);
-        finished(e, l, &opts, layouts.len())
-    };
-    if opts.parallel {
-        layouts
-            .par_iter()
-            .zip(slots.par_iter())
-            .map(compose)
-            .collect()
-    } else {
-        layouts.iter().zip(slots.iter()).map(compose).collect()
+    let per_task = distinct.len().div_ceil(tasks).max(1);
+    let mut sunlit: Vec<usize> = Vec::with_capacity(SHARED_BLOCK);
+    let mut any_sunlit = false;
+    let mut reported = 0usize;
+    for start in (0..n).step_by(SHARED_BLOCK) {
+        let end = (start + SHARED_BLOCK).min(n);
+        sunlit.clear();
+        sunlit.extend((start..end).filter(|&k| curves[k].is_some()));
+        any_sunlit |= !sunlit.is_empty();
+        let run = |((ws, sts), out): (
+            (&[&crate::input::layout::InputWiring], &mut [InputState]),
+            &mut [InputStep],
+        )| run_inputs_block(plan, cond, curves, &sunlit, ws, sts, out);
+        if opts.parallel {
+            distinct
+                .par_chunks(per_task)
+                .zip(states.par_chunks_mut(per_task))
+                .zip(steps.par_chunks_mut(per_task * SHARED_BLOCK))
+                .for_each(run);
+        } else {
+            distinct
+                .chunks(per_task)
+                .zip(states.chunks_mut(per_task))
+                .zip(steps.chunks_mut(per_task * SHARED_BLOCK))
+                .for_each(run);
+        }
+        let sums = |(used, out): (&Vec<usize>, &mut [LightSums])| {
+            for (x, &k) in out.iter_mut().zip(&sunlit) {
+                if let Some(ic) = &curves[k] {
+                    *x = light_sums(plan, cond, ic, used, k);
+                }
+            }
+        };
+        if opts.parallel {
+            used_sets
+                .par_iter()
+                .zip(light.par_chunks_mut(SHARED_BLOCK))
+                .for_each(sums);
+        } else {
+            used_sets
+                .iter()
+                .zip(light.chunks_mut(SHARED_BLOCK))
+                .for_each(sums);
+        }
+        let book = |(e, l): (&mut LayoutEnergy, &Composed)| {
+            compose_block(
+                plan,
+                cond,
+                curves,
+                (start..end, &steps, &light),
+                l,
+                e,
+                opts.hourly,
+            )
+        };
+        if opts.parallel {
+            energies
+                .par_iter_mut()
+                .zip(composed.par_iter())
+                .for_each(book);
+        } else {
+            energies.iter_mut().zip(composed.iter()).for_each(book);
+        }
+        // Progress in proportion to the intervals done.
+        if let Some(done) = opts.on_layout_done {
+            let due = layouts.len() * end / n.max(1);
+            for _ in reported..due {
+                done(layouts.len());
+            }
+            reported = due.max(reported);
+        }
     }
+    for (e, l) in energies.iter_mut().zip(&composed) {
+        if any_sunlit {
+            e.inputs = l.inputs.iter().map(|&j| states[j].losses).collect();
+        }
+        e.unmet_days_mean = e.unmet_days.map(f64::from);
+        debug_assert!(
+            e.all_finite(),
+            "layout {}: a simulated figure is not finite",
+            l.layout.id
+        );
+    }
+    energies
 }
 
 /// The array curve each of a layout's controller inputs sees at its terminals in interval
@@ -808,6 +1070,7 @@ pub fn layout_curves_at(
     let mut r_main = Vec::new();
     let r_lead = cable_resistances(plan, layout, cond.intervals[k].air_temp_c, &mut r_main);
     let mut scratch = Scratch::default();
+    scratch.begin_interval();
     Some(
         layout
             .inputs
