@@ -6,6 +6,7 @@
 //! the loss steps of notebooks-free-docs/method-accounting.md; it keeps the wake/sleep state between intervals. It knows
 //! nothing of layouts, plans or files.
 
+use crate::physics::diode::Mpp;
 use crate::physics::wiring::ArrayCurve;
 
 /// Which maximum an MPPT tracker settles on.
@@ -140,6 +141,18 @@ fn output_for_input(curve: &[(f64, f64)], p_in: f64, p_rated: f64) -> f64 {
 
 /// The highest power on the curve between two voltages (edges included), and its voltage.
 fn best_in(curve: &ArrayCurve, lo: f64, hi: f64) -> (f64, f64) {
+    best_among(curve, lo, hi, |visit| {
+        curve.for_each_local_maximum(lo, hi, visit);
+    })
+}
+
+/// [`best_in`] given a way to visit the local maxima that lie in [lo, hi], in voltage order.
+fn best_among(
+    curve: &ArrayCurve,
+    lo: f64,
+    hi: f64,
+    maxima: impl FnOnce(&mut dyn FnMut(Mpp)),
+) -> (f64, f64) {
     if hi <= lo {
         let p = curve.power_at(lo).max(0.0);
         return (p, lo);
@@ -149,12 +162,68 @@ fn best_in(curve: &ArrayCurve, lo: f64, hi: f64) -> (f64, f64) {
     if p_hi > best.0 {
         best = (p_hi, hi);
     }
-    curve.for_each_local_maximum(lo, hi, |m| {
+    maxima(&mut |m: Mpp| {
         if m.p > best.0 {
             best = (m.p, m.v);
         }
     });
     best
+}
+
+/// Most local maxima of one curve kept on the stack; a curve with more is searched again
+/// window by window.
+const MAXIMA_KEPT: usize = 32;
+
+/// The local maxima of a whole array curve (0 V to open circuit), found in one walk and
+/// shared by every search of one interval: the best point over the whole curve, the best
+/// in the controller's window, the best below its input limit, and how many maxima there
+/// are (which decides whether the other tracking behaviour can differ).
+pub struct CurveMaxima {
+    found: [Mpp; MAXIMA_KEPT],
+    n: usize,
+    overflow: bool,
+}
+
+impl CurveMaxima {
+    /// One walk over the whole curve.
+    pub fn of(curve: &ArrayCurve) -> CurveMaxima {
+        let mut m = CurveMaxima {
+            found: [Mpp::ZERO; MAXIMA_KEPT],
+            n: 0,
+            overflow: false,
+        };
+        curve.for_each_local_maximum(0.0, curve.voc_v(), |x| {
+            if m.n < MAXIMA_KEPT {
+                m.found[m.n] = x;
+            } else {
+                m.overflow = true;
+            }
+            m.n += 1;
+        });
+        m
+    }
+
+    /// How many local maxima the whole curve has.
+    pub fn count(&self) -> usize {
+        self.n
+    }
+
+    /// [`best_in`] from the maxima found: the window's edges and the maxima strictly inside
+    /// it. A maximum of the whole curve strictly inside a window is a maximum of the window
+    /// too (the same segment, the same arithmetic), and a window's own edge maxima are its
+    /// edges, which [`best_in`] looks at anyway.
+    fn best_in(&self, curve: &ArrayCurve, lo: f64, hi: f64) -> (f64, f64) {
+        if self.overflow {
+            return best_in(curve, lo, hi);
+        }
+        best_among(curve, lo, hi, |visit| {
+            for m in &self.found[..self.n] {
+                if m.v > lo && m.v < hi {
+                    visit(*m);
+                }
+            }
+        })
+    }
 }
 
 /// The first maximum met when climbing down in voltage from `hi` (open-circuit side) to `lo`.
@@ -296,9 +365,22 @@ impl ControllerModel {
         air_c: f64,
         awake: &mut bool,
     ) -> ControllerPowers {
+        self.operate_with(curve, &CurveMaxima::of(curve), battery_v, air_c, awake)
+    }
+
+    /// [`Self::operate`] with the curve's maxima already found ([`CurveMaxima::of`]), so that
+    /// one walk serves every search of the interval.
+    pub fn operate_with(
+        &self,
+        curve: &ArrayCurve,
+        maxima: &CurveMaxima,
+        battery_v: f64,
+        air_c: f64,
+        awake: &mut bool,
+    ) -> ControllerPowers {
         let voc = curve.voc_v();
         let (available, available_v) = if voc > 0.0 {
-            best_in(curve, 0.0, voc)
+            maxima.best_in(curve, 0.0, voc)
         } else {
             (0.0, 0.0)
         };
@@ -330,7 +412,7 @@ impl ControllerModel {
                 let lo = mppt_min_v.max(battery_v + headroom_v);
                 let hi = mppt_max_v.min(voc);
                 let pick = |lo: f64, hi: f64| match tracking {
-                    TrackerMode::Global => best_in(curve, lo, hi),
+                    TrackerMode::Global => maxima.best_in(curve, lo, hi),
                     TrackerMode::Local => first_from_top(curve, lo, hi),
                 };
                 let (p_window, v_window) = if hi > lo { pick(lo, hi) } else { (0.0, 0.0) };
@@ -446,6 +528,41 @@ mod tests {
             .expect("consistent datasheet")
             .substring(2)
             .at(irradiance_w_m2, cell_c)
+    }
+
+    /// One walk's maxima give the same best point as a walk of each window, on a string of
+    /// four modules with one module's substrings at 25 % light (two maxima), for windows
+    /// across the whole curve. Source: self-consistency of the two searches (common
+    /// practice, no source); equality is exact.
+    #[test]
+    fn one_walk_finds_what_each_window_walk_finds() {
+        let (sun, shade) = (
+            module_substring(1000.0, 25.0),
+            module_substring(250.0, 25.0),
+        );
+        let mut knees = substring_knees_a(&sun, BYPASS_DROP_DEFAULT_V).to_vec();
+        knees.extend(substring_knees_a(&shade, BYPASS_DROP_DEFAULT_V));
+        let grid = CurrentGrid::with_knees(sun.il_a * 1.02, 64, &knees);
+        let a = substring_curve(&sun, BYPASS_DROP_DEFAULT_V, &grid);
+        let b = substring_curve(&shade, BYPASS_DROP_DEFAULT_V, &grid);
+        let subs = [&a, &a, &a, &a, &a, &a, &b, &b];
+        let mut st = Vec::new();
+        string_curve(&subs, 0.1, None, &grid, &mut st);
+        let mut c = ArrayCurve::default();
+        array_curve(&[st.as_slice()], &grid, 0.05, &mut c);
+        let maxima = CurveMaxima::of(&c);
+        assert!(maxima.count() >= 2, "shade gives two maxima");
+        let voc = c.voc_v();
+        for lo10 in 0..(voc * 10.0) as usize {
+            for hi10 in (lo10..(voc * 10.0) as usize + 5).step_by(7) {
+                let (lo, hi) = (lo10 as f64 / 10.0, hi10 as f64 / 10.0);
+                assert_eq!(
+                    maxima.best_in(&c, lo, hi),
+                    best_in(&c, lo, hi),
+                    "window {lo}..{hi}"
+                );
+            }
+        }
     }
 
     /// The terminal curve of `parallel` strings of `series` identical modules.

@@ -11,7 +11,7 @@ use rayon::prelude::*;
 use crate::input::layout::Layout;
 use crate::input::plan::Plan;
 use crate::physics::battery::{BatterySpec, BatteryState, LoadProfile, WARM_UP_MAX_H};
-use crate::physics::controller::{ControllerModel, ControllerPowers};
+use crate::physics::controller::{ControllerModel, ControllerPowers, CurveMaxima};
 use crate::physics::wiring::{
     array_curve, cable_resistance_ohm, string_curve, ArrayCurve, CurrentGrid, SubstringCurve,
 };
@@ -320,10 +320,11 @@ fn operate_both(
     (awake, other_awake): (&mut bool, &mut bool),
 ) -> (ControllerPowers, ControllerPowers) {
     let was_awake = *awake;
-    let p = model.operate(array, battery_v, air_c, awake);
+    let maxima = CurveMaxima::of(array);
+    let p = model.operate_with(array, &maxima, battery_v, air_c, awake);
     let alt = match other {
-        Some(o) if *other_awake != was_awake || maxima_count(array) > 1 => {
-            o.operate(array, battery_v, air_c, other_awake)
+        Some(o) if *other_awake != was_awake || maxima.count() > 1 => {
+            o.operate_with(array, &maxima, battery_v, air_c, other_awake)
         }
         _ => {
             *other_awake = *awake;
@@ -345,13 +346,6 @@ fn finished(e: LayoutEnergy, l: &Layout, opts: &RunOptions, layouts: usize) -> L
         done(layouts);
     }
     e
-}
-
-/// How many local maxima an array curve has over its whole voltage range (no allocation).
-fn maxima_count(array: &ArrayCurve) -> usize {
-    let mut n = 0;
-    array.for_each_local_maximum(0.0, array.voc_v(), |_| n += 1);
-    n
 }
 
 /// Adds one input's powers to the interval's sums (the fields the loss steps read).
