@@ -73,13 +73,6 @@ pub fn simulate_and_rank(
             }
         }
     }
-    let passing: Vec<&layout::Layout> = outcomes
-        .iter()
-        .filter(|o| !o.rejected())
-        .map(|o| &o.layout)
-        .collect();
-    let energies = year::simulate_layouts(plan, &conditions, &curves, &passing, opts);
-    let mut energies = energies.into_iter();
     // Every figure is per mean year: a weather file of several years is scaled to one.
     let per_year = conditions.per_year_factor();
     let group_ids: Vec<String> = plan.groups.iter().map(|g| g.id.clone()).collect();
@@ -88,6 +81,36 @@ pub fn simulate_and_rank(
     let horizontal_kwh_m2 = light::horizontal_monthly_kwh_m2(&conditions).map(|x| x * per_year);
     let months_present = light::months_present(&conditions);
     let winter_months = rank::winter_months(&horizontal_kwh_m2, &months_present);
+    let screening = screen(
+        plan,
+        (&conditions, &curves),
+        (&temps, &months_present, &winter_months),
+        criterion,
+        &mut outcomes,
+        opts,
+    );
+    let coupled_total = screening.as_ref().map(|x| x.screened + x.coupled);
+    let tick = |_: usize| {
+        if let (Some(done), Some(total)) = (opts.on_layout_done, coupled_total) {
+            done(total);
+        }
+    };
+    let passing: Vec<&layout::Layout> = outcomes
+        .iter()
+        .filter(|o| !o.rejected())
+        .map(|o| &o.layout)
+        .collect();
+    let run_opts = match coupled_total {
+        Some(_) => year::RunOptions {
+            on_layout_done: opts
+                .on_layout_done
+                .map(|_| &tick as &(dyn Fn(usize) + Sync)),
+            ..opts
+        },
+        None => opts,
+    };
+    let energies = year::simulate_layouts(plan, &conditions, &curves, &passing, run_opts);
+    let mut energies = energies.into_iter();
     let fill = |o: &mut rank::LayoutOutcome, mut e: crate::sim::energy::LayoutEnergy| {
         e.scale_to_mean_year(per_year);
         rules::price_warnings(&mut o.findings, &e);
@@ -218,6 +241,88 @@ pub fn simulate_and_rank(
         recommendation,
         years: 1.0 / per_year,
         assignment,
+        screening,
+    })
+}
+
+/// With a battery model and more passing layouts than `model.coupled_layouts` (K): screens
+/// every passing layout on the energy its controllers offer at the plan's fixed charging
+/// voltage (the shared per-input path), keeps the best K by the ranking criterion on that
+/// energy (for `unmet`: winter, then annual offered energy) and drops the rest from
+/// `outcomes`, which the battery-coupled year then runs for
+/// (notebooks-free-docs/method-battery.md, "Screening"). `None` when nothing was screened.
+fn screen(
+    plan: &crate::input::plan::Plan,
+    (conditions, curves): (
+        &conditions::Conditions,
+        &[Option<crate::sim::curves::IntervalCurves>],
+    ),
+    (temps, months_present, winter_months): (&rules::DesignTemperatures, &[bool; 12], &[usize]),
+    criterion: rank::Criterion,
+    outcomes: &mut Vec<rank::LayoutOutcome>,
+    opts: year::RunOptions,
+) -> Option<crate::results::Screening> {
+    let keep = plan.model.coupled_layouts;
+    let passing: Vec<usize> = (0..outcomes.len())
+        .filter(|&k| !outcomes[k].rejected())
+        .collect();
+    if plan.battery.model.is_none() || passing.len() <= keep {
+        return None;
+    }
+    let layouts: Vec<&layout::Layout> = passing.iter().map(|&k| &outcomes[k].layout).collect();
+    let total = passing.len() + keep;
+    let tick = |_: usize| {
+        if let Some(done) = opts.on_layout_done {
+            done(total);
+        }
+    };
+    let energies = year::simulate_fixed_voltage(
+        plan,
+        conditions,
+        curves,
+        &layouts,
+        year::RunOptions {
+            parallel: opts.parallel,
+            hourly: false,
+            on_layout_done: opts
+                .on_layout_done
+                .map(|_| &tick as &(dyn Fn(usize) + Sync)),
+        },
+    );
+    let per_year = conditions.per_year_factor();
+    let keys: Vec<[f64; 4]> = energies
+        .into_iter()
+        .zip(&layouts)
+        .map(|(mut e, l)| {
+            e.scale_to_mean_year(per_year);
+            let s = LayoutSummary::new(plan, l, &e, temps, months_present, winter_months);
+            match criterion {
+                rank::Criterion::Unmet => [s.winter_offered_kwh, s.annual_offered_kwh(), 0.0, 0.0],
+                c => rank::sort_key(&s, c),
+            }
+        })
+        .collect();
+    let mut order: Vec<usize> = (0..passing.len()).collect();
+    order.sort_by(|&a, &b| {
+        keys[b]
+            .iter()
+            .zip(&keys[a])
+            .map(|(x, y)| x.total_cmp(y))
+            .find(|o| o.is_ne())
+            .unwrap_or(std::cmp::Ordering::Equal)
+            .then(a.cmp(&b))
+    });
+    let dropped: std::collections::HashSet<usize> =
+        order[keep..].iter().map(|&j| passing[j]).collect();
+    let mut k = 0;
+    outcomes.retain(|_| {
+        k += 1;
+        !dropped.contains(&(k - 1))
+    });
+    Some(crate::results::Screening {
+        screened: passing.len(),
+        coupled: keep,
+        charge_v: plan.battery.charge_v,
     })
 }
 

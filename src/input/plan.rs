@@ -61,7 +61,14 @@ pub struct ModelOptions {
     pub albedo: Albedo,
     /// Year-to-year variability of the resource and model uncertainty (P50/P90).
     pub uncertainty: crate::input::uncertainty::P90Inputs,
+    /// With a battery model: how many passing layouts, best first by the screening at the
+    /// fixed charging voltage, get the year coupled to the battery
+    /// (notebooks-free-docs/method-battery.md, "Screening").
+    pub coupled_layouts: usize,
 }
+
+/// Default of [`ModelOptions::coupled_layouts`].
+pub const COUPLED_LAYOUTS_DEFAULT: usize = 40;
 
 /// One module type from its datasheet, with the single-diode parameters fitted once.
 #[derive(Clone, Debug)]

@@ -252,6 +252,11 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
             "tie": rec.tie,
             "tie_break": rec.tie_break,
         })),
+        "screening": r.screening.as_ref().map(|x| json!({
+            "screened_layouts": x.screened,
+            "coupled_layouts": x.coupled,
+            "charge_v": x.charge_v,
+        })),
         "assignment": r.assignment.as_ref().map(|a| json!({
             "seeded_layouts": a.seeded,
             "searched_layouts": a.searched,

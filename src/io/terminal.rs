@@ -50,6 +50,18 @@ pub fn site_line(l: &Loaded) -> String {
     )
 }
 
+/// How the passing layouts were screened before the battery-coupled year, in one sentence.
+pub fn screening_line(r: &RankResult) -> Option<String> {
+    let x = r.screening.as_ref()?;
+    Some(format!(
+        "screening: {} passing layouts were simulated charging at a fixed {} V; the best {} by that energy were simulated with the battery model and ranked, the other {} are not shown (raise model.coupled_layouts to run more)",
+        x.screened,
+        crate::num::Num(x.charge_v),
+        x.coupled,
+        x.screened - x.coupled
+    ))
+}
+
 /// What module assignment did, in one sentence: the gain over id order for the recommended
 /// layout, and how many layouts were assigned and searched.
 fn assignment_line(
@@ -176,6 +188,7 @@ impl<'a> RankingText<'a> {
         if let Some(a) = &t.assignment {
             let _ = writeln!(out, "  {a}");
         }
+        // The screening is said in the header above (the page says it here).
         if let Some(line) = &t.runner_up {
             let _ = writeln!(out, "  {line}");
             if let Some(d) = &t.runner_up_difference {
@@ -639,6 +652,8 @@ pub struct RecommendationText {
     pub why: String,
     /// What module assignment gained, when enumerated layouts chose modules by shade.
     pub assignment: Option<String>,
+    /// How the layouts were screened before the battery-coupled year, when they were.
+    pub screening: Option<String>,
     /// `Runner-up L2 (<layout>): <what separates it>`.
     pub runner_up: Option<String>,
     /// The runner-up's difference from the layout to build by cause.
@@ -658,6 +673,12 @@ pub fn recommendation_text(r: &RankResult) -> Option<RecommendationText> {
             .assignment
             .as_ref()
             .map(|a| assignment_line(a, rec.criterion)),
+        screening: screening_line(r).map(|l| {
+            let mut c = l.chars();
+            c.next()
+                .map_or(String::new(), |f| f.to_uppercase().chain(c).collect())
+                + "."
+        }),
         runner_up: None,
         runner_up_difference: None,
         tie: None,
@@ -709,13 +730,17 @@ pub fn header_lines(r: &RankResult) -> Vec<String> {
         r.temps.min_air_c,
         r.temps.max_air_c
     ));
-    let enumerated = r.outcomes.len() - r.listed;
+    let screened_out = r.screening.as_ref().map_or(0, |x| x.screened - x.coupled);
+    let candidates = r.outcomes.len() + screened_out;
     out.push(format!(
         "{} candidate layouts ({} listed in the plan, {} enumerated)",
-        r.outcomes.len(),
+        candidates,
         r.listed,
-        enumerated
+        candidates - r.listed
     ));
+    if let Some(line) = screening_line(r) {
+        out.push(line);
+    }
     if !r.pruned.is_empty() {
         let parts: Vec<String> = r
             .pruned

@@ -42,6 +42,22 @@ pub struct RankResult {
     /// What module assignment did; `None` when every group's modules are interchangeable or
     /// the plan lists its layouts.
     pub assignment: Option<AssignmentReport>,
+    /// With a battery model and more passing layouts than `model.coupled_layouts`: how the
+    /// layouts were screened before the battery-coupled year.
+    pub screening: Option<Screening>,
+}
+
+/// Passing layouts screened on the energy their controllers offer at the plan's fixed
+/// charging voltage, before the year coupled to the battery model runs for the best
+/// (notebooks-free-docs/method-battery.md, "Screening").
+#[derive(Clone, Debug)]
+pub struct Screening {
+    /// Passing layouts screened.
+    pub screened: usize,
+    /// The best of them by the screening, run with the battery and ranked.
+    pub coupled: usize,
+    /// The fixed charging voltage of the screening, V.
+    pub charge_v: f64,
 }
 
 impl RankResult {

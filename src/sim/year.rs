@@ -1126,6 +1126,19 @@ pub fn simulate_layouts(
     }
 }
 
+/// Every layout charging at the plan's fixed voltage (`battery.charge_v`), without the
+/// battery model even when the plan has one: the screening of plans with a battery model
+/// (notebooks-free-docs/method-battery.md, "Screening"). Shared per-input work, streamed.
+pub fn simulate_fixed_voltage(
+    plan: &Plan,
+    cond: &Conditions,
+    curves: &[Option<IntervalCurves>],
+    layouts: &[&Layout],
+    opts: RunOptions,
+) -> Vec<LayoutEnergy> {
+    simulate_shared(plan, cond, curves, layouts, opts)
+}
+
 /// Runs phase 2 for every layout; `parallel = false` runs single-threaded (benchmarks,
 /// checks). Both give identical results.
 pub fn run(

@@ -2,9 +2,9 @@
 //! what is unsafe or can never work is rejected; the battery sizing answer and its
 //! constraints; the plan keys of both (issue 15).
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
-use crate::support::fixture;
+use crate::support::{edited, fixture};
 use wirerank::commands::rank::simulate_and_rank;
 use wirerank::commands::PlanSource;
 use wirerank::design::rules::{Finding, Rule, Severity};
@@ -13,25 +13,6 @@ use wirerank::results::rank::{Criterion, LayoutOutcome};
 use wirerank::results::RankResult;
 use wirerank::sim::energy::Step;
 use wirerank::sim::year::RunOptions;
-
-/// A fixture plan with text edits, written to a temporary folder with its weather path made
-/// absolute. The folder lives as long as the returned guard.
-fn edited(name: &str, edits: &[(&str, &str)]) -> (tempfile::TempDir, PathBuf) {
-    let mut text = std::fs::read_to_string(fixture(name)).expect("fixture reads");
-    let samples = Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples");
-    text = text.replace(
-        "file = \"../../weather-samples/",
-        &format!("file = \"{}/", samples.display()),
-    );
-    for (from, to) in edits {
-        assert!(text.contains(from), "{name} has {from:?}");
-        text = text.replace(from, to);
-    }
-    let dir = tempfile::tempdir().expect("temporary folder");
-    let p = dir.path().join(name);
-    std::fs::write(&p, text).expect("write the plan");
-    (dir, p)
-}
 
 fn rank(path: &Path, criterion: Option<Criterion>) -> RankResult {
     simulate_and_rank(

@@ -12,6 +12,7 @@ mod invariants;
 mod limits;
 mod limits_input;
 mod output_safety;
+mod screening;
 mod support;
 mod synth;
 mod weather;

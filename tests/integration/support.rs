@@ -18,3 +18,22 @@ pub fn wirerank(args: &[&str]) -> Output {
         .output()
         .expect("the wirerank binary runs")
 }
+
+/// A fixture plan with text edits, written to a temporary folder with its weather path made
+/// absolute. The folder lives as long as the returned guard.
+pub fn edited(name: &str, edits: &[(&str, &str)]) -> (tempfile::TempDir, PathBuf) {
+    let mut text = std::fs::read_to_string(fixture(name)).expect("fixture reads");
+    let samples = Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples");
+    text = text.replace(
+        "file = \"../../weather-samples/",
+        &format!("file = \"{}/", samples.display()),
+    );
+    for (from, to) in edits {
+        assert!(text.contains(from), "{name} has {from:?}");
+        text = text.replace(from, to);
+    }
+    let dir = tempfile::tempdir().expect("temporary folder");
+    let p = dir.path().join(name);
+    std::fs::write(&p, text).expect("write the plan");
+    (dir, p)
+}

@@ -98,6 +98,7 @@ pub(super) struct RawModel {
     pub(super) sky: Option<S<String>>,
     pub(super) low_sun_elevation_deg: Option<S<f64>>,
     pub(super) delta_t_s: Option<S<f64>>,
+    pub(super) coupled_layouts: Option<S<f64>>,
 }
 
 #[derive(Deserialize)]

@@ -110,6 +110,7 @@ pub(super) fn validate_model(
         delta_t_s: crate::physics::sun::DELTA_T_DEFAULT_S,
         albedo,
         uncertainty: crate::results::uncertainty::P90Inputs::TYPICAL,
+        coupled_layouts: crate::input::plan::COUPLED_LAYOUTS_DEFAULT,
     };
     if let Some(m) = raw {
         let t = crate::results::uncertainty::P90Inputs::TYPICAL;
@@ -157,6 +158,17 @@ pub(super) fn validate_model(
             1000.0,
             model.delta_t_s,
         )?;
+        if let Some(k) = &m.coupled_layouts {
+            let n = ctx.range(k, "model.coupled_layouts", 1.0, 100_000.0)?;
+            if n.fract() != 0.0 {
+                return Err(ctx.err(
+                    k.span(),
+                    "model.coupled_layouts",
+                    format!("model.coupled_layouts = {n} must be a whole number of layouts (1 to 100000)"),
+                ));
+            }
+            model.coupled_layouts = n as usize;
+        }
     }
     Ok(model)
 }
