@@ -97,7 +97,7 @@ fn demo_year(c: &mut Criterion) {
     g.bench_function("phase 2: curve solving", |b| {
         b.iter(|| black_box(curves::all_interval_curves(plan, &cond, false)))
     });
-    let curves = curves::all_interval_curves(plan, &cond, false);
+    let curves = curves::CurveSet::Held(curves::all_interval_curves(plan, &cond, false));
     g.bench_function("phase 2: combination and controllers", |b| {
         b.iter(|| {
             black_box(year::simulate_layouts(
@@ -191,7 +191,7 @@ fn battery_model_cost(c: &mut Criterion) {
         });
     }
     let cond = conditions::phase1(&with, &loaded.weather, &loaded.site);
-    let curves = curves::all_interval_curves(&with, &cond, false);
+    let curves = curves::CurveSet::Held(curves::all_interval_curves(&with, &cond, false));
     let result = wirerank::commands::rank::simulate_and_rank(
         &PlanSource::Demo,
         Some(wirerank::results::rank::Criterion::Annual),
@@ -212,6 +212,7 @@ fn battery_model_cost(c: &mut Criterion) {
                 &temps,
                 &best.layout,
                 best.energy.as_ref(),
+                None,
             ))
         })
     });

@@ -52,12 +52,16 @@ pub fn simulate_and_rank(
         })
         .collect();
     let conditions = conditions::phase1(plan, &loaded.weather, &loaded.site);
-    // The substring curves are shared by the ranking and the battery sizing below.
-    let curves = curves::all_interval_curves(plan, &conditions, opts.parallel);
+    // The substring curves are shared by the ranking and the battery sizing below (held for
+    // a file of up to two years, computed block by block for a longer one).
+    let curves = curves::CurveSet::for_run(plan, &conditions, opts.parallel);
     // Which modules share a string: enumerated layouts take the seed assignment where shade
     // makes modules of one group differ (the plan's listed layouts are kept as written).
-    let profiles = curves::shade_profiles(plan, &conditions, &curves);
-    let assigning = plan.enumerate_all && profiles.any_choice(plan);
+    let profiles = plan
+        .enumerate_all
+        .then(|| curves::shade_profiles(plan, &conditions, &curves));
+    let assigning = profiles.as_ref().is_some_and(|p| p.any_choice(plan));
+    let profiles = profiles.unwrap_or_default();
     let mut id_order: Vec<(String, layout::Layout)> = Vec::new();
     if assigning {
         for o in outcomes
@@ -109,7 +113,27 @@ pub fn simulate_and_rank(
         },
         None => opts,
     };
-    let energies = year::simulate_layouts(plan, &conditions, &curves, &passing, run_opts);
+    // On a long file (curves streamed), the battery sizing reads the best layout's harvest
+    // kept from this sweep instead of sweeping the file again, when that is small.
+    let keep_harvest = curves.held().is_none()
+        && plan.battery.model.is_some()
+        && plan.consumption.is_some()
+        && passing.len() * conditions.intervals.len() <= HARVEST_KEPT_MAX;
+    let mut harvests: std::collections::HashMap<String, Vec<f32>> = Default::default();
+    let energies = if keep_harvest {
+        year::simulate_streamed(plan, &conditions, &curves, &passing, run_opts, true)
+            .into_iter()
+            .zip(&passing)
+            .map(|((e, h), l)| {
+                if let Some(h) = h {
+                    harvests.insert(l.id.clone(), h);
+                }
+                e
+            })
+            .collect()
+    } else {
+        year::simulate_layouts(plan, &conditions, &curves, &passing, run_opts)
+    };
     let mut energies = energies.into_iter();
     let fill = |o: &mut rank::LayoutOutcome, mut e: crate::sim::energy::LayoutEnergy| {
         e.scale_to_mean_year(per_year);
@@ -136,6 +160,8 @@ pub fn simulate_and_rank(
     let assignment = assigning.then(|| {
         let mut report = AssignmentReport {
             seeded: id_order.len(),
+            // Each swap is a simulation of the whole file: only where the curves are held.
+            swap_search: curves.held().is_some(),
             ..AssignmentReport::default()
         };
         // The swap search on the best few enumerated layouts (the rest keep the seed).
@@ -145,7 +171,7 @@ pub fn simulate_and_rank(
             .enumerate()
             .filter(|(_, o)| o.rank.is_some() && o.layout.id.starts_with('E'))
             .map(|(k, _)| k)
-            .take(SWAP_SEARCHED)
+            .take(if report.swap_search { SWAP_SEARCHED } else { 0 })
             .collect();
         for k in best {
             let o = &outcomes[k];
@@ -222,6 +248,10 @@ pub fn simulate_and_rank(
             &temps,
             &best.layout,
             best.energy.as_ref(),
+            harvests
+                .get(&best.layout.id)
+                .zip(best.energy.as_ref())
+                .map(|(h, e)| (h.as_slice(), e.peak_charge_a)),
         ),
         None => (None, None),
     };
@@ -253,10 +283,7 @@ pub fn simulate_and_rank(
 /// (notebooks-free-docs/method-battery.md, "Screening"). `None` when nothing was screened.
 fn screen(
     plan: &crate::input::plan::Plan,
-    (conditions, curves): (
-        &conditions::Conditions,
-        &[Option<crate::sim::curves::IntervalCurves>],
-    ),
+    (conditions, curves): (&conditions::Conditions, &curves::CurveSet),
     (temps, months_present, winter_months): (&rules::DesignTemperatures, &[bool; 12], &[usize]),
     criterion: rank::Criterion,
     outcomes: &mut Vec<rank::LayoutOutcome>,
@@ -325,6 +352,10 @@ fn screen(
         charge_v: plan.battery.charge_v,
     })
 }
+
+/// Most interval values (layouts × intervals, 4 bytes each) of controller output kept from
+/// a streamed ranking sweep for the battery sizing: 16 M, 64 MB.
+const HARVEST_KEPT_MAX: usize = 16_000_000;
 
 /// How many of the best enumerated layouts the swap search refines, and its simulation
 /// budget per layout (notebooks-free-docs/method-assignment.md).

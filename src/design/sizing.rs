@@ -7,7 +7,7 @@ use crate::input::layout::{self, Layout};
 use crate::input::plan::Plan;
 use crate::physics;
 use crate::sim::conditions::Conditions;
-use crate::sim::curves::IntervalCurves;
+use crate::sim::curves::CurveSet;
 use crate::sim::energy::LayoutEnergy;
 use crate::sim::year;
 
@@ -99,7 +99,7 @@ fn add_one_string(
 fn size_modules(
     plan: &Plan,
     cond: &Conditions,
-    curves: &[Option<IntervalCurves>],
+    curves: &CurveSet,
     temps: &rules::DesignTemperatures,
     best: &Layout,
     e: &LayoutEnergy,
@@ -164,18 +164,21 @@ fn size_modules(
 
 /// Both sizing answers for the best layout (a simulated `best`, with its energy): the
 /// smallest battery and the fewest extra modules, searched side by side. `None` for each without a `[load]` and a
-/// battery model.
+/// battery model. `best_harvest`, when the ranking kept it, is the best layout's controller
+/// output per interval, W (the interval rows' `harvest_w`), and its peak charge current, A:
+/// the battery search then needs no simulation of its own.
 pub fn size_best(
     plan: &Plan,
     cond: &Conditions,
-    curves: &[Option<IntervalCurves>],
+    curves: &CurveSet,
     temps: &rules::DesignTemperatures,
     best: &Layout,
     energy: Option<&LayoutEnergy>,
+    best_harvest: Option<(&[f32], f64)>,
 ) -> (Option<Sizing>, Option<ModuleSizing>) {
     // The two searches are independent: one per core (results do not depend on it).
     rayon::join(
-        || size_battery(plan, cond, curves, best),
+        || size_battery(plan, cond, curves, best, best_harvest),
         || energy.and_then(|e| size_modules(plan, cond, curves, temps, best, e)),
     )
 }
@@ -266,31 +269,39 @@ fn in_steps(ah: f64, step: f64) -> f64 {
 fn size_battery(
     plan: &Plan,
     cond: &Conditions,
-    curves: &[Option<IntervalCurves>],
+    curves: &CurveSet,
     best: &layout::Layout,
+    best_harvest: Option<(&[f32], f64)>,
 ) -> Option<Sizing> {
     let consumption = plan.consumption.as_ref()?;
     let spec = plan.battery.model.as_ref()?;
     let params = spec.params();
     let step = consumption.battery_step_ah;
 
-    let e = year::simulate_layouts(
-        plan,
-        cond,
-        curves,
-        &[best],
-        year::RunOptions {
-            parallel: false,
-            hourly: true,
-            on_layout_done: None,
-        },
-    )
-    .pop()?;
-    let harvest: Vec<f64> = e
-        .hourly
+    let simulated;
+    let (harvest_w, peak_charge_a): (&[f32], f64) = match best_harvest {
+        Some(kept) => kept,
+        None => {
+            let e = year::simulate_layouts(
+                plan,
+                cond,
+                curves,
+                &[best],
+                year::RunOptions {
+                    parallel: false,
+                    hourly: true,
+                    on_layout_done: None,
+                },
+            )
+            .pop()?;
+            simulated = e.hourly.iter().map(|h| h.harvest_w).collect::<Vec<f32>>();
+            (&simulated, e.peak_charge_a)
+        }
+    };
+    let harvest: Vec<f64> = harvest_w
         .iter()
         .zip(&cond.intervals)
-        .map(|(h, i)| (h.harvest_w as f64 * i.hours).max(0.0))
+        .map(|(&h, i)| (h as f64 * i.hours).max(0.0))
         .collect();
     let month: Vec<u32> = cond.intervals.iter().map(|i| i.month).collect();
     let hour: Vec<u32> = cond.intervals.iter().map(|i| i.hour).collect();
@@ -318,7 +329,7 @@ fn size_battery(
         step,
     );
     let charge_rate_ah = in_steps(
-        physics::battery::charge_rate_capacity_ah(params, e.peak_charge_a),
+        physics::battery::charge_rate_capacity_ah(params, peak_charge_a),
         step,
     );
     let peak_load_w = consumption.load.peak_hour_w();
@@ -354,7 +365,7 @@ fn size_battery(
         autonomy_days: consumption.autonomy_days,
         heaviest_day_wh,
         autonomy_ah,
-        peak_charge_a: e.peak_charge_a,
+        peak_charge_a,
         charge_rate_c: params.max_charge_rate_c,
         charge_rate_ah,
         peak_load_w,
@@ -376,7 +387,7 @@ mod tests {
     struct Demo {
         result: RankResult,
         cond: Conditions,
-        curves: Vec<Option<IntervalCurves>>,
+        curves: CurveSet<'static>,
     }
 
     fn demo() -> Demo {
@@ -388,7 +399,7 @@ mod tests {
         .expect("the demo runs");
         let l = &result.loaded;
         let cond = conditions::phase1(&l.plan, &l.weather, &l.site);
-        let curves = all_interval_curves(&l.plan, &cond, false);
+        let curves = CurveSet::Held(all_interval_curves(&l.plan, &cond, false));
         Demo {
             result,
             cond,

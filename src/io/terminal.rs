@@ -68,16 +68,23 @@ fn assignment_line(
     a: &crate::results::AssignmentReport,
     c: crate::results::rank::Criterion,
 ) -> String {
-    let searched = format!(
-        "{} enumerated layout{} took the least shaded modules and grouped similar shade in strings; the best {} {} searched further by swaps ({} simulation{}, {} improved)",
+    let seeded = format!(
+        "{} enumerated layout{} took the least shaded modules and grouped similar shade in strings",
         a.seeded,
         if a.seeded == 1 { "" } else { "s" },
-        a.searched,
-        if a.searched == 1 { "was" } else { "were" },
-        a.evaluations,
-        if a.evaluations == 1 { "" } else { "s" },
-        a.improved
     );
+    let searched = if a.swap_search {
+        format!(
+            "{seeded}; the best {} {} searched further by swaps ({} simulation{}, {} improved)",
+            a.searched,
+            if a.searched == 1 { "was" } else { "were" },
+            a.evaluations,
+            if a.evaluations == 1 { "" } else { "s" },
+            a.improved
+        )
+    } else {
+        format!("{seeded}; no swap search on a weather file this long (more than two hourly years), so the seed stands")
+    };
     match &a.recommended {
         Some(g) => {
             let gain = g.score_kwh - g.id_order_score_kwh;

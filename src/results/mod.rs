@@ -74,6 +74,10 @@ impl RankResult {
 pub struct AssignmentReport {
     /// Enumerated layouts whose modules were chosen by the seed instead of taken in id order.
     pub seeded: usize,
+    /// Whether the swap search ran: not on a weather file long enough that its curves are
+    /// computed block by block (`sim::curves::HELD_MAX_INTERVALS`), where every swap tried
+    /// would be a sweep of the whole file; the seed then stands.
+    pub swap_search: bool,
     /// The best few layouts searched further by swaps, and how many of them a swap improved.
     pub searched: usize,
     pub improved: usize,

@@ -410,21 +410,137 @@ pub fn all_interval_curves_in(
     scene: &ShadeScene,
     parallel: bool,
 ) -> Vec<Option<IntervalCurves>> {
+    interval_curves_range(plan, cond, scene, 0..cond.intervals.len(), parallel)
+}
+
+/// The curves of the intervals in `range`.
+fn interval_curves_range(
+    plan: &Plan,
+    cond: &Conditions,
+    scene: &ShadeScene,
+    range: std::ops::Range<usize>,
+    parallel: bool,
+) -> Vec<Option<IntervalCurves>> {
     if parallel {
-        (0..cond.intervals.len())
+        range
             .into_par_iter()
             .map(|k| interval_curves(plan, cond, scene, k))
             .collect()
     } else {
-        (0..cond.intervals.len())
+        range
             .map(|k| interval_curves(plan, cond, scene, k))
             .collect()
     }
 }
 
+/// Weather files longer than this many intervals have their curves computed block by block
+/// when needed instead of held for the whole run ([`CurveSet::Streamed`]): two hourly years.
+pub const HELD_MAX_INTERVALS: usize = 2 * 8784;
+
+/// Intervals per block of a streamed run.
+pub const BLOCK: usize = 1024;
+
+/// One block of intervals' curves ([`CurveSet::block`]), read as a slice.
+pub enum CurveBlock<'a> {
+    Held(&'a [Option<IntervalCurves>]),
+    Computed(Vec<Option<IntervalCurves>>),
+}
+
+impl std::ops::Deref for CurveBlock<'_> {
+    type Target = [Option<IntervalCurves>];
+    fn deref(&self) -> &Self::Target {
+        match self {
+            CurveBlock::Held(c) => c,
+            CurveBlock::Computed(c) => c,
+        }
+    }
+}
+
+/// A run's substring curves: every interval's held in memory (weather of up to
+/// [`HELD_MAX_INTERVALS`] intervals), or computed for one block of intervals at a time when
+/// a simulation sweeps the file, so that memory does not grow with the length of the
+/// weather file (notebooks-free-docs/method-shade.md, "Long weather files").
+pub enum CurveSet<'a> {
+    Held(Vec<Option<IntervalCurves>>),
+    Streamed {
+        plan: &'a Plan,
+        cond: &'a Conditions,
+        scene: ShadeScene,
+        parallel: bool,
+    },
+}
+
+impl<'a> CurveSet<'a> {
+    /// Held for a file of up to [`HELD_MAX_INTERVALS`] intervals, streamed above.
+    pub fn for_run(plan: &'a Plan, cond: &'a Conditions, parallel: bool) -> CurveSet<'a> {
+        if cond.intervals.len() <= HELD_MAX_INTERVALS {
+            CurveSet::Held(all_interval_curves(plan, cond, parallel))
+        } else {
+            CurveSet::Streamed {
+                plan,
+                cond,
+                scene: ShadeScene::new(plan),
+                parallel,
+            }
+        }
+    }
+
+    /// Every interval's curves, when they are held.
+    pub fn held(&self) -> Option<&[Option<IntervalCurves>]> {
+        match self {
+            CurveSet::Held(c) => Some(c),
+            CurveSet::Streamed { .. } => None,
+        }
+    }
+
+    /// The curves of the intervals in `range`: a slice of the held ones, or computed now.
+    pub fn block(&self, range: std::ops::Range<usize>) -> CurveBlock<'_> {
+        match self {
+            CurveSet::Held(c) => CurveBlock::Held(&c[range]),
+            CurveSet::Streamed {
+                plan,
+                cond,
+                scene,
+                parallel,
+            } => CurveBlock::Computed(interval_curves_range(plan, cond, scene, range, *parallel)),
+        }
+    }
+
+    /// Visits every sunlit interval's curves in time order (block by block when streamed).
+    pub fn visit(&self, n: usize, mut f: impl FnMut(usize, &IntervalCurves) + Send) {
+        self.sweep(0..n, |start, blk| {
+            for (j, ic) in blk.iter().enumerate() {
+                if let Some(ic) = ic {
+                    f(start + j, ic);
+                }
+            }
+        });
+    }
+
+    /// Calls `f(start, curves)` for each block of [`BLOCK`] intervals of `range` in time
+    /// order. Streamed curves of the next block are computed while `f` works on this one,
+    /// so that the two cores stay busy.
+    pub fn sweep(
+        &self,
+        range: std::ops::Range<usize>,
+        mut f: impl FnMut(usize, &[Option<IntervalCurves>]) + Send,
+    ) {
+        let end = range.end;
+        let starts: Vec<usize> = range.step_by(BLOCK).collect();
+        let block_of = |s: usize| self.block(s..(s + BLOCK).min(end));
+        let mut current = starts.first().map(|&s| block_of(s));
+        for (i, &s) in starts.iter().enumerate() {
+            let Some(blk) = current.take() else { break };
+            let next = starts.get(i + 1).copied();
+            let ((), computed) = rayon::join(|| f(s, &blk), || next.map(block_of));
+            current = computed;
+        }
+    }
+}
+
 /// What shade does to each module over the year, for choosing which modules share a string
 /// (notebooks-free-docs/method-assignment.md).
-#[derive(Clone, Debug)]
+#[derive(Clone, Debug, Default)]
 pub struct ShadeProfiles {
     /// Per module: its interchangeability class. Two modules share a class when they belong
     /// to the same orientation group and every one of their substrings has the same curve in
@@ -461,12 +577,29 @@ impl ShadeProfiles {
 /// result. Classes are numbered from 0 in order of their first module. The partition is
 /// refined interval by interval (memory does not grow with the weather file).
 pub fn module_classes(plan: &Plan, curves: &[Option<IntervalCurves>]) -> Vec<usize> {
-    let mut class: Vec<usize> = plan.modules.iter().map(|m| m.group).collect();
-    let mut next: std::collections::HashMap<(usize, &[u16]), usize> =
-        std::collections::HashMap::new();
+    let mut classes = ClassRefiner::new(plan);
     for ic in curves.iter().flatten() {
-        next.clear();
-        for (mi, c) in class.iter_mut().enumerate() {
+        classes.refine(ic);
+    }
+    classes.finish()
+}
+
+/// [`module_classes`], refined one interval at a time.
+struct ClassRefiner {
+    class: Vec<usize>,
+}
+
+impl ClassRefiner {
+    fn new(plan: &Plan) -> Self {
+        ClassRefiner {
+            class: plan.modules.iter().map(|m| m.group).collect(),
+        }
+    }
+
+    fn refine(&mut self, ic: &IntervalCurves) {
+        let mut next: std::collections::HashMap<(usize, &[u16]), usize> =
+            std::collections::HashMap::new();
+        for (mi, c) in self.class.iter_mut().enumerate() {
             let subs = if ic.is_wired(mi) {
                 ic.module_subs(mi)
             } else {
@@ -476,23 +609,23 @@ pub fn module_classes(plan: &Plan, curves: &[Option<IntervalCurves>]) -> Vec<usi
             *c = *next.entry((*c, subs)).or_insert(fresh);
         }
     }
-    // Number by first module (also when there was no sunlit interval).
-    let mut first: std::collections::HashMap<usize, usize> = std::collections::HashMap::new();
-    class
-        .iter()
-        .map(|&c| {
-            let fresh = first.len();
-            *first.entry(c).or_insert(fresh)
-        })
-        .collect()
+
+    fn finish(self) -> Vec<usize> {
+        let class = self.class;
+        // Number by first module (also when there was no sunlit interval).
+        let mut first: std::collections::HashMap<usize, usize> = std::collections::HashMap::new();
+        class
+            .iter()
+            .map(|&c| {
+                let fresh = first.len();
+                *first.entry(c).or_insert(fresh)
+            })
+            .collect()
+    }
 }
 
 /// Computes every module's [`ShadeProfiles`] entry from the shared curves.
-pub fn shade_profiles(
-    plan: &Plan,
-    cond: &Conditions,
-    curves: &[Option<IntervalCurves>],
-) -> ShadeProfiles {
+pub fn shade_profiles(plan: &Plan, cond: &Conditions, curves: &CurveSet) -> ShadeProfiles {
     let n = plan.modules.len();
     let mut energy_wh = vec![0.0; n];
     let mut lost = vec![[0.0; 24]; n];
@@ -501,8 +634,10 @@ pub fn shade_profiles(
     let members: Vec<Vec<usize>> = (0..plan.groups.len())
         .map(|g| (0..n).filter(|&mi| plan.modules[mi].group == g).collect())
         .collect();
-    for (k, info) in cond.intervals.iter().enumerate() {
-        let Some(ic) = &curves[k] else { continue };
+    let mut classes = ClassRefiner::new(plan);
+    curves.visit(cond.intervals.len(), |k, ic| {
+        let info = &cond.intervals[k];
+        classes.refine(ic);
         for mi in (0..n).filter(|&mi| ic.is_wired(mi)) {
             mpp[mi] = ic
                 .module_subs(mi)
@@ -519,8 +654,8 @@ pub fn shade_profiles(
                 best_by_hour[mi][h] += best * info.hours;
             }
         }
-    }
-    let class = module_classes(plan, curves);
+    });
+    let class = classes.finish();
     let lost_by_hour = lost
         .iter()
         .zip(&best_by_hour)

@@ -16,7 +16,7 @@ use crate::physics::wiring::{
     array_curve, cable_resistance_ohm, string_curve, ArrayCurve, CurrentGrid, SubstringCurve,
 };
 use crate::sim::conditions::Conditions;
-use crate::sim::curves::{all_interval_curves, interval_curves, IntervalCurves, ShadeScene};
+use crate::sim::curves::{interval_curves, CurveSet, IntervalCurves, ShadeScene};
 use crate::sim::energy::{HourRow, InputLosses, LayoutEnergy, Step};
 
 /// Conductor resistances of one layout at an air temperature, ohm: the string lead's,
@@ -136,154 +136,262 @@ fn simulate_layout_with(
     hourly: bool,
     reuse_kept: bool,
 ) -> LayoutEnergy {
-    let mut e = LayoutEnergy {
-        min_soc_frac: [f64::NAN; 12],
-        ..LayoutEnergy::default()
-    };
-    if hourly {
-        e.hourly.reserve(cond.intervals.len());
-    }
-    let mut awake = vec![false; layout.inputs.len()];
-    let mut other_awake = vec![false; layout.inputs.len()];
-    let other_models: Vec<_> = layout
-        .inputs
-        .iter()
-        .map(|w| plan.controllers[w.controller].model.with_other_tracking())
-        .collect();
-    // The tracker comparison is for plans with partial shade (notebooks-free-docs/method-controller.md, issue on shading):
-    // without shade the array has one maximum and both trackers agree.
-    let compare_trackers = compares_trackers(plan);
-    let mut scratch = Scratch::default();
-    let used = wired_modules(layout);
-    let low_sun = plan.model.low_sun_elevation_deg;
-    // With a battery model the year runs twice and the second pass is reported, so that the
-    // result does not depend on the starting state of charge (notebooks-free-docs/method-battery.md).
-    let spec = plan.battery.model.as_ref();
-    let load = plan.consumption.as_ref().map(|c| &c.load);
-    let mut state = spec.map(|b| b.initial_state());
-    let passes = if spec.is_some() { 2 } else { 1 };
-    let mut day = DayTrack::default();
+    let mut run = LayoutRun::new(plan, cond, layout, hourly);
     // Neither an input's array curve nor its cable loss depends on the battery: pass 1 keeps
     // them (one entry per input per sunlit interval) and pass 2 reuses them, so the second
-    // pass costs only the controllers and the battery.
-    let n_inputs = layout.inputs.len();
-    let mut kept_curves: Vec<ArrayCurve> = Vec::new();
-    let mut kept_cable_w: Vec<f64> = Vec::new();
-    let mut r_main: Vec<f64> = Vec::with_capacity(n_inputs);
-    // The warm-up pass runs the file's last year (all of a file of one year or less): the
-    // state of charge it hands on depends on weeks, not years, of weather, and a file of
-    // several years then costs one warm-up year instead of a second pass over all of it.
-    let warm_start = warm_up_start(cond);
-    let whole_warm_up = warm_start == 0;
-    for pass in 0..passes {
-        let keep = reuse_kept && whole_warm_up && passes > 1 && pass == 0;
-        let reuse = reuse_kept && whole_warm_up && pass > 0;
-        let first = if pass + 1 < passes { warm_start } else { 0 };
-        let mut sunlit = 0usize;
-        if pass > 0 {
-            e = LayoutEnergy {
-                min_soc_frac: [f64::NAN; 12],
-                ..LayoutEnergy::default()
-            };
-            if hourly {
-                e.hourly.reserve(cond.intervals.len());
-            }
-            day = DayTrack::default();
-        }
-        for (k, info) in cond.intervals.iter().enumerate().skip(first) {
-            let battery_v = match (spec, &state) {
-                (Some(b), Some(s)) => b.charge_voltage_v(s),
-                _ => plan.battery.charge_v,
-            };
-            let m = (info.month - 1) as usize;
-            let wh = info.hours;
-            year_add(&mut e.yearly, info.year, wh, 0.0);
-            let Some(ic) = &curves[k] else {
-                awake.iter_mut().for_each(|a| *a = false);
-                other_awake.iter_mut().for_each(|a| *a = false);
-                if hourly {
-                    e.hourly.push(HourRow::default());
-                }
-                if let (Some(b), Some(st)) = (spec, state.as_mut()) {
-                    settle(b, load, st, &mut e, &mut day, info, 0.0);
-                }
-                continue;
-            };
-            let potential_before = e.potential_wh[m];
-            let sub_mpp_sum = book_light(&mut e, m, &light_sums(plan, cond, ic, &used, k));
-            // The second pass reuses curves and cable losses that already include the cables.
-            let r_lead = if reuse {
-                0.0
-            } else {
-                cable_resistances(plan, layout, info.air_temp_c, &mut r_main)
-            };
-            // Cables: Joule loss in the string leads and the main run at the array's best terminal
-            // point; the array maximum before cables is that best power plus this loss.
-            let mut cable_w = 0.0;
-            let mut powers = ControllerPowers::default();
-            let mut any_awake = false;
-            scratch.begin_interval();
-            for (wi, w) in layout.inputs.iter().enumerate() {
-                let c = &plan.controllers[w.controller];
-                let slot = sunlit * n_inputs + wi;
-                if !reuse {
-                    build_input_curves(plan, ic, w, r_lead, r_main[wi], &mut scratch);
-                }
-                let array = if reuse {
-                    &kept_curves[slot]
-                } else {
-                    &scratch.array
-                };
-                let (p, alt) = operate_both(
-                    &c.model,
-                    compare_trackers.then_some(&other_models[wi]),
-                    array,
-                    battery_v,
-                    info.air_temp_c,
-                    (&mut awake[wi], &mut other_awake[wi]),
-                );
-                if c.model.is_pwm() {
-                    e.pwm_clamp_wh[m] += (p.available_w - p.after_window_w) * wh;
-                }
-                e.other_tracking_wh[m] += alt.output_w * wh;
-                let joule_w = if reuse {
-                    kept_cable_w[slot]
-                } else {
-                    joule_loss_w(&scratch, &ic.grid, p.available_v, r_lead, r_main[wi])
-                };
-                if keep {
-                    kept_curves.push(scratch.array.clone());
-                    kept_cable_w.push(joule_w);
-                }
-                cable_w += joule_w;
-                e.book_input(wi, &p, joule_w, wh);
-                any_awake |= p.awake;
-                add_powers(&mut powers, &p);
-            }
-            sunlit += 1;
-            let sums = IntervalSums {
-                powers: &powers,
-                sub_mpp_sum,
-                cable_w,
-                any_awake,
-                potential_before,
-            };
-            book_interval(&mut e, info, &sums, battery_v, hourly);
-            let curtailed_wh = match (spec, state.as_mut()) {
-                (Some(b), Some(st)) => {
-                    settle(b, load, st, &mut e, &mut day, info, powers.output_w * wh)
-                }
-                _ => 0.0,
-            };
-            book_low_sun(&mut e, info, low_sun, powers.output_w, curtailed_wh);
-        }
-        // The last day ends with the file.
-        if let (Some(st), Some(_)) = (&state, day.day) {
-            e.daily_soc_frac.push(st.soc_frac);
+    // pass costs only the controllers and the battery. Only when the warm-up covers the
+    // whole file, so that memory does not grow with a warm-up over many years.
+    let reuse_kept = reuse_kept && run.warm_start == 0;
+    for pass in 0..run.passes {
+        run.begin_pass(pass, reuse_kept);
+        let from = run.pass_start(pass);
+        for (k, ic) in curves.iter().enumerate().skip(from) {
+            run.step(k, ic.as_ref());
         }
     }
-    e.unmet_days_mean = e.unmet_days.map(f64::from);
-    e
+    run.finish()
+}
+
+/// One layout's year in progress, interval by interval ([`LayoutRun::step`]), so that
+/// layouts can also advance together block by block over curves computed for that block
+/// only ([`simulate_layouts_streamed`]).
+struct LayoutRun<'a> {
+    plan: &'a Plan,
+    cond: &'a Conditions,
+    layout: &'a Layout,
+    hourly: bool,
+    e: LayoutEnergy,
+    awake: Vec<bool>,
+    other_awake: Vec<bool>,
+    other_models: Vec<ControllerModel>,
+    compare_trackers: bool,
+    scratch: Scratch,
+    used: Vec<usize>,
+    state: Option<BatteryState>,
+    day: DayTrack,
+    /// Passes over the file: 2 with a battery model (the first warms the battery up and
+    /// is not reported), 1 without.
+    passes: usize,
+    /// The first interval of the warm-up pass.
+    warm_start: usize,
+    /// The pass being run, and whether it keeps (first pass) or reuses (second pass) the
+    /// array curves and cable losses.
+    pass: usize,
+    keep: bool,
+    reuse: bool,
+    sunlit: usize,
+    kept_curves: Vec<ArrayCurve>,
+    kept_cable_w: Vec<f64>,
+    r_main: Vec<f64>,
+    /// When asked for: the reported pass's controller output per interval, W, as the
+    /// interval rows' `harvest_w` (what the battery sizing reads).
+    harvest: Option<Vec<f32>>,
+}
+
+impl<'a> LayoutRun<'a> {
+    fn new(plan: &'a Plan, cond: &'a Conditions, layout: &'a Layout, hourly: bool) -> Self {
+        // With a battery model the year runs twice and the second pass is reported, so that
+        // the result does not depend on the starting state of charge
+        // (notebooks-free-docs/method-battery.md).
+        let spec = plan.battery.model.as_ref();
+        LayoutRun {
+            plan,
+            cond,
+            layout,
+            hourly,
+            e: LayoutEnergy::default(),
+            awake: vec![false; layout.inputs.len()],
+            other_awake: vec![false; layout.inputs.len()],
+            other_models: layout
+                .inputs
+                .iter()
+                .map(|w| plan.controllers[w.controller].model.with_other_tracking())
+                .collect(),
+            // The tracker comparison is for plans with partial shade
+            // (notebooks-free-docs/method-controller.md): without shade the array has one
+            // maximum and both trackers agree.
+            compare_trackers: compares_trackers(plan),
+            scratch: Scratch::default(),
+            used: wired_modules(layout),
+            state: spec.map(|b| b.initial_state()),
+            day: DayTrack::default(),
+            passes: if spec.is_some() { 2 } else { 1 },
+            // The warm-up pass runs the file's last year (all of a file of one year or
+            // less): the state of charge it hands on depends on weeks, not years, of
+            // weather, and a file of several years then costs one warm-up year instead of a
+            // second pass over all of it.
+            warm_start: warm_up_start(cond),
+            pass: 0,
+            keep: false,
+            reuse: false,
+            sunlit: 0,
+            kept_curves: Vec::new(),
+            kept_cable_w: Vec::new(),
+            r_main: Vec::with_capacity(layout.inputs.len()),
+            harvest: None,
+        }
+    }
+
+    /// The first interval of a pass.
+    fn pass_start(&self, pass: usize) -> usize {
+        if pass + 1 < self.passes {
+            self.warm_start
+        } else {
+            0
+        }
+    }
+
+    /// Starts a pass: a fresh tally (the battery's state carries over).
+    fn begin_pass(&mut self, pass: usize, reuse_kept: bool) {
+        self.pass = pass;
+        self.keep = reuse_kept && self.passes > 1 && pass == 0;
+        self.reuse = reuse_kept && pass > 0;
+        self.sunlit = 0;
+        self.e = LayoutEnergy {
+            min_soc_frac: [f64::NAN; 12],
+            ..LayoutEnergy::default()
+        };
+        if self.hourly {
+            self.e.hourly.reserve(self.cond.intervals.len());
+        }
+        if let Some(h) = self.harvest.as_mut() {
+            h.clear();
+        }
+        self.day = DayTrack::default();
+    }
+
+    /// Asks for the reported pass's controller output per interval ([`LayoutRun::harvest`]).
+    fn keep_harvest(&mut self) {
+        self.harvest = Some(Vec::with_capacity(self.cond.intervals.len()));
+    }
+
+    /// Interval `k` with its curves (`None` at night).
+    fn step(&mut self, k: usize, curves: Option<&IntervalCurves>) {
+        let (plan, cond, layout) = (self.plan, self.cond, self.layout);
+        let spec = plan.battery.model.as_ref();
+        let load = plan.consumption.as_ref().map(|c| &c.load);
+        let info = &cond.intervals[k];
+        let battery_v = match (spec, &self.state) {
+            (Some(b), Some(s)) => b.charge_voltage_v(s),
+            _ => plan.battery.charge_v,
+        };
+        let m = (info.month - 1) as usize;
+        let wh = info.hours;
+        let e = &mut self.e;
+        year_add(&mut e.yearly, info.year, wh, 0.0);
+        let Some(ic) = curves else {
+            self.awake.iter_mut().for_each(|a| *a = false);
+            self.other_awake.iter_mut().for_each(|a| *a = false);
+            if self.hourly {
+                e.hourly.push(HourRow::default());
+            }
+            if let (Some(b), Some(st)) = (spec, self.state.as_mut()) {
+                settle(b, load, st, e, &mut self.day, info, 0.0);
+            }
+            if let Some(h) = self.harvest.as_mut() {
+                h.push(0.0);
+            }
+            return;
+        };
+        let potential_before = e.potential_wh[m];
+        let sub_mpp_sum = book_light(e, m, &light_sums(plan, cond, ic, &self.used, k));
+        // The second pass reuses curves and cable losses that already include the cables.
+        let r_lead = if self.reuse {
+            0.0
+        } else {
+            cable_resistances(plan, layout, info.air_temp_c, &mut self.r_main)
+        };
+        // Cables: Joule loss in the string leads and the main run at the array's best
+        // terminal point; the array maximum before cables is that best power plus this loss.
+        let n_inputs = layout.inputs.len();
+        let mut cable_w = 0.0;
+        let mut powers = ControllerPowers::default();
+        let mut any_awake = false;
+        self.scratch.begin_interval();
+        for (wi, w) in layout.inputs.iter().enumerate() {
+            let c = &plan.controllers[w.controller];
+            let slot = self.sunlit * n_inputs + wi;
+            if !self.reuse {
+                build_input_curves(plan, ic, w, r_lead, self.r_main[wi], &mut self.scratch);
+            }
+            let array = if self.reuse {
+                &self.kept_curves[slot]
+            } else {
+                &self.scratch.array
+            };
+            let (p, alt) = operate_both(
+                &c.model,
+                self.compare_trackers.then_some(&self.other_models[wi]),
+                array,
+                battery_v,
+                info.air_temp_c,
+                (&mut self.awake[wi], &mut self.other_awake[wi]),
+            );
+            if c.model.is_pwm() {
+                e.pwm_clamp_wh[m] += (p.available_w - p.after_window_w) * wh;
+            }
+            e.other_tracking_wh[m] += alt.output_w * wh;
+            let joule_w = if self.reuse {
+                self.kept_cable_w[slot]
+            } else {
+                joule_loss_w(
+                    &self.scratch,
+                    &ic.grid,
+                    p.available_v,
+                    r_lead,
+                    self.r_main[wi],
+                )
+            };
+            if self.keep {
+                self.kept_curves.push(self.scratch.array.clone());
+                self.kept_cable_w.push(joule_w);
+            }
+            cable_w += joule_w;
+            e.book_input(wi, &p, joule_w, wh);
+            any_awake |= p.awake;
+            add_powers(&mut powers, &p);
+        }
+        self.sunlit += 1;
+        let sums = IntervalSums {
+            powers: &powers,
+            sub_mpp_sum,
+            cable_w,
+            any_awake,
+            potential_before,
+        };
+        book_interval(e, info, &sums, battery_v, self.hourly);
+        let curtailed_wh = match (spec, self.state.as_mut()) {
+            (Some(b), Some(st)) => {
+                settle(b, load, st, e, &mut self.day, info, powers.output_w * wh)
+            }
+            _ => 0.0,
+        };
+        if let Some(h) = self.harvest.as_mut() {
+            h.push(powers.output_w as f32);
+        }
+        book_low_sun(
+            e,
+            info,
+            plan.model.low_sun_elevation_deg,
+            powers.output_w,
+            curtailed_wh,
+        );
+    }
+
+    /// Ends a pass: the last day ends with the file.
+    fn end_pass(&mut self) {
+        if let (Some(st), Some(_)) = (&self.state, self.day.day) {
+            self.e.daily_soc_frac.push(st.soc_frac);
+        }
+    }
+
+    /// The reported pass's year.
+    fn finish(mut self) -> LayoutEnergy {
+        self.end_pass();
+        let mut e = self.e;
+        e.unmet_days_mean = e.unmet_days.map(f64::from);
+        e
+    }
 }
 
 /// The first interval of the battery's warm-up pass: the start of the file's last
@@ -691,9 +799,11 @@ struct InputState {
 
 /// Intervals per block of the shared path: each distinct input's steps are kept for one
 /// block only, so memory does not grow with the length of the weather file.
-const SHARED_BLOCK: usize = 1024;
+const SHARED_BLOCK: usize = crate::sim::curves::BLOCK;
 
-/// Runs some distinct controller inputs over one block's sunlit intervals `sunlit` at the
+/// Runs some distinct controller inputs over one block's sunlit intervals `sunlit` (each
+/// with whether a night came before it; `blk` holds the curves of the block starting at
+/// interval `start`) at the
 /// plan's fixed charging voltage (a plan without a battery model): each input's array
 /// curve, where its controller operates, its cable loss, exactly as
 /// [`simulate_layout_with`] does for each input of a layout. Writes input `j`'s step of
@@ -702,8 +812,8 @@ const SHARED_BLOCK: usize = 1024;
 fn run_inputs_block(
     plan: &Plan,
     cond: &Conditions,
-    curves: &[Option<IntervalCurves>],
-    sunlit: &[usize],
+    (blk, start): (&[Option<IntervalCurves>], usize),
+    sunlit: &[(usize, bool)],
     inputs: &[&crate::input::layout::InputWiring],
     states: &mut [InputState],
     out: &mut [InputStep],
@@ -721,11 +831,10 @@ fn run_inputs_block(
     let mut done: FastMap<Vec<u32>, usize> = FastMap::default();
     let mut results: Vec<(InputStep, ControllerPowers, bool, bool)> = Vec::new();
     let mut key: Vec<u32> = Vec::new();
-    for (s, &k) in sunlit.iter().enumerate() {
-        let Some(ic) = &curves[k] else { continue };
+    // `after_night`: a night before this interval put every controller to sleep.
+    for (s, &(k, after_night)) in sunlit.iter().enumerate() {
+        let Some(ic) = &blk[k - start] else { continue };
         let info = &cond.intervals[k];
-        // A night before this interval put every controller to sleep.
-        let after_night = k == 0 || curves[k - 1].is_none();
         let r_lead = lead_ohm(plan, info.air_temp_c);
         scratch.begin_interval();
         done.clear();
@@ -841,7 +950,7 @@ struct Composed<'a> {
 fn compose_block(
     plan: &Plan,
     cond: &Conditions,
-    curves: &[Option<IntervalCurves>],
+    blk: &[Option<IntervalCurves>],
     block: (std::ops::Range<usize>, &[InputStep], &[LightSums]),
     l: &Composed,
     e: &mut LayoutEnergy,
@@ -850,13 +959,14 @@ fn compose_block(
     let low_sun = plan.model.low_sun_elevation_deg;
     let battery_v = plan.battery.charge_v;
     let (range, steps, light) = block;
+    let start = range.start;
     let mut s = 0usize;
     for k in range {
         let info = &cond.intervals[k];
         let m = (info.month - 1) as usize;
         let wh = info.hours;
         year_add(&mut e.yearly, info.year, wh, 0.0);
-        if curves[k].is_none() {
+        if blk[k - start].is_none() {
             if hourly {
                 e.hourly.push(HourRow::default());
             }
@@ -900,13 +1010,18 @@ fn compose_block(
 fn simulate_shared(
     plan: &Plan,
     cond: &Conditions,
-    curves: &[Option<IntervalCurves>],
+    curves: &CurveSet,
     layouts: &[&Layout],
     opts: RunOptions,
 ) -> Vec<LayoutEnergy> {
     // Inputs alike in every interval (alike controllers, strings of interchangeable modules)
-    // are one distinct input, run once.
-    let module_class = crate::sim::curves::module_classes(plan, curves);
+    // are one distinct input, run once. Streamed curves are not swept for the classes
+    // first: each module is its own class, and inputs alike in an interval still share the
+    // work of that interval.
+    let module_class = match curves.held() {
+        Some(held) => crate::sim::curves::module_classes(plan, held),
+        None => (0..plan.modules.len()).collect(),
+    };
     let controller_class = controller_classes(plan);
     let mut index: FastMap<Vec<usize>, usize> = FastMap::default();
     let mut distinct: Vec<&crate::input::layout::InputWiring> = Vec::new();
@@ -967,18 +1082,25 @@ fn simulate_shared(
         1
     };
     let per_task = distinct.len().div_ceil(tasks).max(1);
-    let mut sunlit: Vec<usize> = Vec::with_capacity(SHARED_BLOCK);
+    let mut sunlit: Vec<(usize, bool)> = Vec::with_capacity(SHARED_BLOCK);
     let mut any_sunlit = false;
     let mut reported = 0usize;
-    for start in (0..n).step_by(SHARED_BLOCK) {
-        let end = (start + SHARED_BLOCK).min(n);
+    // Whether the interval before the block was night (none before the first).
+    let mut night_before = true;
+    curves.sweep(0..n, |start, blk| {
+        let end = start + blk.len();
         sunlit.clear();
-        sunlit.extend((start..end).filter(|&k| curves[k].is_some()));
+        for (j, ic) in blk.iter().enumerate() {
+            if ic.is_some() {
+                sunlit.push((start + j, night_before));
+            }
+            night_before = ic.is_none();
+        }
         any_sunlit |= !sunlit.is_empty();
         let run = |((ws, sts), out): (
             (&[&crate::input::layout::InputWiring], &mut [InputState]),
             &mut [InputStep],
-        )| run_inputs_block(plan, cond, curves, &sunlit, ws, sts, out);
+        )| run_inputs_block(plan, cond, (blk, start), &sunlit, ws, sts, out);
         if opts.parallel {
             distinct
                 .par_chunks(per_task)
@@ -993,8 +1115,8 @@ fn simulate_shared(
                 .for_each(run);
         }
         let sums = |(used, out): (&Vec<usize>, &mut [LightSums])| {
-            for (x, &k) in out.iter_mut().zip(&sunlit) {
-                if let Some(ic) = &curves[k] {
+            for (x, &(k, _)) in out.iter_mut().zip(&sunlit) {
+                if let Some(ic) = &blk[k - start] {
                     *x = light_sums(plan, cond, ic, used, k);
                 }
             }
@@ -1014,7 +1136,7 @@ fn simulate_shared(
             compose_block(
                 plan,
                 cond,
-                curves,
+                blk,
                 (start..end, &steps, &light),
                 l,
                 e,
@@ -1037,7 +1159,7 @@ fn simulate_shared(
             }
             reported = due.max(reported);
         }
-    }
+    });
     for (e, l) in energies.iter_mut().zip(&composed) {
         if any_sunlit {
             e.inputs = l.inputs.iter().map(|&j| states[j].losses).collect();
@@ -1091,22 +1213,35 @@ pub struct RunOptions<'a> {
 }
 
 /// One layout over every interval from shared curves, on the calling thread (the swap search
-/// of module assignment, the re-simulation of a changed layout).
+/// of module assignment, the re-simulation of a changed layout, the sizing searches).
 pub fn simulate_one(
     plan: &Plan,
     cond: &Conditions,
-    curves: &[Option<IntervalCurves>],
+    curves: &CurveSet,
     layout: &Layout,
     hourly: bool,
 ) -> LayoutEnergy {
-    simulate_layout(plan, cond, curves, layout, hourly)
+    match curves.held() {
+        Some(held) => simulate_layout(plan, cond, held, layout, hourly),
+        None => {
+            let opts = RunOptions {
+                parallel: false,
+                hourly,
+                on_layout_done: None,
+            };
+            simulate_streamed(plan, cond, curves, &[layout], opts, false)
+                .pop()
+                .map(|(e, _)| e)
+                .unwrap_or_default()
+        }
+    }
 }
 
 /// Every layout over every interval from shared curves (the combination half of phase 2).
 pub fn simulate_layouts(
     plan: &Plan,
     cond: &Conditions,
-    curves: &[Option<IntervalCurves>],
+    curves: &CurveSet,
     layouts: &[&Layout],
     opts: RunOptions,
 ) -> Vec<LayoutEnergy> {
@@ -1115,8 +1250,14 @@ pub fn simulate_layouts(
     if plan.battery.model.is_none() && layouts.len() > 1 {
         return simulate_shared(plan, cond, curves, layouts, opts);
     }
+    let Some(held) = curves.held() else {
+        return simulate_streamed(plan, cond, curves, layouts, opts, false)
+            .into_iter()
+            .map(|(e, _)| e)
+            .collect();
+    };
     let one = |l: &&Layout| {
-        let e = simulate_layout(plan, cond, curves, l, opts.hourly);
+        let e = simulate_layout(plan, cond, held, l, opts.hourly);
         finished(e, l, &opts, layouts.len())
     };
     if opts.parallel {
@@ -1126,13 +1267,65 @@ pub fn simulate_layouts(
     }
 }
 
+/// Layouts one by one (battery model or not) advancing together block by block over curves
+/// computed for that block only: the warm-up pass over its block range, then the reported
+/// pass. With `harvest`, each layout's controller output per interval is kept too (the
+/// interval rows' `harvest_w`, for the battery sizing).
+pub fn simulate_streamed(
+    plan: &Plan,
+    cond: &Conditions,
+    curves: &CurveSet,
+    layouts: &[&Layout],
+    opts: RunOptions,
+    harvest: bool,
+) -> Vec<(LayoutEnergy, Option<Vec<f32>>)> {
+    let n = cond.intervals.len();
+    let mut runs: Vec<LayoutRun> = layouts
+        .iter()
+        .map(|l| {
+            let mut r = LayoutRun::new(plan, cond, l, opts.hourly);
+            if harvest {
+                r.keep_harvest();
+            }
+            r
+        })
+        .collect();
+    let Some(first) = runs.first() else {
+        return Vec::new();
+    };
+    let passes = first.passes;
+    let starts: Vec<usize> = (0..passes).map(|p| first.pass_start(p)).collect();
+    for (pass, &from) in starts.iter().enumerate() {
+        runs.iter_mut().for_each(|r| r.begin_pass(pass, false));
+        curves.sweep(from..n, |start, blk| {
+            let advance = |r: &mut LayoutRun| {
+                for (j, ic) in blk.iter().enumerate() {
+                    r.step(start + j, ic.as_ref());
+                }
+            };
+            if opts.parallel {
+                runs.par_iter_mut().for_each(advance);
+            } else {
+                runs.iter_mut().for_each(advance);
+            }
+        });
+    }
+    runs.into_iter()
+        .map(|mut r| {
+            let h = r.harvest.take();
+            let l = r.layout;
+            (finished(r.finish(), l, &opts, layouts.len()), h)
+        })
+        .collect()
+}
+
 /// Every layout charging at the plan's fixed voltage (`battery.charge_v`), without the
 /// battery model even when the plan has one: the screening of plans with a battery model
 /// (notebooks-free-docs/method-battery.md, "Screening"). Shared per-input work, streamed.
 pub fn simulate_fixed_voltage(
     plan: &Plan,
     cond: &Conditions,
-    curves: &[Option<IntervalCurves>],
+    curves: &CurveSet,
     layouts: &[&Layout],
     opts: RunOptions,
 ) -> Vec<LayoutEnergy> {
@@ -1147,7 +1340,7 @@ pub fn run(
     layouts: &[&Layout],
     opts: RunOptions,
 ) -> Vec<LayoutEnergy> {
-    let curves = all_interval_curves(plan, cond, opts.parallel);
+    let curves = CurveSet::for_run(plan, cond, opts.parallel);
     simulate_layouts(plan, cond, &curves, layouts, opts)
 }
 
@@ -1158,6 +1351,7 @@ mod tests {
     use crate::commands::PlanSource;
     use crate::input::layout;
     use crate::sim::conditions;
+    use crate::sim::curves::all_interval_curves;
 
     /// The second pass's reuse of the first pass's array curves and cable losses is an
     /// optimisation only: results must be bit-identical to rebuilding them.
@@ -1174,6 +1368,67 @@ mod tests {
             let b = simulate_layout_with(plan, &cond, &curves, layout, true, false);
             assert_eq!(a, b, "{}", layout.display_name());
             assert!(a.delivered_wh.iter().sum::<f64>() > 0.0);
+        }
+    }
+
+    /// Curves computed block by block (the path of weather files longer than two years) give
+    /// the same bits as curves held for the whole run: forced on one-year files, for layouts
+    /// with a battery model (the demo, each layout on its own) and without (the shared
+    /// per-input path, unshaded and shaded fixtures). Source: self-consistency (common
+    /// practice, no source).
+    #[test]
+    fn streamed_curves_give_the_same_bits_as_held_ones() {
+        use crate::design::candidates::candidate_layouts;
+        use crate::design::rules::design_temperatures;
+        let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures");
+        for source in [
+            PlanSource::Demo,
+            PlanSource::File(root.join("plan_20_modules.toml")),
+            PlanSource::File(root.join("plan_assign_shaded.toml")),
+        ] {
+            let loaded = load(&source).expect("plan loads");
+            let plan = &loaded.plan;
+            let cond = conditions::phase1(plan, &loaded.weather, &loaded.site);
+            let temps = design_temperatures(plan, &loaded.weather);
+            let all = if plan.enumerate_all {
+                candidate_layouts(plan, &temps).expect("enumerates").layouts
+            } else {
+                layout::listed(plan)
+            };
+            let layouts: Vec<&Layout> = all.iter().take(12).collect();
+            let held = CurveSet::Held(all_interval_curves(plan, &cond, true));
+            let streamed = CurveSet::Streamed {
+                plan,
+                cond: &cond,
+                scene: ShadeScene::new(plan),
+                parallel: true,
+            };
+            let opts = RunOptions {
+                parallel: true,
+                hourly: true,
+                on_layout_done: None,
+            };
+            let a = simulate_layouts(plan, &cond, &held, &layouts, opts);
+            let b = simulate_layouts(plan, &cond, &streamed, &layouts, opts);
+            assert_eq!(a.len(), layouts.len());
+            for ((x, y), l) in a.iter().zip(&b).zip(&layouts) {
+                assert!(x.delivered_wh.iter().sum::<f64>() > 0.0);
+                // Debug text compares every field, the NaN of an unset lowest charge included.
+                assert_eq!(
+                    format!("{x:?}"),
+                    format!("{y:?}"),
+                    "{}: {}",
+                    plan.source.display(),
+                    l.display_name()
+                );
+            }
+            // The kept harvest is the interval rows' harvest.
+            if plan.battery.model.is_some() {
+                let kept = simulate_streamed(plan, &cond, &streamed, &layouts[..1], opts, true);
+                let (e, h) = &kept[0];
+                let rows: Vec<f32> = e.hourly.iter().map(|r| r.harvest_w).collect();
+                assert_eq!(h.as_deref(), Some(rows.as_slice()));
+            }
         }
     }
 
@@ -1253,7 +1508,8 @@ mod tests {
                 hourly: true,
                 on_layout_done: None,
             };
-            let shared = simulate_shared(plan, &cond, &curves, &layouts, opts);
+            let held = CurveSet::Held(all_interval_curves(plan, &cond, true));
+            let shared = simulate_shared(plan, &cond, &held, &layouts, opts);
             for (l, e) in layouts.iter().zip(&shared) {
                 let alone = simulate_layout(plan, &cond, &curves, l, true);
                 assert!(alone.delivered_wh.iter().sum::<f64>() > 0.0);

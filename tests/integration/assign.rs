@@ -22,7 +22,7 @@ fn method_against_exhaustive(name: &str, limit: usize) -> (usize, usize, f64) {
     let temps = design_temperatures(plan, &loaded.weather);
     let cand = candidate_layouts(plan, &temps).expect("candidates");
     let cond = conditions::phase1(plan, &loaded.weather, &loaded.site);
-    let curves = curves::all_interval_curves(plan, &cond, true);
+    let curves = curves::CurveSet::Held(curves::all_interval_curves(plan, &cond, true));
     let prof = curves::shade_profiles(plan, &cond, &curves);
     assert!(
         prof.any_choice(plan),
