@@ -11,6 +11,7 @@ mod golden;
 mod invariants;
 mod limits;
 mod limits_input;
+mod long_files;
 mod output_safety;
 mod screening;
 mod support;
