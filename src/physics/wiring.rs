@@ -290,6 +290,23 @@ pub fn string_curve(
     grid: &CurrentGrid,
     out: &mut Vec<f64>,
 ) {
+    string_curve_of(
+        subs.iter().copied(),
+        lead_resistance_ohm,
+        blocking_drop_v,
+        grid,
+        out,
+    );
+}
+
+/// [`string_curve`] from the substrings' curves in any iterable form (no list to build).
+pub fn string_curve_of<'a>(
+    subs: impl IntoIterator<Item = &'a SubstringCurve>,
+    lead_resistance_ohm: f64,
+    blocking_drop_v: Option<f64>,
+    grid: &CurrentGrid,
+    out: &mut Vec<f64>,
+) {
     let currents = grid.currents();
     out.clear();
     out.resize(currents.len(), -blocking_drop_v.unwrap_or(0.0));

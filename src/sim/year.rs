@@ -13,7 +13,7 @@ use crate::input::plan::Plan;
 use crate::physics::battery::{BatterySpec, BatteryState, LoadProfile, WARM_UP_MAX_H};
 use crate::physics::controller::{ControllerModel, ControllerPowers, CurveMaxima};
 use crate::physics::wiring::{
-    array_curve, cable_resistance_ohm, string_curve, ArrayCurve, CurrentGrid, SubstringCurve,
+    array_curve, cable_resistance_ohm, string_curve_of, ArrayCurve, CurrentGrid,
 };
 use crate::sim::conditions::Conditions;
 use crate::sim::curves::{interval_curves, CurveSet, IntervalCurves, ShadeScene};
@@ -720,12 +720,13 @@ fn resolve_strings(
                     s.strings.push(Vec::new());
                     s.keys.push(Vec::new());
                 }
-                let subs: Vec<&SubstringCurve> = s
-                    .key
-                    .iter()
-                    .map(|&c| &ic.curves[c as usize].curve)
-                    .collect();
-                string_curve(&subs, r_lead, blocking, &ic.grid, &mut s.strings[j]);
+                string_curve_of(
+                    s.key.iter().map(|&c| &ic.curves[c as usize].curve),
+                    r_lead,
+                    blocking,
+                    &ic.grid,
+                    &mut s.strings[j],
+                );
                 s.keys[j].clone_from(&s.key);
                 s.index.insert(s.key.clone(), j);
                 j
@@ -1295,6 +1296,14 @@ pub fn simulate_streamed(
     };
     let passes = first.passes;
     let starts: Vec<usize> = (0..passes).map(|p| first.pass_start(p)).collect();
+    // Progress in proportion to the intervals swept, over both passes.
+    let total: usize = starts.iter().map(|&from| n - from).sum();
+    let mut swept = 0usize;
+    let mut reported = 0usize;
+    let quiet = RunOptions {
+        on_layout_done: None,
+        ..opts
+    };
     for (pass, &from) in starts.iter().enumerate() {
         runs.iter_mut().for_each(|r| r.begin_pass(pass, false));
         curves.sweep(from..n, |start, blk| {
@@ -1308,13 +1317,21 @@ pub fn simulate_streamed(
             } else {
                 runs.iter_mut().for_each(advance);
             }
+            swept += blk.len();
+            if let Some(done) = opts.on_layout_done {
+                let due = layouts.len() * swept / total.max(1);
+                for _ in reported..due {
+                    done(layouts.len());
+                }
+                reported = due.max(reported);
+            }
         });
     }
     runs.into_iter()
         .map(|mut r| {
             let h = r.harvest.take();
             let l = r.layout;
-            (finished(r.finish(), l, &opts, layouts.len()), h)
+            (finished(r.finish(), l, &quiet, layouts.len()), h)
         })
         .collect()
 }
