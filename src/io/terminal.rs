@@ -83,7 +83,7 @@ fn assignment_line(
             a.improved
         )
     } else {
-        format!("{seeded}; no swap search on a weather file this long (more than two hourly years), so the seed stands")
+        format!("{seeded}; no swap search on a weather file this long (more than a year of 10-minute data), so the seed stands")
     };
     match &a.recommended {
         Some(g) => {

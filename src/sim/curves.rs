@@ -434,8 +434,10 @@ fn interval_curves_range(
 }
 
 /// Weather files longer than this many intervals have their curves computed block by block
-/// when needed instead of held for the whole run ([`CurveSet::Streamed`]): two hourly years.
-pub const HELD_MAX_INTERVALS: usize = 2 * 8784;
+/// when needed instead of held for the whole run ([`CurveSet::Streamed`]): a leap year of
+/// 10-minute data (366 × 144), so that any one year of data down to 10-minute steps keeps
+/// the module assignment's swap search, which simulates over held curves.
+pub const HELD_MAX_INTERVALS: usize = 366 * 144;
 
 /// Intervals per block of a streamed run.
 pub const BLOCK: usize = 1024;

@@ -1388,7 +1388,7 @@ mod tests {
         }
     }
 
-    /// Curves computed block by block (the path of weather files longer than two years) give
+    /// Curves computed block by block (the path of weather files longer than a year of 10-minute data) give
     /// the same bits as curves held for the whole run: forced on one-year files, for layouts
     /// with a battery model (the demo, each layout on its own) and without (the shared
     /// per-input path, unshaded and shaded fixtures). Source: self-consistency (common
