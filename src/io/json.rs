@@ -259,6 +259,7 @@ pub fn ranking_json(r: &RankResult) -> Result<String, Error> {
         })),
         "assignment": r.assignment.as_ref().map(|a| json!({
             "seeded_layouts": a.seeded,
+            "swap_search": a.swap_search,
             "searched_layouts": a.searched,
             "improved_layouts": a.improved,
             "simulations": a.evaluations,
