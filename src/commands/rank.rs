@@ -53,7 +53,8 @@ pub fn simulate_and_rank(
         .collect();
     let conditions = conditions::phase1(plan, &loaded.weather, &loaded.site);
     // The substring curves are shared by the ranking and the battery sizing below (held for
-    // a file of up to two years, computed block by block for a longer one).
+    // a file of up to a leap year of 10-minute data, computed block by block for a longer
+    // one).
     let curves = curves::CurveSet::for_run(plan, &conditions, opts.parallel);
     // Which modules share a string: enumerated layouts take the seed assignment where shade
     // makes modules of one group differ (the plan's listed layouts are kept as written).
