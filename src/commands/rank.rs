@@ -276,8 +276,9 @@ pub fn simulate_and_rank(
     })
 }
 
-/// With a battery model and more passing layouts than `model.coupled_layouts` (K): screens
-/// every passing layout on the energy its controllers offer at the plan's fixed charging
+/// With a battery model and more passing enumerated layouts than `model.coupled_layouts`
+/// (K): screens every passing enumerated layout on the energy its controllers offer at the
+/// plan's fixed charging
 /// voltage (the shared per-input path), keeps the best K by the ranking criterion on that
 /// energy (for `unmet`: winter, then annual offered energy) and drops the rest from
 /// `outcomes`, which the battery-coupled year then runs for
@@ -291,8 +292,10 @@ fn screen(
     opts: year::RunOptions,
 ) -> Option<crate::results::Screening> {
     let keep = plan.model.coupled_layouts;
+    // The plan's listed layouts are always run with the battery: only enumerated ones
+    // are screened.
     let passing: Vec<usize> = (0..outcomes.len())
-        .filter(|&k| !outcomes[k].rejected())
+        .filter(|&k| !outcomes[k].rejected() && outcomes[k].layout.id.starts_with('E'))
         .collect();
     if plan.battery.model.is_none() || passing.len() <= keep {
         return None;

@@ -54,7 +54,7 @@ pub fn site_line(l: &Loaded) -> String {
 pub fn screening_line(r: &RankResult) -> Option<String> {
     let x = r.screening.as_ref()?;
     Some(format!(
-        "screening: {} passing layouts were simulated charging at a fixed {} V; the best {} by that energy were simulated with the battery model and ranked, the other {} are not shown (raise model.coupled_layouts to run more)",
+        "screening: {} passing enumerated layouts were simulated charging at a fixed {} V; the best {} by that energy were simulated with the battery model and ranked, the other {} are not shown (raise model.coupled_layouts to run more; layouts the plan lists always run with the battery)",
         x.screened,
         crate::num::Num(x.charge_v),
         x.coupled,

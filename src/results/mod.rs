@@ -42,8 +42,8 @@ pub struct RankResult {
     /// What module assignment did; `None` when every group's modules are interchangeable or
     /// the plan lists its layouts.
     pub assignment: Option<AssignmentReport>,
-    /// With a battery model and more passing layouts than `model.coupled_layouts`: how the
-    /// layouts were screened before the battery-coupled year.
+    /// With a battery model and more passing enumerated layouts than
+    /// `model.coupled_layouts`: how they were screened before the battery-coupled year.
     pub screening: Option<Screening>,
 }
 
@@ -52,7 +52,8 @@ pub struct RankResult {
 /// (notebooks-free-docs/method-battery.md, "Screening").
 #[derive(Clone, Debug)]
 pub struct Screening {
-    /// Passing layouts screened.
+    /// Passing enumerated layouts screened (the plan's listed layouts are never screened
+    /// out).
     pub screened: usize,
     /// The best of them by the screening, run with the battery and ranked.
     pub coupled: usize,

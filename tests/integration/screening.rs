@@ -62,6 +62,40 @@ fn screening_keeps_the_coupled_best() {
     }
 }
 
+/// A layout the plan lists is never screened out, however little it offers: only
+/// enumerated layouts are. Source: the rule is ours (method-battery.md, "Screening").
+#[test]
+fn listed_layouts_are_never_screened_out() {
+    let (_dir, path) = edited(
+        PLAN,
+        &[(
+            "allow_mixed_orientation = true",
+            "allow_mixed_orientation = true\n\n[[layout]]\nname = \"east only\"\nstrings.in1 = [[\"east-1\", \"east-2\", \"east-3\", \"east-4\"]]",
+        )],
+    );
+    let r = simulate_and_rank(
+        &PlanSource::File(path),
+        Some(Criterion::Annual),
+        RunOptions {
+            parallel: true,
+            ..RunOptions::default()
+        },
+    )
+    .expect("the plan runs");
+    let s = r
+        .screening
+        .as_ref()
+        .expect("the enumerated layouts were screened");
+    assert_eq!((s.screened, s.coupled), (119, 12));
+    let listed = r
+        .outcomes
+        .iter()
+        .find(|o| o.layout.id == "L1")
+        .expect("the listed layout is in the ranking");
+    assert!(listed.rank.is_some(), "and ranked");
+    assert_eq!(passing(&r), 13, "12 enumerated and the listed one");
+}
+
 /// The terminal report says how many layouts were screened and how many coupled.
 /// Source: the wording is ours (no source).
 #[test]
@@ -77,7 +111,7 @@ fn the_report_says_what_was_screened() {
     assert!(text.contains("119 candidate layouts"), "{text}");
     assert!(
         text.contains(
-            "screening: 119 passing layouts were simulated charging at a fixed 13.6 V; the best 12"
+            "screening: 119 passing enumerated layouts were simulated charging at a fixed 13.6 V; the best 12"
         ),
         "{text}"
     );
