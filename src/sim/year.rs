@@ -5,6 +5,12 @@
 //! distinct one is computed once per interval and shared by every module and every layout
 //! (DEVELOPERS.md, invariants). Layouts run in parallel (rayon); each layout's arithmetic is the same
 //! whether it runs alone or beside others, so results are identical bit for bit.
+//!
+//! Two paths: each layout on its own ([`LayoutRun`], needed with a battery model, whose
+//! charging voltage couples the inputs), and, at the plan's fixed charging voltage, every
+//! distinct controller input once with the layouts composed from them (`simulate_shared`;
+//! notebooks-free-docs/method-controller.md). Both read the curves held for the run or
+//! computed block by block for a long weather file ([`CurveSet`]).
 
 use rayon::prelude::*;
 
