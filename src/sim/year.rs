@@ -6,7 +6,7 @@
 //! (DEVELOPERS.md, invariants). Layouts run in parallel (rayon); each layout's arithmetic is the same
 //! whether it runs alone or beside others, so results are identical bit for bit.
 //!
-//! Two paths: each layout on its own ([`LayoutRun`], needed with a battery model, whose
+//! Two paths: each layout on its own (`LayoutRun`, needed with a battery model, whose
 //! charging voltage couples the inputs), and, at the plan's fixed charging voltage, every
 //! distinct controller input once with the layouts composed from them (`simulate_shared`;
 //! notebooks-free-docs/method-controller.md). Both read the curves held for the run or
