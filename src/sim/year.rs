@@ -810,7 +810,7 @@ const SHARED_BLOCK: usize = crate::sim::curves::BLOCK;
 
 /// Runs some distinct controller inputs over one block's sunlit intervals `sunlit` (each
 /// with whether a night came before it; `blk` holds the curves of the block starting at
-/// interval `start`) at the
+/// interval `start`; `interval_cache`: look for inputs alike in an interval) at the
 /// plan's fixed charging voltage (a plan without a battery model): each input's array
 /// curve, where its controller operates, its cable loss, exactly as
 /// [`simulate_layout_with`] does for each input of a layout. Writes input `j`'s step of
@@ -819,7 +819,7 @@ const SHARED_BLOCK: usize = crate::sim::curves::BLOCK;
 fn run_inputs_block(
     plan: &Plan,
     cond: &Conditions,
-    (blk, start): (&[Option<IntervalCurves>], usize),
+    (blk, start, interval_cache): (&[Option<IntervalCurves>], usize, bool),
     sunlit: &[(usize, bool)],
     inputs: &[&crate::input::layout::InputWiring],
     states: &mut [InputState],
@@ -856,8 +856,13 @@ fn run_inputs_block(
             key.push(class[w.controller] as u32);
             key.push(u32::from(st.awake) | u32::from(st.other_awake) << 1);
             key.extend(scratch.slot.iter().map(|&x| x as u32));
-            let r = match done.get(key.as_slice()) {
-                Some(&r) => r,
+            let seen = if interval_cache {
+                done.get(key.as_slice()).copied()
+            } else {
+                None
+            };
+            let r = match seen {
+                Some(r) => r,
                 None => {
                     let c = &plan.controllers[w.controller];
                     let r_main = main_run_ohm(plan, w.controller, info.air_temp_c);
@@ -883,7 +888,9 @@ fn run_inputs_block(
                         awake: p.awake,
                     };
                     results.push((step, p, awake, other_awake));
-                    done.insert(key.clone(), results.len() - 1);
+                    if interval_cache {
+                        done.insert(key.clone(), results.len() - 1);
+                    }
                     results.len() - 1
                 }
             };
@@ -1034,7 +1041,7 @@ fn simulate_shared(
     let mut distinct: Vec<&crate::input::layout::InputWiring> = Vec::new();
     let mut used_index: FastMap<Vec<usize>, usize> = FastMap::default();
     let mut used_sets: Vec<Vec<usize>> = Vec::new();
-    let composed: Vec<Composed> = layouts
+    let mut composed: Vec<Composed> = layouts
         .iter()
         .map(|l| {
             let used = wired_modules(l);
@@ -1065,6 +1072,28 @@ fn simulate_shared(
             }
         })
         .collect();
+    // Inputs that differ only by shade are the same in every unshaded interval: put them
+    // side by side (by their signature with each module's group for its class), so that
+    // they fall in the same task and its interval cache works each such interval out once.
+    let group_of: Vec<usize> = plan.modules.iter().map(|m| m.group).collect();
+    let by_group: Vec<Vec<usize>> = distinct
+        .iter()
+        .map(|w| input_signature(w, &controller_class, &group_of))
+        .collect();
+    let mut order: Vec<usize> = (0..distinct.len()).collect();
+    order.sort_by(|&a, &b| by_group[a].cmp(&by_group[b]).then(a.cmp(&b)));
+    let mut moved_to = vec![0; distinct.len()];
+    for (new, &old) in order.iter().enumerate() {
+        moved_to[old] = new;
+    }
+    let distinct: Vec<&crate::input::layout::InputWiring> =
+        order.iter().map(|&old| distinct[old]).collect();
+    for c in &mut composed {
+        c.inputs.iter_mut().for_each(|j| *j = moved_to[*j]);
+    }
+    // Without shade, inputs alike in every interval were merged above (when the curves are
+    // held): no interval cache then, it would never find anything.
+    let interval_cache = compares_trackers(plan) || curves.held().is_none();
     let n = cond.intervals.len();
     let mut energies: Vec<LayoutEnergy> = layouts
         .iter()
@@ -1107,7 +1136,17 @@ fn simulate_shared(
         let run = |((ws, sts), out): (
             (&[&crate::input::layout::InputWiring], &mut [InputState]),
             &mut [InputStep],
-        )| run_inputs_block(plan, cond, (blk, start), &sunlit, ws, sts, out);
+        )| {
+            run_inputs_block(
+                plan,
+                cond,
+                (blk, start, interval_cache),
+                &sunlit,
+                ws,
+                sts,
+                out,
+            )
+        };
         if opts.parallel {
             distinct
                 .par_chunks(per_task)
