@@ -1,7 +1,8 @@
 //! Scale figures (criterion), the whole `rank` pipeline on both cores (issue targets in
 //! brackets; measured figures are in DEVELOPERS.md):
 //! - the 20-module plan in 3 groups with every layout enumerated, on 2 inputs and on 3
-//!   (≤ 5 s and ≤ 200 MB on 3 inputs);
+//!   (≤ 5 s and ≤ 200 MB on 3 inputs), and on 3 inputs with four modules shaded by branches
+//!   at some hours, so that module assignment works (its seed and swap search);
 //! - the shaded 8-module plan whose enumerated layouts choose their modules;
 //! - 48 modules on 3 inputs, every layout (≤ 20 s);
 //! - 24 modules with a mast and a shed against the same plan without them (≤ 2×);
@@ -165,6 +166,10 @@ fn scale(c: &mut Criterion) {
     g.bench_function(
         "20 modules, 3 groups on 3 inputs, every layout (5,622)",
         |b| b.iter(|| rank_bench_plan("plan_20_modules_3_inputs.toml")),
+    );
+    g.bench_function(
+        "20 modules, 3 groups on 3 inputs, shaded, every layout with assignment",
+        |b| b.iter(|| rank_bench_plan("plan_20_modules_3_inputs_shaded.toml")),
     );
     g.bench_function("48 modules on 3 inputs, every layout (1,715)", |b| {
         b.iter(|| rank_bench_plan("plan_48_modules_3_inputs.toml"))
