@@ -152,11 +152,28 @@ pub fn simulate_and_rank(
         fill(o, energies.next().expect("one energy per passing layout"));
     }
     rank::rank(&mut outcomes, criterion);
-    // One layout simulated alone, summarised (for the swap search and the id-order figures).
-    let summarise = |l: &layout::Layout| {
-        let mut e = year::simulate_one(plan, &conditions, &curves, l, false);
+    let summary_of = |l: &layout::Layout, mut e: crate::sim::energy::LayoutEnergy| {
         e.scale_to_mean_year(per_year);
         LayoutSummary::new(plan, l, &e, &temps, &months_present, &winter_months)
+    };
+    // One layout simulated alone, summarised (the id-order figures).
+    let summarise = |l: &layout::Layout| {
+        summary_of(l, year::simulate_one(plan, &conditions, &curves, l, false))
+    };
+    // A batch of layouts (a round of the swap search) simulated together, so that they share
+    // their per-input work, and their keys on the ranking criterion.
+    let eval = |ls: &[layout::Layout]| -> Vec<[f64; 4]> {
+        let refs: Vec<&layout::Layout> = ls.iter().collect();
+        let run = year::RunOptions {
+            parallel: opts.parallel,
+            hourly: false,
+            on_layout_done: None,
+        };
+        year::simulate_layouts(plan, &conditions, &curves, &refs, run)
+            .into_iter()
+            .zip(ls)
+            .map(|(e, l)| rank::sort_key(&summary_of(l, e), criterion))
+            .collect()
     };
     let assignment = assigning.then(|| {
         let mut report = AssignmentReport {
@@ -166,7 +183,6 @@ pub fn simulate_and_rank(
             ..AssignmentReport::default()
         };
         // The swap search on the best few enumerated layouts (the rest keep the seed).
-        let eval = |l: &layout::Layout| rank::sort_key(&summarise(l), criterion);
         let best: Vec<usize> = outcomes
             .iter()
             .enumerate()

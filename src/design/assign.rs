@@ -21,8 +21,6 @@
 
 use std::collections::HashSet;
 
-use rayon::prelude::*;
-
 use crate::input::layout::Layout;
 use crate::input::plan::Plan;
 use crate::sim::curves::ShadeProfiles;
@@ -150,6 +148,8 @@ pub fn starts(plan: &Plan, prof: &ShadeProfiles, layout: &Layout) -> Vec<Layout>
 
 /// The whole method: the swap search from each of [`starts`] (the first with `first_key`
 /// already known), sharing `max_evaluations`; the best result. Ties keep the earlier start.
+/// `eval` simulates a batch of layouts and returns their keys in order (a batch shares the
+/// simulation's per-input work; it must be deterministic).
 pub fn search<K, F>(
     plan: &Plan,
     prof: &ShadeProfiles,
@@ -160,39 +160,50 @@ pub fn search<K, F>(
 ) -> Assigned<K>
 where
     K: PartialOrd + Clone + Send,
-    F: Fn(&Layout) -> K + Sync,
+    F: Fn(&[Layout]) -> Vec<K>,
 {
     let starts = starts(plan, prof, layout);
     let share = max_evaluations / starts.len().max(1);
     // Starts and swaps often meet the same assignment again: simulate each one once.
-    let memo: std::sync::Mutex<std::collections::HashMap<Vec<Vec<Vec<usize>>>, K>> =
-        std::sync::Mutex::new(std::collections::HashMap::new());
-    let simulated = std::sync::atomic::AtomicUsize::new(0);
-    let cached = |l: &Layout| -> K {
-        let key = class_key(prof, l);
-        if let Some(k) = memo.lock().ok().and_then(|m| m.get(&key).cloned()) {
-            return k;
+    let memo: std::cell::RefCell<std::collections::HashMap<Vec<Vec<Vec<usize>>>, K>> =
+        std::cell::RefCell::new(std::collections::HashMap::new());
+    let simulated = std::cell::Cell::new(0usize);
+    let cached = |ls: &[Layout]| -> Vec<K> {
+        let keys: Vec<Vec<Vec<Vec<usize>>>> = ls.iter().map(|l| class_key(prof, l)).collect();
+        // The batch's assignments not met before, each once.
+        let mut fresh: Vec<usize> = Vec::new();
+        {
+            let m = memo.borrow();
+            for (j, k) in keys.iter().enumerate() {
+                if !m.contains_key(k) && !fresh.iter().any(|&f| keys[f] == *k) {
+                    fresh.push(j);
+                }
+            }
         }
-        simulated.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
-        let k = eval(l);
-        if let Ok(mut m) = memo.lock() {
-            m.insert(key, k.clone());
+        if !fresh.is_empty() {
+            simulated.set(simulated.get() + fresh.len());
+            let batch: Vec<Layout> = fresh.iter().map(|&j| ls[j].clone()).collect();
+            let found = eval(&batch);
+            let mut m = memo.borrow_mut();
+            for (&j, k) in fresh.iter().zip(found) {
+                m.insert(keys[j].clone(), k);
+            }
         }
-        k
+        let m = memo.borrow();
+        keys.iter().map(|k| m[k].clone()).collect()
     };
-    if let Ok(mut m) = memo.lock() {
-        m.insert(class_key(prof, &starts[0]), first_key.clone());
-    }
+    memo.borrow_mut()
+        .insert(class_key(prof, &starts[0]), first_key.clone());
     let mut best: Option<Assigned<K>> = None;
     for s in starts {
-        let key = cached(&s);
+        let key = cached(std::slice::from_ref(&s)).remove(0);
         let found = improve(plan, prof, s, key, &cached, share);
         if best.as_ref().is_none_or(|b| found.key > b.key) {
             best = Some(found);
         }
     }
     let mut best = best.expect("at least one start");
-    best.evaluations = simulated.into_inner();
+    best.evaluations = simulated.get();
     best
 }
 
@@ -276,7 +287,8 @@ pub struct Assigned<K> {
 
 /// Step 2 of the method: from `start` (with its key), take the best improving swap of each
 /// round until none improves or `max_evaluations` simulations have run. `eval` simulates a
-/// layout and returns the ranking criterion's key, higher better; it must be deterministic.
+/// batch of layouts (a round's swaps) and returns the ranking criterion's keys in order,
+/// higher better; it must be deterministic.
 pub fn improve<K, F>(
     plan: &Plan,
     prof: &ShadeProfiles,
@@ -287,7 +299,7 @@ pub fn improve<K, F>(
 ) -> Assigned<K>
 where
     K: PartialOrd + Clone + Send,
-    F: Fn(&Layout) -> K + Sync,
+    F: Fn(&[Layout]) -> Vec<K>,
 {
     let mut best = Assigned {
         layout: start,
@@ -303,14 +315,9 @@ where
         }
         moves.truncate(room);
         best.evaluations += moves.len();
-        let tried: Vec<(Layout, K)> = moves
-            .par_iter()
-            .map(|&m| {
-                let l = apply(&best.layout, m);
-                let k = eval(&l);
-                (l, k)
-            })
-            .collect();
+        let layouts: Vec<Layout> = moves.iter().map(|&m| apply(&best.layout, m)).collect();
+        let keys = eval(&layouts);
+        let tried: Vec<(Layout, K)> = layouts.into_iter().zip(keys).collect();
         // The first of the best (deterministic whatever the thread timing).
         let mut winner: Option<(Layout, K)> = None;
         for (l, k) in tried {
@@ -440,8 +447,8 @@ impl Walk<'_> {
     }
 }
 
-/// Evaluates every distinct assignment (at most `limit`) and returns the best; `None` when
-/// there are more than `limit`. The check of the method on small plans.
+/// Evaluates every distinct assignment (at most `limit`, in one batch of `eval`) and returns
+/// the best; `None` when there are more than `limit`. The check of the method on small plans.
 pub fn exhaustive<K, F>(
     plan: &Plan,
     prof: &ShadeProfiles,
@@ -451,17 +458,12 @@ pub fn exhaustive<K, F>(
 ) -> Option<Assigned<K>>
 where
     K: PartialOrd + Clone + Send,
-    F: Fn(&Layout) -> K + Sync,
+    F: Fn(&[Layout]) -> Vec<K>,
 {
     let all = all_assignments(plan, prof, layout, limit)?;
     let evaluations = all.len();
-    let keyed: Vec<(Layout, K)> = all
-        .into_par_iter()
-        .map(|l| {
-            let k = eval(&l);
-            (l, k)
-        })
-        .collect();
+    let keys = eval(&all);
+    let keyed: Vec<(Layout, K)> = all.into_iter().zip(keys).collect();
     let mut best: Option<(Layout, K)> = None;
     for (l, k) in keyed {
         if best.as_ref().is_none_or(|(_, b)| k > *b) {
