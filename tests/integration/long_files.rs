@@ -4,7 +4,7 @@
 
 use std::path::{Path, PathBuf};
 
-use crate::support::wirerank;
+use crate::support::stdout_ok;
 
 /// Seven years (2025–2031) of the bundled hourly sample, each the same (28 February repeated
 /// as the leap day; 61,344 intervals, above the 52,704 whose curves are held), and `plan`
@@ -43,13 +43,7 @@ fn seven_years(dir: &Path, plan: &str, weather_key: &str) -> PathBuf {
 }
 
 fn json(args: &[&str]) -> serde_json::Value {
-    let out = wirerank(args);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    serde_json::from_slice(&out.stdout).expect("json")
+    serde_json::from_str(&stdout_ok(args)).expect("json")
 }
 
 /// (id, rank, offered kWh a year) of every ranked layout.
@@ -115,13 +109,7 @@ fn a_long_file_says_the_seed_stands() {
         &fixture,
         "file = \"../../weather-samples/larchwood-2025.csv\"",
     );
-    let out = wirerank(&["rank", plan.to_str().expect("utf-8 path"), "--top", "2"]);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let text = String::from_utf8_lossy(&out.stdout);
+    let text = stdout_ok(&["rank", plan.to_str().expect("utf-8 path"), "--top", "2"]);
     assert!(text.contains("the mean of the 7.0 years"), "{text}");
     assert!(
         text.contains("no swap search on a weather file this long"),

@@ -3,7 +3,7 @@
 //! best `model.coupled_layouts` (issue 14; notebooks-free-docs/method-battery.md,
 //! "Screening").
 
-use crate::support::{edited, wirerank};
+use crate::support::{edited, stdout_ok, wirerank};
 use wirerank::commands::rank::simulate_and_rank;
 use wirerank::commands::PlanSource;
 use wirerank::results::rank::Criterion;
@@ -101,13 +101,7 @@ fn listed_layouts_are_never_screened_out() {
 #[test]
 fn the_report_says_what_was_screened() {
     let (_dir, path) = edited(PLAN, &[]);
-    let out = wirerank(&["rank", path.to_str().expect("utf-8 path"), "--top", "3"]);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let text = String::from_utf8_lossy(&out.stdout);
+    let text = stdout_ok(&["rank", path.to_str().expect("utf-8 path"), "--top", "3"]);
     assert!(text.contains("119 candidate layouts"), "{text}");
     assert!(
         text.contains(
@@ -115,13 +109,13 @@ fn the_report_says_what_was_screened() {
         ),
         "{text}"
     );
-    let json = wirerank(&[
+    let json = stdout_ok(&[
         "rank",
         path.to_str().expect("utf-8 path"),
         "--format",
         "json",
     ]);
-    let v: serde_json::Value = serde_json::from_slice(&json.stdout).expect("json");
+    let v: serde_json::Value = serde_json::from_str(&json).expect("json");
     assert_eq!(v["screening"]["screened_layouts"], 119);
     assert_eq!(v["screening"]["coupled_layouts"], 12);
 }

@@ -19,6 +19,17 @@ pub fn wirerank(args: &[&str]) -> Output {
         .expect("the wirerank binary runs")
 }
 
+/// Runs the built binary with `args`, expects success, and returns what it printed.
+pub fn stdout_ok(args: &[&str]) -> String {
+    let out = wirerank(args);
+    assert!(
+        out.status.success(),
+        "wirerank {args:?} failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout).expect("stdout is UTF-8")
+}
+
 /// A fixture plan with text edits, written to a temporary folder with its weather path made
 /// absolute. The folder lives as long as the returned guard.
 pub fn edited(name: &str, edits: &[(&str, &str)]) -> (tempfile::TempDir, PathBuf) {
