@@ -808,30 +808,45 @@ struct InputState {
 /// block only, so memory does not grow with the length of the weather file.
 const SHARED_BLOCK: usize = crate::sim::curves::BLOCK;
 
+/// What every block of the shared path reads, worked out once per run.
+#[derive(Clone, Copy)]
+struct SharedRun<'a> {
+    plan: &'a Plan,
+    cond: &'a Conditions,
+    /// Per controller: its class ([`controller_classes`]).
+    controller_class: &'a [usize],
+    /// Per controller: its model with the other tracking behaviour.
+    other_models: &'a [ControllerModel],
+    /// Look for inputs alike within an interval (not needed without shade when alike
+    /// inputs were merged before the run).
+    interval_cache: bool,
+}
+
 /// Runs some distinct controller inputs over one block's sunlit intervals `sunlit` (each
 /// with whether a night came before it; `blk` holds the curves of the block starting at
-/// interval `start`; `interval_cache`: look for inputs alike in an interval) at the
+/// interval `start`) at the
 /// plan's fixed charging voltage (a plan without a battery model): each input's array
 /// curve, where its controller operates, its cable loss, exactly as
 /// [`simulate_layout_with`] does for each input of a layout. Writes input `j`'s step of
 /// the block's `s`-th sunlit interval to `out[j * SHARED_BLOCK + s]`. The string curves of
 /// an interval are built once for all these inputs.
 fn run_inputs_block(
-    plan: &Plan,
-    cond: &Conditions,
-    (blk, start, interval_cache): (&[Option<IntervalCurves>], usize, bool),
+    run: &SharedRun,
+    (blk, start): (&[Option<IntervalCurves>], usize),
     sunlit: &[(usize, bool)],
     inputs: &[&crate::input::layout::InputWiring],
     states: &mut [InputState],
     out: &mut [InputStep],
 ) {
+    let SharedRun {
+        plan,
+        cond,
+        controller_class: class,
+        other_models: others,
+        interval_cache,
+    } = *run;
     let compare_trackers = compares_trackers(plan);
-    let others: Vec<ControllerModel> = inputs
-        .iter()
-        .map(|w| plan.controllers[w.controller].model.with_other_tracking())
-        .collect();
     let battery_v = plan.battery.charge_v;
-    let class = controller_classes(plan);
     let mut scratch = Scratch::default();
     // Inputs that are the same this interval (controllers alike, the same string curves,
     // the same wake states) give the same step: each is worked out once per interval.
@@ -870,7 +885,7 @@ fn run_inputs_block(
                     let (mut awake, mut other_awake) = (st.awake, st.other_awake);
                     let (p, alt) = operate_both(
                         &c.model,
-                        compare_trackers.then_some(&others[j]),
+                        compare_trackers.then_some(&others[w.controller]),
                         &scratch.array,
                         battery_v,
                         info.air_temp_c,
@@ -1094,6 +1109,18 @@ fn simulate_shared(
     // Without shade, inputs alike in every interval were merged above (when the curves are
     // held): no interval cache then, it would never find anything.
     let interval_cache = compares_trackers(plan) || curves.held().is_none();
+    let other_models: Vec<ControllerModel> = plan
+        .controllers
+        .iter()
+        .map(|c| c.model.with_other_tracking())
+        .collect();
+    let shared = SharedRun {
+        plan,
+        cond,
+        controller_class: &controller_class,
+        other_models: &other_models,
+        interval_cache,
+    };
     let n = cond.intervals.len();
     let mut energies: Vec<LayoutEnergy> = layouts
         .iter()
@@ -1136,17 +1163,7 @@ fn simulate_shared(
         let run = |((ws, sts), out): (
             (&[&crate::input::layout::InputWiring], &mut [InputState]),
             &mut [InputStep],
-        )| {
-            run_inputs_block(
-                plan,
-                cond,
-                (blk, start, interval_cache),
-                &sunlit,
-                ws,
-                sts,
-                out,
-            )
-        };
+        )| { run_inputs_block(&shared, (blk, start), &sunlit, ws, sts, out) };
         if opts.parallel {
             distinct
                 .par_chunks(per_task)
